@@ -1,0 +1,25 @@
+/** Exit codes, as documented in `--help` and the README. */
+export const EXIT = {
+  ok: 0,
+  /** `check`: the queries fall below the originality bar. */
+  belowBar: 1,
+  /** Bad command line or unusable input. */
+  usage: 2,
+} as const;
+
+/** An error the user can fix from the command line: printed without a stack, exit 2. */
+export class UsageError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'UsageError';
+  }
+}
+
+export function parseNumber(name: string, value: string, check: (n: number) => boolean = Number.isFinite, what = 'a number'): number {
+  const n = Number(value);
+  if (value.trim() === '' || !check(n)) throw new UsageError(`${name} must be ${what}, got "${value}"`);
+  return n;
+}
+
+export const positive = (name: string) => (v: string) => parseNumber(name, v, (n) => Number.isFinite(n) && n > 0, 'a positive number');
+export const wholeNumber = (name: string) => (v: string) => parseNumber(name, v, (n) => Number.isInteger(n) && n >= 0, 'a whole number');

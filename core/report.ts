@@ -1,0 +1,172 @@
+/**
+ * The originality report and the human baseline.
+ *
+ * A query is cut into windows; each window takes its best score against the
+ * corpus; originality = 1 − the mean window score. The human baseline is the
+ * same analysis of sampled corpus pieces against the rest of the corpus, the
+ * yardstick for how much the corpus's own composers borrow from each other.
+ *
+ * @example
+ *   const matcher = exactMatcher(view, 16);
+ *   originalityReport([{ file: 'take1.mid', notes }], view, matcher, { window: 16, hop: 8 })
+ *   // → { originality: 0.82, ci95: null, queries: [{ file: 'take1.mid', originality: 0.82, windows: [...] }], ... }
+ */
+import { type Note, type PitchMode, type Point, toGrains, toPoints } from './note.js';
+import { type CorpusPoints, pieceName } from './corpus.js';
+import type { WindowMatcher } from './match.js';
+import { type WindowShape, windows } from './windows.js';
+import { bootstrapMeanCi, mean, percentile, sampleIndices, seededRandom } from './stats.js';
+
+export const CAUTION =
+  "A similarity score is evidence for a musician's judgement, not a legal finding. " +
+  'It does not decide whether anything infringes a right; for that, seek qualified legal advice under the law where you live.';
+
+export interface MatchSummary {
+  /** Path of the piece, relative to the corpus folder. */
+  piece: string;
+  /** The piece's title, or its file name. */
+  title: string;
+  pieceStart: number;
+  transposition: number;
+  matched: number;
+  excerptNotes: number;
+}
+
+export interface WindowResult {
+  start: number;
+  end: number;
+  notes: number;
+  score: number;
+  match: MatchSummary | null;
+}
+
+export interface QueryInput {
+  file: string;
+  notes: Note[];
+}
+
+export interface QueryReport {
+  file: string;
+  notes: number;
+  /** Null for a query with no notes. */
+  originality: number | null;
+  windows: WindowResult[];
+}
+
+export interface ReportSettings extends WindowShape {
+  pitch: PitchMode;
+  seed: number;
+}
+
+export interface OriginalityReport {
+  originality: number | null;
+  ci95: [number, number] | null;
+  windows: number;
+  queries: QueryReport[];
+  settings: ReportSettings;
+  caution: string;
+}
+
+export interface Progress {
+  (done: number, total: number): void;
+}
+
+/** Scores every window of a point set. `exclude` leaves one corpus piece out. */
+export function scoreWindows(points: readonly Point[], corpus: CorpusPoints, matcher: WindowMatcher, shape: WindowShape, exclude?: number): WindowResult[] {
+  return windows(points, shape).map((w) => {
+    const m = matcher.best(w.points, toGrains(w.start), { exclude });
+    return {
+      start: w.start,
+      end: w.end,
+      notes: w.points.length,
+      score: m ? m.score : 0,
+      match: m && m.matched > 0 ? {
+        piece: corpus.pieces[m.piece].path,
+        title: pieceName(corpus.pieces[m.piece]),
+        pieceStart: m.pieceStart,
+        transposition: m.transposition,
+        matched: m.matched,
+        excerptNotes: m.excerptNotes,
+      } : null,
+    };
+  });
+}
+
+const originalityOf = (scores: readonly number[]): number | null => (scores.length ? 1 - mean(scores) : null);
+
+/** Interval of originality from the bootstrap interval of mean window scores. */
+function originalityCi(groups: number[][], seed: number): [number, number] | null {
+  const ci = bootstrapMeanCi(groups, seededRandom(seed));
+  return ci ? [1 - ci[1], 1 - ci[0]] : null;
+}
+
+export function originalityReport(
+  queries: readonly QueryInput[],
+  corpus: CorpusPoints,
+  matcher: WindowMatcher,
+  settings: Omit<ReportSettings, 'pitch'> & { seed?: number },
+  progress?: Progress,
+): OriginalityReport {
+  const seed = settings.seed ?? 1;
+  const shape = { window: settings.window, hop: settings.hop };
+  const reports = queries.map((q, i) => {
+    const windowsOf = scoreWindows(toPoints(q.notes, corpus.mode), corpus, matcher, shape);
+    progress?.(i + 1, queries.length);
+    return { file: q.file, notes: q.notes.length, originality: originalityOf(windowsOf.map((w) => w.score)), windows: windowsOf };
+  });
+  const groups = reports.map((r) => r.windows.map((w) => w.score));
+  return {
+    originality: originalityOf(groups.flat()),
+    ci95: originalityCi(groups, seed),
+    windows: groups.flat().length,
+    queries: reports,
+    settings: { ...shape, pitch: corpus.mode, seed },
+    caution: CAUTION,
+  };
+}
+
+export interface Percentiles {
+  p50: number;
+  p90: number;
+  p95: number;
+  p99: number;
+}
+
+export interface Baseline {
+  originality: number | null;
+  ci95: [number, number] | null;
+  /** Paths of the sampled pieces. */
+  samples: string[];
+  windows: number;
+  percentiles: Percentiles;
+  settings: ReportSettings;
+  caution: string;
+}
+
+export interface BaselineOptions extends WindowShape {
+  samples: number;
+  seed: number;
+}
+
+/** Each sampled piece's windows scored against the corpus with the piece itself left out. */
+export function humanBaseline(corpus: CorpusPoints, matcher: WindowMatcher, options: BaselineOptions, progress?: Progress): Baseline {
+  if (corpus.pieces.length < 2) throw new RangeError(`a baseline needs at least 2 corpus pieces, the corpus has ${corpus.pieces.length}`);
+  if (!(Number.isInteger(options.samples) && options.samples > 0)) throw new RangeError(`samples must be a positive whole number, got ${options.samples}`);
+  const shape = { window: options.window, hop: options.hop };
+  const picked = sampleIndices(corpus.pieces.length, options.samples, seededRandom(options.seed));
+  const groups = picked.map((piece, i) => {
+    const scores = scoreWindows(corpus.points[piece], corpus, matcher, shape, piece).map((w) => w.score);
+    progress?.(i + 1, picked.length);
+    return scores;
+  });
+  const all = groups.flat().sort((a, b) => a - b);
+  return {
+    originality: originalityOf(all),
+    ci95: originalityCi(groups, options.seed),
+    samples: picked.map((i) => corpus.pieces[i].path),
+    windows: all.length,
+    percentiles: { p50: percentile(all, 50), p90: percentile(all, 90), p95: percentile(all, 95), p99: percentile(all, 99) },
+    settings: { ...shape, pitch: corpus.mode, seed: options.seed },
+    caution: CAUTION,
+  };
+}
