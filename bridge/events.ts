@@ -1,0 +1,79 @@
+/**
+ * Events the daemon pushes on the WebSocket `/events` (JSON, one per
+ * message, each with a `type`). The overlay and any other client read these;
+ * this file is the contract. Beats are quarter notes; `transposition` is the
+ * pitch shift from the corpus excerpt to what was played.
+ */
+
+export interface HelloEvent {
+  type: 'hello';
+  version: string;
+  corpus: { source: string; pieces: number; notes: number };
+  preset: { name: string; window: number; threshold: number; minNotes: number; consecutive: number; warn: boolean };
+  midi: { available: boolean; detail: string };
+  osc: { port: number };
+  /** Recent score and warning events, so a page that reconnects can redraw its timeline. */
+  history: (ScoreEvent | WarningEvent | ClearEvent)[];
+}
+
+export interface NoteEvent {
+  type: 'note';
+  seq: number;
+  onset: number;
+  duration: number;
+  pitch: number;
+  velocity: number;
+  channel: number;
+}
+
+/** A corpus note of the matched excerpt, at its own onset in the piece. */
+export interface ExcerptNote {
+  onset: number;
+  duration: number;
+  pitch: number;
+  /** True when the translation lands it on a played note. */
+  matched: boolean;
+}
+
+export interface ScoreEvent {
+  type: 'score';
+  /** Sequence number of the last note this evaluation includes. */
+  seq: number;
+  /** Wall-clock time of the evaluation, ms since the epoch. */
+  time: number;
+  score: number;
+  /** Path of the best piece in the corpus, or null when nothing matched. */
+  piece: string | null;
+  /** Its title, or its file name. */
+  title: string | null;
+  pieceStart: number | null;
+  transposition: number | null;
+  /** Beats from the corpus excerpt to the played window: played onset = corpus onset + timeShift. */
+  timeShift: number | null;
+  matched: number;
+  windowNotes: number;
+  windowStart: number;
+  windowEnd: number;
+  excerpt: ExcerptNote[] | null;
+}
+
+export interface WarningEvent {
+  type: 'warning';
+  seq: number;
+  time: number;
+  piece: string;
+  title: string;
+  score: number;
+  transposition: number;
+  pieceStart: number;
+  startBeat: number;
+}
+
+export interface ClearEvent {
+  type: 'clear';
+  seq: number;
+  time: number;
+  piece: string;
+}
+
+export type DaemonEvent = HelloEvent | NoteEvent | ScoreEvent | WarningEvent | ClearEvent;
