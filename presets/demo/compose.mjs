@@ -27,8 +27,10 @@ import { mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import pkg from '@tonejs/midi';
+import midiFile from 'midi-file';
 
 const { Midi } = pkg;
+const { parseMidi, writeMidi } = midiFile;
 
 const HERE = dirname(fileURLToPath(import.meta.url));
 const PPQ = 480;
@@ -367,7 +369,32 @@ function toMidi({ title, key, bpm, timeSignature, notes }) {
       track.addNote({ midi: n.pitch, ticks: n.ticks, durationTicks: n.durationTicks, velocity: (n.velocity + 0.5) / 127 });
     }
   }
-  return Buffer.from(midi.toArray());
+  return fixKeySignature(midi.toArray(), SIGNATURE_NAMES.indexOf(keySignatureOf(key).key) - 7);
+}
+
+/**
+ * @tonejs/midi 2.0.28 encodes a key signature's sharps/flats byte as
+ * (index in its name list + 7) instead of (index − 7), so D major comes out
+ * as sf = 16, which no reader understands (it reads back as key undefined).
+ * Rewrite that byte with the right value through midi-file, the library
+ * @tonejs/midi itself writes with; everything else is left byte-identical.
+ */
+function fixKeySignature(bytes, fifths) {
+  const data = parseMidi(bytes);
+  let fixed = 0;
+  for (const track of data.tracks) {
+    for (const event of track) {
+      if (event.type === 'keySignature') {
+        event.key = fifths;
+        fixed += 1;
+      }
+    }
+  }
+  if (fixed !== 1) throw new Error(`expected one key signature event, found ${fixed}`);
+  const out = Buffer.from(writeMidi(data));
+  const check = new Midi(out).header.keySignatures;
+  if (check.length !== 1 || check[0].key !== SIGNATURE_NAMES[fifths + 7]) throw new Error('key signature did not survive the round trip');
+  return out;
 }
 
 /** The JSON form of a note: beats, MIDI pitch, velocity 0–127, channel 1–16. */
