@@ -62,7 +62,8 @@ export function loadQueries(paths: readonly string[], options: MidiReadOptions =
   const skipped: Skipped[] = [];
   for (const p of paths) {
     const isDir = statSafe(p)?.isDirectory() ?? false;
-    if (!statSafe(p)) throw new Error(`${p}: no such file or folder`);
+    // A MidiFileError, like any unreadable input: the message names the path, with no stack trace.
+    if (!statSafe(p)) throw new MidiFileError(p, 'no such file or folder');
     for (const file of isDir ? findMidiFiles(p) : [p]) {
       try {
         queries.push({ file: portable(file), notes: readMidi(file, options).notes, folder: isDir ? portable(p) : null });

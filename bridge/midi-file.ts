@@ -57,6 +57,25 @@ function keyOf(header: InstanceType<typeof Midi>['header'], notes: Note[]): { ke
   return { key: estimateKey(notes), fromFile: false };
 }
 
+/**
+ * SMF 1.0 chunks are an id, a 32-bit length and that many bytes. The parser
+ * underneath reads a chunk cut short by the end of the file, or a file with
+ * fewer tracks than its header announces, as if it were whole, so a
+ * truncated file would silently lose its tail: walk the chunks first.
+ */
+function checkChunks(bytes: Uint8Array, file: string): void {
+  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  const tracks = view.getUint16(10);
+  let at = 8 + view.getUint32(4);
+  for (let found = 0; found < tracks; found++) {
+    if (at + 8 > bytes.length) throw new MidiFileError(file, `damaged MIDI data (the header announces ${tracks} track${tracks === 1 ? '' : 's'}, the file ends after ${found})`);
+    const length = view.getUint32(at + 4);
+    const left = bytes.length - at - 8;
+    if (length > left) throw new MidiFileError(file, `damaged MIDI data (track ${found + 1} of ${tracks} is cut short: it declares ${length} bytes, ${left} follow)`);
+    at += 8 + length;
+  }
+}
+
 /** Parses SMF bytes. Throws MidiFileError naming `file` on anything unreadable. */
 export function parseMidi(bytes: Uint8Array, file: string, options: MidiReadOptions = {}): MidiPiece {
   if (bytes.length === 0) throw new MidiFileError(file, 'the file is empty');
@@ -66,11 +85,13 @@ export function parseMidi(bytes: Uint8Array, file: string, options: MidiReadOpti
   const division = (bytes[12] << 8) | bytes[13];
   if (division & 0x8000) throw new MidiFileError(file, 'SMPTE time division is not supported (only ticks per quarter note)');
   if (division === 0) throw new MidiFileError(file, 'the header gives 0 ticks per quarter note');
+  checkChunks(bytes, file);
   let midi: InstanceType<typeof Midi>;
   try {
     midi = new Midi(bytes);
   } catch (e) {
-    throw new MidiFileError(file, `damaged MIDI data (${(e as Error).message})`);
+    // The parser underneath throws plain strings as well as Errors.
+    throw new MidiFileError(file, `damaged MIDI data (${e instanceof Error ? e.message : String(e)})`);
   }
   const ppq = midi.header.ppq;
   const raw: Note[] = [];

@@ -22,7 +22,8 @@ export const DEFAULT_BPM = 120;
 
 export function tempoMap(changes: readonly TempoChange[]): TempoMap {
   const sorted = [...changes].filter((c) => c.bpm > 0 && Number.isFinite(c.bpm)).sort((a, b) => a.beat - b.beat);
-  if (sorted.length === 0 || sorted[0].beat > 0) sorted.unshift({ beat: 0, bpm: sorted[0]?.bpm ?? DEFAULT_BPM });
+  // SMF 1.0: until the first Set Tempo event the tempo is the default, not the first event's.
+  if (sorted.length === 0 || sorted[0].beat > 0) sorted.unshift({ beat: 0, bpm: DEFAULT_BPM });
   const starts: number[] = [0];
   for (let i = 1; i < sorted.length; i++) starts.push(starts[i - 1] + ((sorted[i].beat - sorted[i - 1].beat) * 60) / sorted[i - 1].bpm);
   const segmentByBeat = (beat: number): number => {

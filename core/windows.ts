@@ -27,6 +27,10 @@ export const DEFAULT_WINDOW: WindowShape = { window: 16, hop: 8 };
 export function checkShape({ window, hop }: WindowShape): void {
   if (!(Number.isFinite(window) && window > 0)) throw new RangeError(`window must be a positive number of beats, got ${window}`);
   if (!(Number.isFinite(hop) && hop > 0)) throw new RangeError(`hop must be a positive number of beats, got ${hop}`);
+  // Windows step on the grain grid: a hop that rounds to 0 grains would never advance.
+  for (const [name, beats] of [['window', window], ['hop', hop]] as const) {
+    if (toGrains(beats) < 1) throw new RangeError(`${name} must be at least 1/${GRAINS_PER_BEAT} beat, got ${beats}`);
+  }
 }
 
 export function windows(points: readonly Point[], shape: WindowShape = DEFAULT_WINDOW): Window[] {
