@@ -9,7 +9,8 @@ export interface HelloEvent {
   type: 'hello';
   version: string;
   corpus: { source: string; pieces: number; notes: number };
-  preset: { name: string; window: number; threshold: number; minNotes: number; consecutive: number; warn: boolean };
+  /** `pitch`: the dimension matched in; transpositions count semitones (chromatic, when absent) or diatonic steps (morphetic). */
+  preset: { name: string; window: number; threshold: number; minNotes: number; consecutive: number; warn: boolean; pitch?: 'chromatic' | 'morphetic'; tolerance?: number; minDistinctiveness?: number };
   midi: { available: boolean; detail: string };
   osc: { port: number };
   /** Recent score and warning events, so a page that reconnects can redraw its timeline. */
@@ -55,6 +56,8 @@ export interface ScoreEvent {
   windowStart: number;
   windowEnd: number;
   excerpt: ExcerptNote[] | null;
+  /** 1 when the matched material is found in one corpus place only, near 0 for a stock figure (core/distinctiveness.ts); null when nothing matched. */
+  distinctiveness?: number | null;
 }
 
 export interface WarningEvent {
@@ -67,6 +70,8 @@ export interface WarningEvent {
   transposition: number;
   pieceStart: number;
   startBeat: number;
+  /** Of the match warned about, as in ScoreEvent. */
+  distinctiveness?: number;
 }
 
 export interface ClearEvent {

@@ -2,9 +2,14 @@
 import { Option } from 'commander';
 import { PITCH_MODES } from '../core/note.js';
 import { DEFAULT_WINDOW } from '../core/windows.js';
-import { positive } from './usage.js';
+import { parseNumber, positive } from './usage.js';
 
 export const pitchOption = () => new Option('--pitch <mode>', 'pitch dimension to match in').choices(PITCH_MODES as string[]).default('chromatic');
 export const windowOption = () => new Option('--window <beats>', 'window length in beats').argParser(positive('--window')).default(DEFAULT_WINDOW.window);
 export const hopOption = () => new Option('--hop <beats>', 'hop between window starts in beats').argParser(positive('--hop')).default(DEFAULT_WINDOW.hop);
+export const toleranceOption = () =>
+  new Option('--tolerance <beats>', "beats an ontime may stray from the corpus's and still match (0 = exact)")
+    .argParser((v: string) => parseNumber('--tolerance', v, (n) => n >= 0 && n < 1, 'a number of beats from 0 up to (not including) 1'))
+    .default(0);
+export const tempoFreeOption = () => new Option('--tempo-free', 'also find passages played at 0.5–2 times the corpus tempo (each match reports timeScale)');
 export const printJson = (value: unknown): void => void process.stdout.write(JSON.stringify(value, null, 2) + '\n');

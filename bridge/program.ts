@@ -1,6 +1,9 @@
 /** The earwitness command line: every command, with the exit codes they share. */
 import { Command, CommanderError } from 'commander';
 import { registerReport } from './commands/report.js';
+import { registerCorpus } from './commands/corpus.js';
+import { registerListen } from './commands/listen.js';
+import { registerReview } from './commands/review.js';
 import { registerScore } from './commands/score.js';
 import { EXIT, UsageError } from './usage.js';
 
@@ -16,6 +19,9 @@ Exit codes:
 A similarity score is evidence for a musician's judgement, not a legal finding.`);
   registerScore(cli);
   registerReport(cli);
+  registerCorpus(cli);
+  registerListen(cli);
+  registerReview(cli);
   return cli;
 }
 

@@ -29,6 +29,10 @@ export interface WindowMatch {
   /** Points in the corpus excerpt. */
   excerptNotes: number;
   score: number;
+  /** Played duration / corpus duration of the passage (1.5 = slower), from tempo-free matching. */
+  timeScale?: number;
+  /** In [0, 1]: 1 when the matched material is found in one corpus place only (core/distinctiveness.ts). */
+  distinctiveness?: number;
 }
 
 export interface MatchOptions {
@@ -97,6 +101,19 @@ export function bestOfCounts(
   return best;
 }
 
+/** Folds every piece a search may look in (not left out, not empty) into the best match so far. */
+export function bestOverPieces(
+  corpus: CorpusPoints,
+  options: MatchOptions,
+  step: (piece: number, points: readonly Point[], best: WindowMatch | null) => WindowMatch | null,
+): WindowMatch | null {
+  let best: WindowMatch | null = null;
+  corpus.points.forEach((points, piece) => {
+    if (piece !== options.exclude && points.length > 0) best = step(piece, points, best);
+  });
+  return best;
+}
+
 /** Brute force over every pair of query and corpus points: the reference every faster path must equal. */
 export function exactMatcher(corpus: CorpusPoints, windowBeats: number): WindowMatcher {
   const windowGrains = toGrains(windowBeats);
@@ -104,13 +121,7 @@ export function exactMatcher(corpus: CorpusPoints, windowBeats: number): WindowM
     windowBeats,
     best(window, startGrains, options = {}) {
       if (window.length === 0) return null;
-      let best: WindowMatch | null = null;
-      corpus.points.forEach((points, piece) => {
-        if (piece === options.exclude || points.length === 0) return;
-        const counts = translationCounts(points, window);
-        best = bestOfCounts(piece, points, counts, window, startGrains, windowGrains, best);
-      });
-      return best;
+      return bestOverPieces(corpus, options, (piece, points, best) => bestOfCounts(piece, points, translationCounts(points, window), window, startGrains, windowGrains, best));
     },
   };
 }

@@ -30,6 +30,10 @@ export interface MatchSummary {
   transposition: number;
   matched: number;
   excerptNotes: number;
+  /** Played / corpus duration, when matched tempo-free (1.5 = slower). */
+  timeScale?: number;
+  /** 1 = the matched material is found in one corpus place only (core/distinctiveness.ts). */
+  distinctiveness?: number;
 }
 
 export interface WindowResult {
@@ -87,15 +91,18 @@ export function scoreWindows(points: readonly Point[], corpus: CorpusPoints, mat
         transposition: m.transposition,
         matched: m.matched,
         excerptNotes: m.excerptNotes,
+        ...(m.timeScale === undefined ? {} : { timeScale: m.timeScale }),
+        ...(m.distinctiveness === undefined ? {} : { distinctiveness: m.distinctiveness }),
       } : null,
     };
   });
 }
 
-const originalityOf = (scores: readonly number[]): number | null => (scores.length ? 1 - mean(scores) : null);
+/** 1 − the mean window score; null when there are no windows. */
+export const originalityOf = (scores: readonly number[]): number | null => (scores.length ? 1 - mean(scores) : null);
 
 /** Interval of originality from the bootstrap interval of mean window scores. */
-function originalityCi(groups: number[][], seed: number): [number, number] | null {
+export function originalityCi(groups: number[][], seed: number): [number, number] | null {
   const ci = bootstrapMeanCi(groups, seededRandom(seed));
   return ci ? [1 - ci[1], 1 - ci[0]] : null;
 }

@@ -1,12 +1,13 @@
 import { writeFileSync } from 'node:fs';
 import type { Command } from 'commander';
 import type { PitchMode } from '../../core/note.js';
-import { corpusPoints } from '../../core/corpus.js';
-import { exactMatcher } from '../../core/match.js';
+import { type MatchMode, modeMatcher } from '../../core/match-mode.js';
 import { humanBaseline, originalityReport } from '../../core/report.js';
 import { loadQueries } from '../corpus-files.js';
 import { openCorpus } from '../open-corpus.js';
-import { hopOption, pitchOption, printJson, windowOption } from '../options.js';
+import { type BaselineFile, checkBaselineFits, readBaselineFile } from '../baseline-file.js';
+import { writeReportHtml } from '../html/report-page.js';
+import { hopOption, pitchOption, printJson, tempoFreeOption, toleranceOption, windowOption } from '../options.js';
 import { progressBar } from '../progress.js';
 import { baselineText, reportCsv, reportText } from '../report-text.js';
 import { UsageError, wholeNumber } from '../usage.js';
@@ -19,16 +20,24 @@ interface CorpusFlags {
   seed: number;
   percussion?: boolean;
   json?: boolean;
+  tolerance: number;
+  tempoFree?: boolean;
+  exact?: boolean;
 }
+
+const modeOf = (o: CorpusFlags): MatchMode => ({ tolerance: o.tolerance, tempoFree: o.tempoFree ?? false });
 
 const corpusCommand = (cli: Command, name: string, description: string): Command =>
   cli
     .command(name)
     .description(description)
-    .requiredOption('--corpus <path>', 'corpus folder')
+    .requiredOption('--corpus <path>', 'corpus folder, or an index file from "earwitness corpus build"')
+    .option('--exact', 'match by brute force even where the corpus has an index (slow: the reference the index is checked against)')
     .addOption(windowOption())
     .addOption(hopOption())
     .addOption(pitchOption())
+    .addOption(toleranceOption())
+    .addOption(tempoFreeOption())
     .option('--percussion', 'keep channel 10 (percussion)')
     .option('--json', 'print JSON');
 
@@ -37,17 +46,21 @@ export function registerReport(cli: Command): void {
     .argument('<query...>', 'MIDI files or folders')
     .option('--seed <n>', 'seed of the bootstrap interval', wholeNumber('--seed'), 1)
     .option('--csv <file>', 'also write one row per window to this CSV file')
-    .action((paths: string[], o: CorpusFlags & { csv?: string }) => {
-      const { corpus } = openCorpus(o.corpus, o);
+    .option('--html <file>', 'also write a self-contained HTML report (several query folders show as a series)')
+    .option('--baseline <file>', 'human baseline JSON (from "earwitness baseline --json") to show beside it in the HTML', readBaselineFile)
+    .action((paths: string[], o: CorpusFlags & { csv?: string; html?: string; baseline?: BaselineFile }) => {
+      if (o.baseline) checkBaselineFits(o.baseline, { ...o, mode: modeOf(o) });
+      const opened = openCorpus(o.corpus, o);
       const { queries, skipped } = loadQueries(paths, o);
       for (const s of skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
       if (queries.length === 0) throw new UsageError(`no readable query file among ${paths.join(', ')}`);
-      const view = corpusPoints(corpus, o.pitch);
+      const view = opened.view(o.pitch);
       const bar = progressBar('scoring');
-      const report = originalityReport(queries, view, exactMatcher(view, o.window), o, bar.tick);
+      const report = originalityReport(queries, view, modeMatcher(view, o.window, modeOf(o), opened.matcher(view, o.window, o.exact)), o, bar.tick);
       bar.stop();
       if (o.csv) writeFileSync(o.csv, reportCsv(report));
-      if (o.json) printJson({ ...report, skipped });
+      if (o.html) writeReportHtml(o.html, { report, queries, corpus: view, source: o.corpus, mode: modeOf(o), baseline: o.baseline ?? null });
+      if (o.json) printJson({ ...report, mode: modeOf(o), skipped });
       else process.stdout.write(reportText(report) + '\n');
     });
 
@@ -56,12 +69,12 @@ export function registerReport(cli: Command): void {
     .option('--seed <n>', 'seed of the sample and the bootstrap', wholeNumber('--seed'), 1)
     .action((o: CorpusFlags & { samples: number }) => {
       if (o.samples < 1) throw new UsageError('--samples must be at least 1');
-      const { corpus } = openCorpus(o.corpus, o);
-      const view = corpusPoints(corpus, o.pitch);
+      const opened = openCorpus(o.corpus, o);
+      const view = opened.view(o.pitch);
       const bar = progressBar('baseline');
-      const b = humanBaseline(view, exactMatcher(view, o.window), o, bar.tick);
+      const b = humanBaseline(view, modeMatcher(view, o.window, modeOf(o), opened.matcher(view, o.window, o.exact)), o, bar.tick);
       bar.stop();
-      if (o.json) printJson(b);
+      if (o.json) printJson({ ...b, mode: modeOf(o) });
       else process.stdout.write(baselineText(b) + '\n');
     });
 }

@@ -1,0 +1,341 @@
+/**
+ * The live daemon, wired: input adapters → note stream → scorer (worker
+ * thread) → verdicts → sinks (WebSocket events, session log, OSC out).
+ *
+ * Each note gets the session's next sequence number (from 1) and goes to
+ * the scorer at once — at its note-on, since matching looks at onsets only.
+ * It is logged, and sent as a `note` event, once it is whole: at once for
+ * `/ew/note`, at the note-off for on/off pairs (a held note is closed by a
+ * retrigger, a reset or the end of the session). Every write to the log is
+ * its own transaction, made as it happens, so a killed daemon loses only
+ * notes still held.
+ *
+ * @example
+ *   const d = await startDaemon({ corpus: 'presets/demo/corpus', preset: loadPreset('jam'), oscPort: 0, httpPort: 0, ... });
+ *   d.status.http.url   // → 'http://127.0.0.1:40123/'
+ *   d.handle({ kind: 'note', pitch: 60, velocity: 90, duration: 1, beat: 0, channel: 1 }, Date.now());
+ *   await d.stop();
+ */
+import { join } from 'node:path';
+import { type Clock, beatAt, internalClock, midiContinue, midiStart, midiStop, midiTick, setBeat, setTempo, songPosition } from '../../core/clock.js';
+import { type PolicyAction, type PolicyState, initialPolicy, resetPolicy, stepPolicy } from '../../core/warning-policy.js';
+import type { ClearEvent, DaemonEvent, HelloEvent, NoteEvent, ScoreEvent, WarningEvent } from '../events.js';
+import type { LivePreset } from '../presets.js';
+import { SessionLog, SessionLogError } from '../session-log.js';
+import { UsageError } from '../usage.js';
+import { badInputLog } from './bad-input.js';
+import type { BadInput, InputCommand } from './input.js';
+import type { LiveNote, LiveVerdict } from './live-scorer.js';
+import { type MidiSource, attachMidi } from './midi-adapter.js';
+import { type MidiStatus, openMidi } from './midi-input.js';
+import { type OscInput, openOscInput } from './osc-input.js';
+import { type OscOutput, type OscTarget, openOscOutput } from './osc-output.js';
+import { packageRoot, packageVersion } from './package-root.js';
+import { type CorpusSummary, type Scorer, startScorer } from './scorer.js';
+import { type WebServer, startWebServer } from './web-server.js';
+
+export interface DaemonOptions {
+  corpus: string;
+  /** Its threshold resolved (presets.ts resolveThreshold). */
+  preset: LivePreset;
+  oscPort: number;
+  httpPort: number;
+  oscOut: OscTarget | null;
+  midi: { input: string | null; thru: string | null; channels: ReadonlySet<number> | null };
+  log: string;
+  /** An in-process port in place of easymidi's (tests). */
+  midiSource?: MidiSource;
+  /** The scoring worker's code; defaults to the built one beside scorer.js. */
+  workerUrl?: URL;
+  /** The overlay's files; defaults to ui/dist in the package. */
+  uiDir?: string;
+  /** Where one-line notices go (bad input, a crashed worker). */
+  notice?: (line: string) => void;
+}
+
+export interface DaemonStatus {
+  corpus: CorpusSummary;
+  /** Null when OSC is not listening (preset input "midi", with MIDI open). */
+  osc: { port: number } | null;
+  http: { port: number; url: string };
+  midi: MidiStatus;
+  log: { file: string; session: number };
+}
+
+export interface Daemon {
+  status: DaemonStatus;
+  handle(command: InputCommand, atMs: number): void;
+  health(): Record<string, unknown>;
+  /** Called with every event pushed on /events, in order. */
+  onEvent(listener: (e: DaemonEvent) => void): void;
+  stop(): Promise<void>;
+}
+
+/** Score, warning and clear events a (re)connecting page gets in its hello. */
+export const HISTORY_EVENTS = 240;
+
+export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
+  const preset = options.preset;
+  const notice = options.notice ?? ((line: string) => process.stderr.write(`${line}\n`));
+  const startedAt = Date.now();
+  const cleanup: (() => unknown)[] = [];
+  const undo = async (): Promise<void> => {
+    for (const c of cleanup.reverse()) await c();
+  };
+
+  let log: SessionLog;
+  try {
+    log = SessionLog.open(options.log);
+  } catch (e) {
+    throw e instanceof SessionLogError ? new UsageError(`--log ${e.message}`) : e;
+  }
+  cleanup.push(() => log.close());
+
+  const listeners: ((e: DaemonEvent) => void)[] = [];
+  const history: (ScoreEvent | WarningEvent | ClearEvent)[] = [];
+  const bad = badInputLog(notice);
+  let logFailures = 0;
+  const logged = (write: () => void): void => {
+    try {
+      write();
+    } catch (e) {
+      // A full disk must not stop the performance: say so once, count the rest.
+      if (logFailures++ === 0) notice(`earwitness: cannot write the session log ${options.log} (${(e as Error).message}); carrying on, failures are counted in /health`);
+    }
+  };
+
+  let clock: Clock = internalClock(preset.bpm, Date.now());
+  let seq = 0;
+  let session = 0;
+  /** Notes sounding now (on/off input), by channel and pitch. */
+  const held = new Map<string, { note: LiveNote; receivedAt: number }>();
+  let policy: PolicyState = initialPolicy();
+  let standing: { id: number; event: WarningEvent } | null = null;
+  let warnings = 0;
+  let web: WebServer | null = null;
+  let oscOut: OscOutput | null = null;
+
+  const push = (e: DaemonEvent): void => {
+    if (e.type === 'score' || e.type === 'warning' || e.type === 'clear') {
+      history.push(e);
+      if (history.length > HISTORY_EVENTS) history.shift();
+    }
+    web?.broadcast(e);
+    for (const l of listeners) l(e);
+  };
+
+  const act = (actions: PolicyAction[], v: LiveVerdict | null, time: number): void => {
+    for (const a of actions) {
+      if (a.type === 'clear' && standing) {
+        const id = standing.id;
+        logged(() => log.clearWarning(id, time));
+        push({ type: 'clear', seq: v?.seq ?? seq, time, piece: standing.event.piece });
+        standing = null;
+      } else if (a.type === 'raise' && v?.match) {
+        const m = v.match;
+        const event: WarningEvent = { type: 'warning', seq: v.seq, time, piece: m.piece, title: m.title, score: v.score, transposition: m.transposition, pieceStart: m.pieceStart, startBeat: v.windowStart, distinctiveness: m.distinctiveness };
+        let id = -1;
+        logged(() => {
+          id = log.addWarning(session, { seq: v.seq, raisedAt: time, piece: m.piece, title: m.title, score: v.score, transposition: m.transposition, pieceStart: m.pieceStart, startBeat: v.windowStart });
+        });
+        standing = { id, event };
+        warnings++;
+        push(event);
+        oscOut?.warning(m.piece, v.score, m.transposition);
+      }
+    }
+  };
+
+  const onVerdict = (v: LiveVerdict, current: boolean): void => {
+    const time = Date.now();
+    const m = v.match;
+    push({
+      type: 'score', seq: v.seq, time, score: v.score,
+      piece: m?.piece ?? null, title: m?.title ?? null, pieceStart: m?.pieceStart ?? null, transposition: m?.transposition ?? null,
+      timeShift: v.timeShift, matched: m?.matched ?? 0, windowNotes: v.windowNotes, windowStart: v.windowStart, windowEnd: v.windowEnd, excerpt: v.excerpt, distinctiveness: m?.distinctiveness ?? null,
+    });
+    oscOut?.score(v.score);
+    if (!current) return;
+    const step = stepPolicy(policy, { score: v.score, windowNotes: v.windowNotes, passage: m ? { piece: m.pieceIndex, pieceStart: m.pieceStart, beats: preset.window } : null, distinctiveness: m?.distinctiveness }, preset);
+    policy = step.state;
+    act(step.actions, v, time);
+  };
+
+  let scorer: Scorer;
+  let corpus: CorpusSummary;
+  try {
+    ({ scorer, corpus } = await startScorer({ corpus: options.corpus, windowBeats: preset.window, grid: preset.grid, tolerance: preset.tolerance }, onVerdict, {
+      workerUrl: options.workerUrl,
+      onCrash: (message) => notice(`earwitness: the scoring worker failed (${message}); started a fresh one, the window starts empty`),
+    }));
+  } catch (e) {
+    await undo();
+    throw e;
+  }
+  cleanup.push(() => scorer.close());
+
+  /** A note is whole: log it and show it. */
+  const finish = (note: LiveNote, receivedAt: number): void => {
+    logged(() => log.addNote(session, { ...note, morph: note.pitch, receivedAt }));
+    const event: NoteEvent = { type: 'note', ...note };
+    push(event);
+  };
+  const begin = (pitch: number, velocity: number, duration: number, onset: number, channel: number): LiveNote => {
+    const note = { seq: ++seq, onset, duration, pitch, velocity, channel };
+    scorer.submit(note);
+    return note;
+  };
+  const release = (key: string, atMs: number): void => {
+    const h = held.get(key);
+    if (!h) return;
+    held.delete(key);
+    finish({ ...h.note, duration: Math.max(0, beatAt(clock, atMs) - h.note.onset) }, h.receivedAt);
+  };
+  const releaseAll = (atMs: number): void => {
+    for (const key of [...held.keys()]) release(key, atMs);
+  };
+  const newPassage = (atMs: number): void => {
+    releaseAll(atMs);
+    scorer.reset();
+    const step = resetPolicy(policy);
+    policy = step.state;
+    act(step.actions, null, Date.now());
+  };
+
+  const handle = (c: InputCommand, atMs: number): void => {
+    switch (c.kind) {
+      case 'note':
+        return finish(begin(c.pitch, c.velocity, c.duration, c.beat ?? beatAt(clock, atMs), c.channel), atMs);
+      case 'on': {
+        const key = `${c.channel}:${c.pitch}`;
+        release(key, atMs);
+        held.set(key, { note: begin(c.pitch, c.velocity, 0, beatAt(clock, atMs), c.channel), receivedAt: atMs });
+        return;
+      }
+      case 'off':
+        return release(`${c.channel}:${c.pitch}`, atMs);
+      case 'tempo':
+        clock = setTempo(clock, c.bpm, atMs);
+        return;
+      case 'beat':
+        clock = setBeat(clock, c.beat, atMs);
+        return;
+      case 'reset':
+        return newPassage(atMs);
+      case 'clock':
+        clock = midiTick(clock, atMs);
+        return;
+      case 'start':
+        // MIDI Start plays the song from its beginning: a new take, so a new passage.
+        newPassage(atMs);
+        clock = midiStart(clock, atMs);
+        return;
+      case 'continue':
+        clock = midiContinue(clock, atMs);
+        return;
+      case 'stop':
+        clock = midiStop(clock, atMs);
+        return;
+      case 'position':
+        clock = songPosition(clock, c.value, atMs);
+        return;
+    }
+  };
+
+  let midi: MidiStatus = { available: false, detail: 'not opened: the preset listens to OSC only' };
+  let osc: OscInput | null = null;
+  try {
+    if (preset.input !== 'osc') {
+      const opened = options.midiSource
+        ? { source: options.midiSource, status: { available: true, detail: 'in-process port' }, close: () => {} }
+        : await openMidi({ input: options.midi.input, thru: options.midi.thru });
+      midi = opened.status;
+      cleanup.push(() => opened.close());
+      if (opened.source) {
+        const detach = attachMidi(opened.source, { channels: options.midi.channels }, handle);
+        cleanup.push(detach);
+      }
+    }
+    if (preset.input !== 'midi' || !midi.available) {
+      osc = await openOscInput({ port: options.oscPort, onCommand: handle, onBad: (b: BadInput) => bad.record('OSC', b) });
+      const opened = osc;
+      cleanup.push(() => opened.close());
+    }
+    if (options.oscOut) {
+      oscOut = await openOscOutput(options.oscOut);
+      const opened = oscOut;
+      cleanup.push(() => opened.close());
+    }
+  } catch (e) {
+    await undo();
+    throw e;
+  }
+
+  const hello = (): HelloEvent => {
+    const recent = [...history];
+    if (standing && !recent.includes(standing.event)) recent.unshift(standing.event);
+    return {
+      type: 'hello',
+      version: packageVersion(),
+      corpus,
+      preset: { name: preset.name, window: preset.window, threshold: preset.threshold, minNotes: preset.minNotes, consecutive: preset.consecutive, warn: preset.warn, pitch: 'chromatic', tolerance: preset.tolerance, minDistinctiveness: preset.minDistinctiveness },
+      midi,
+      osc: { port: osc?.port ?? 0 },
+      history: recent,
+    };
+  };
+
+  const health = (): Record<string, unknown> => ({
+    ok: true,
+    uptimeSeconds: Math.round((Date.now() - startedAt) / 100) / 10,
+    session,
+    notes: seq,
+    held: held.size,
+    evaluations: scorer.counters.evaluations,
+    coalesced: scorer.counters.coalesced,
+    dropped: scorer.counters.dropped,
+    windowRestarts: scorer.counters.restarts,
+    lastEvaluationMs: scorer.counters.lastEvaluationMs,
+    warnings,
+    standing: standing?.event.piece ?? null,
+    badInput: { ...bad.counts },
+    logFailures,
+    scheduled: osc?.scheduled() ?? 0,
+    clients: web?.clients() ?? 0,
+    slowClients: web?.slowClients() ?? 0,
+    oscOutFailures: oscOut?.failures() ?? 0,
+    clock: { source: clock.source, running: clock.running, beat: beatAt(clock, Date.now()), bpm: clock.bpm },
+    corpus,
+    preset: preset.name,
+    midi,
+    osc: { port: osc?.port ?? 0 },
+  });
+
+  try {
+    web = await startWebServer({ port: options.httpPort, uiDir: options.uiDir ?? join(packageRoot(), 'ui', 'dist'), hello, health });
+  } catch (e) {
+    await undo();
+    throw e;
+  }
+  const server = web;
+  cleanup.push(() => server.close());
+
+  session = log.startSession({ corpus: corpus.source, preset: preset.name, settings: { ...preset, osc: osc?.port ?? null, http: server.port, midi: midi.detail } });
+
+  let stopping: Promise<void> | null = null;
+  return {
+    status: { corpus, osc: osc ? { port: osc.port } : null, http: { port: server.port, url: server.url }, midi, log: { file: options.log, session } },
+    handle,
+    health,
+    onEvent: (l) => void listeners.push(l),
+    stop() {
+      // The log first, and synchronously: whatever happens to the sockets after, the session is whole on disk.
+      stopping ??= (async () => {
+        releaseAll(Date.now());
+        logged(() => log.endSession(session));
+        await undo();
+      })();
+      return stopping;
+    },
+  };
+}

@@ -1,0 +1,141 @@
+/**
+ * The main thread's side of the scoring worker, and the coalescing rule:
+ * at most one evaluation is in the worker and at most one waits. Notes that
+ * arrive while the worker is busy join the waiting batch, which goes as one
+ * evaluation when the worker answers; every note but the last of a batch
+ * counts as `coalesced`. So input never waits for scoring, and scoring never
+ * falls behind by more than one batch, however fast notes come.
+ *
+ * @example
+ *   const { scorer, corpus } = await startScorer({ corpus: 'presets/demo/corpus', windowBeats: 16, grid: 12 }, (v) => show(v));
+ *   scorer.submit({ seq: 1, onset: 0, duration: 1, pitch: 60, velocity: 90, channel: 1 });
+ *   scorer.counters   // → { evaluations: 1, coalesced: 0, ... }
+ */
+import { Worker } from 'node:worker_threads';
+import type { LiveNote, LiveVerdict } from './live-scorer.js';
+import { UsageError } from '../usage.js';
+
+export interface WorkerSetup {
+  corpus: string;
+  windowBeats: number;
+  grid: number;
+  /** Beats of played timing a match allows (0 = exact). */
+  tolerance: number;
+}
+
+export interface CorpusSummary {
+  source: string;
+  pieces: number;
+  notes: number;
+}
+
+export type ToWorker = { type: 'evaluate'; reset: boolean; notes: LiveNote[] } | { type: 'reset'; reset: true };
+export type FromWorker =
+  | { type: 'ready'; corpus: CorpusSummary }
+  | { type: 'failed'; message: string }
+  | { type: 'verdict'; verdict: LiveVerdict; elapsedMs: number };
+
+export interface ScorerCounters {
+  evaluations: number;
+  coalesced: number;
+  /** Notes the window let go early because it was full. */
+  dropped: number;
+  /** Times the window started over because a note came a window or more behind the newest. */
+  restarts: number;
+  /** Worker time of the last evaluation, ms. */
+  lastEvaluationMs: number | null;
+  busy: boolean;
+}
+
+export interface Scorer {
+  submit(note: LiveNote): void;
+  reset(): void;
+  readonly counters: ScorerCounters;
+  close(): Promise<void>;
+}
+
+/** Where the worker's code is: beside this module once built (dist/bridge/daemon/). */
+export const WORKER_URL = new URL('./scoring-worker.js', import.meta.url);
+
+export async function startScorer(
+  setup: WorkerSetup,
+  /** `current` is false for a verdict on notes from before the latest reset. */
+  onVerdict: (v: LiveVerdict, current: boolean) => void,
+  options: { workerUrl?: URL; onCrash?: (message: string) => void } = {},
+): Promise<{ scorer: Scorer; corpus: CorpusSummary }> {
+  const counters: ScorerCounters = { evaluations: 0, coalesced: 0, dropped: 0, restarts: 0, lastEvaluationMs: null, busy: false };
+  let waiting: LiveNote[] = [];
+  let waitingReset = false;
+  let closing = false;
+  let worker: Worker;
+  /** Resets so far, and the count when the evaluation in the worker was sent. */
+  let resets = 0;
+  let sentAt = 0;
+
+  const send = (): void => {
+    if (counters.busy) return;
+    if (waiting.length === 0) {
+      if (waitingReset) worker.postMessage({ type: 'reset', reset: true } satisfies ToWorker);
+      waitingReset = false;
+      return;
+    }
+    counters.coalesced += waiting.length - 1;
+    worker.postMessage({ type: 'evaluate', reset: waitingReset, notes: waiting } satisfies ToWorker);
+    counters.busy = true;
+    sentAt = resets;
+    waiting = [];
+    waitingReset = false;
+  };
+
+  /** Starts a worker; resolves once it has the corpus. */
+  const launch = (): Promise<CorpusSummary> =>
+    new Promise((resolve, reject) => {
+      let ready = false;
+      worker = new Worker(options.workerUrl ?? WORKER_URL, { workerData: setup });
+      worker.on('message', (m: FromWorker) => {
+        if (m.type === 'ready') {
+          ready = true;
+          resolve(m.corpus);
+        } else if (m.type === 'failed') reject(new UsageError(m.message));
+        else {
+          counters.busy = false;
+          counters.evaluations++;
+          counters.dropped = m.verdict.dropped;
+          counters.restarts = m.verdict.restarts;
+          counters.lastEvaluationMs = m.elapsedMs;
+          onVerdict(m.verdict, sentAt === resets);
+          send();
+        }
+      });
+      worker.on('error', (e) => {
+        if (!ready) return reject(e);
+        // A bug in scoring must not stop the daemon: say so, start a fresh worker, carry on (the window starts empty).
+        options.onCrash?.(e.message);
+        counters.busy = false;
+        if (!closing) void launch().then(send, (e2: Error) => options.onCrash?.(e2.message));
+      });
+    });
+
+  const corpus = await launch();
+  return {
+    corpus,
+    scorer: {
+      counters,
+      submit(note) {
+        waiting.push(note);
+        send();
+      },
+      reset() {
+        // Notes still waiting belong to the passage that ended: they were logged, and are not scored.
+        waiting = [];
+        waitingReset = true;
+        resets++;
+        send();
+      },
+      async close() {
+        closing = true;
+        await worker.terminate();
+      },
+    },
+  };
+}

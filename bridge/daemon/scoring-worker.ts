@@ -1,0 +1,39 @@
+/**
+ * The scoring worker thread: loads the corpus itself (so the main thread
+ * never holds it or waits on it), then answers each `evaluate` with one
+ * verdict. Runs from dist/ (started by scorer.ts).
+ *
+ * Messages in: { type: 'evaluate', reset, notes } | { type: 'reset' }.
+ * Messages out: { type: 'ready', corpus } once loaded, or { type: 'failed', message };
+ * then { type: 'verdict', verdict, elapsedMs } for each evaluate.
+ *
+ * @example
+ *   new Worker(new URL('./scoring-worker.js', import.meta.url), { workerData: { corpus: 'presets/demo/corpus', windowBeats: 16, grid: 12 } });
+ */
+import { parentPort, workerData } from 'node:worker_threads';
+import { performance } from 'node:perf_hooks';
+import { openCorpus } from '../open-corpus.js';
+import { exactLiveScorer, type LiveScorer } from './live-scorer.js';
+import type { FromWorker, ToWorker, WorkerSetup } from './scorer.js';
+
+const setup = workerData as WorkerSetup;
+const port = parentPort!;
+const post = (m: FromWorker): void => port.postMessage(m);
+
+let scorer: LiveScorer;
+try {
+  const { source, corpus } = openCorpus(setup.corpus);
+  scorer = exactLiveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance });
+  post({ type: 'ready', corpus: { source, pieces: corpus.pieces.length, notes: corpus.pieces.reduce((s, p) => s + p.notes.length, 0) } });
+} catch (e) {
+  post({ type: 'failed', message: (e as Error).message });
+  process.exit(0);
+}
+
+port.on('message', (m: ToWorker) => {
+  if (m.reset) scorer.reset();
+  if (m.type === 'reset') return;
+  const started = performance.now();
+  for (const n of m.notes) scorer.add(n);
+  post({ type: 'verdict', verdict: scorer.evaluate(), elapsedMs: performance.now() - started });
+});

@@ -1,0 +1,157 @@
+/**
+ * The daemon's web side, on 127.0.0.1 only: `GET /` the overlay (from
+ * ui/dist, or a plain placeholder page until it is built), `GET /health`
+ * the counters as JSON, and the WebSocket `/events` pushing DaemonEvents.
+ *
+ * A page elsewhere on the web can reach 127.0.0.1 from the performer's own
+ * browser, so: a WebSocket handshake whose Origin is present and not this
+ * daemon's page is refused (RFC 6455 §10.2 leaves that decision to the
+ * server), and any request whose Host is not this daemon's (DNS rebinding)
+ * is refused too. Requests are small by construction — no bodies, short
+ * URLs, a few clients, incoming WebSocket messages capped (clients need not
+ * send anything) — and a client too slow to keep up is let go (it
+ * reconnects and gets a fresh `hello` with the recent history).
+ *
+ * @example
+ *   const web = await startWebServer({ port: 9751, uiDir: 'ui/dist', hello: () => helloEvent, health: () => ({ ok: true }) });
+ *   web.url               // → 'http://127.0.0.1:9751/'
+ *   web.broadcast({ type: 'clear', seq: 9, time: Date.now(), piece: 'a.mid' });
+ */
+import { readFile } from 'node:fs/promises';
+import { existsSync } from 'node:fs';
+import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { join } from 'node:path';
+import type { Duplex } from 'node:stream';
+import { WebSocketServer, type WebSocket } from 'ws';
+import type { DaemonEvent, HelloEvent } from '../events.js';
+import { CAUTION } from '../../core/report.js';
+import { contentType, staticFile } from './static-files.js';
+import { UsageError } from '../usage.js';
+
+export const MAX_URL_LENGTH = 2048;
+export const MAX_CLIENTS = 32;
+/** Largest message a client may send on /events (RFC 6455 close 1009 past it). */
+export const MAX_CLIENT_MESSAGE = 4096;
+/** Queued bytes after which a client is too slow and is let go. */
+export const MAX_CLIENT_BACKLOG = 1 << 20;
+
+export interface WebServerOptions {
+  port: number;
+  uiDir: string;
+  hello(): HelloEvent;
+  health(): Record<string, unknown>;
+}
+
+export interface WebServer {
+  port: number;
+  url: string;
+  broadcast(e: DaemonEvent): void;
+  clients(): number;
+  /** Clients let go for falling behind. */
+  slowClients(): number;
+  close(): Promise<void>;
+}
+
+const PLACEHOLDER = (health: string) => `<!doctype html>
+<html lang="en"><head><meta charset="utf-8"><title>earwitness</title></head>
+<body>
+<h1>earwitness is listening</h1>
+<p>The overlay page has not been built yet (<code>npm run build</code> builds it into <code>ui/dist</code>).
+Live events are on the WebSocket <code>/events</code>; the counters are at <a href="/health">/health</a>.</p>
+<pre>${health}</pre>
+<p><small>${CAUTION}</small></p>
+</body></html>
+`;
+
+const escapeHtml = (s: string): string => s.replace(/[&<>]/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;' })[c]!);
+
+export async function startWebServer(options: WebServerOptions): Promise<WebServer> {
+  let port = options.port;
+  let slow = 0;
+  const ownHosts = (): Set<string> => new Set([`127.0.0.1:${port}`, `localhost:${port}`]);
+  const ownOrigins = (): Set<string> => new Set([...ownHosts()].map((h) => `http://${h}`));
+  const wss = new WebSocketServer({ noServer: true, maxPayload: MAX_CLIENT_MESSAGE });
+
+  const send = (res: ServerResponse, status: number, type: string, body: string | Buffer, head: boolean, extra: Record<string, string> = {}): void => {
+    res.writeHead(status, { 'content-type': type, 'cache-control': 'no-store', 'x-content-type-options': 'nosniff', ...extra });
+    res.end(head ? undefined : body);
+  };
+  const text = (res: ServerResponse, status: number, body: string, extra: Record<string, string> = {}): void => send(res, status, 'text/plain; charset=utf-8', `${body}\n`, false, extra);
+
+  const handle = async (req: IncomingMessage, res: ServerResponse): Promise<void> => {
+    const url = req.url ?? '/';
+    if (url.length > MAX_URL_LENGTH) return text(res, 414, `request URL over ${MAX_URL_LENGTH} characters`);
+    if (!ownHosts().has(req.headers.host ?? '')) return text(res, 421, `this daemon answers to 127.0.0.1:${port} or localhost:${port} only`);
+    if (req.method !== 'GET' && req.method !== 'HEAD') return text(res, 405, 'only GET and HEAD', { allow: 'GET, HEAD' });
+    if (Number(req.headers['content-length'] ?? 0) > 0 || req.headers['transfer-encoding']) return text(res, 413, 'requests to this daemon carry no body');
+    const head = req.method === 'HEAD';
+    const path = url.split('?')[0];
+    if (path === '/health') return send(res, 200, 'application/json', JSON.stringify(options.health()), head);
+    if (path === '/events') return text(res, 426, 'this is a WebSocket endpoint', { upgrade: 'websocket' });
+    if (path === '/' && !existsSync(join(options.uiDir, 'index.html'))) {
+      return send(res, 200, 'text/html; charset=utf-8', PLACEHOLDER(escapeHtml(JSON.stringify(options.health(), null, 2))), head);
+    }
+    const file = staticFile(options.uiDir, path);
+    if (!file) return text(res, 404, 'not found');
+    send(res, 200, contentType(file), await readFile(file), head);
+  };
+
+  const refuse = (socket: Duplex, status: number, reason: string): void => {
+    socket.end(`HTTP/1.1 ${status} ${reason}\r\nconnection: close\r\ncontent-type: text/plain\r\n\r\n${reason}\n`);
+  };
+
+  const server = createServer({ maxHeaderSize: 8192, requestTimeout: 10_000 }, (req, res) => {
+    handle(req, res).catch(() => {
+      if (!res.headersSent) text(res, 500, 'internal error');
+      else res.destroy();
+    });
+  });
+  server.on('upgrade', (req, socket, head) => {
+    const origin = req.headers.origin;
+    if ((req.url ?? '').split('?')[0] !== '/events') return refuse(socket, 404, 'Not Found');
+    if (!ownHosts().has(req.headers.host ?? '')) return refuse(socket, 421, 'Misdirected Request');
+    // RFC 6455 §10.2: a browser names the page that opened the socket; only our own page may listen.
+    if (origin !== undefined && !ownOrigins().has(origin)) return refuse(socket, 403, 'Forbidden');
+    if (wss.clients.size >= MAX_CLIENTS) return refuse(socket, 503, 'Service Unavailable');
+    wss.handleUpgrade(req, socket, head, (ws: WebSocket) => {
+      ws.on('error', () => ws.terminate());
+      ws.send(JSON.stringify(options.hello()));
+    });
+  });
+  server.on('clientError', (_e, socket) => refuse(socket, 400, 'Bad Request'));
+
+  await new Promise<void>((resolve, reject) => {
+    server.once('error', (e: NodeJS.ErrnoException) =>
+      reject(new UsageError(`--http-port ${options.port}: cannot listen on 127.0.0.1 (${e.code === 'EADDRINUSE' ? 'the port is in use; choose another, or 0 for any free one' : e.message})`)),
+    );
+    server.listen(options.port, '127.0.0.1', () => resolve());
+  });
+  port = (server.address() as AddressInfo).port;
+
+  return {
+    port,
+    url: `http://127.0.0.1:${port}/`,
+    broadcast(e) {
+      const data = JSON.stringify(e);
+      for (const ws of wss.clients) {
+        if (ws.readyState !== ws.OPEN) continue;
+        if (ws.bufferedAmount > MAX_CLIENT_BACKLOG) {
+          slow++;
+          ws.terminate();
+        } else ws.send(data);
+      }
+    },
+    clients: () => wss.clients.size,
+    slowClients: () => slow,
+    async close() {
+      // 1001 "going away" lets a page know to retry; whoever has not closed within 200 ms is cut off.
+      for (const ws of wss.clients) ws.close(1001, 'earwitness is stopping');
+      await new Promise((resolve) => setTimeout(resolve, wss.clients.size ? 200 : 0));
+      for (const ws of wss.clients) ws.terminate();
+      wss.close();
+      server.closeAllConnections();
+      await new Promise<void>((resolve) => server.close(() => resolve()));
+    },
+  };
+}

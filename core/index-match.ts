@@ -1,0 +1,229 @@
+/**
+ * Matching with the corpus index: filter, then verify.
+ *
+ * A window's triples (core/triple-index.ts) look up their postings, rarest
+ * key first, until a vote budget is spent. Each posting votes for the
+ * translation taking its corpus anchor onto the window's anchor: (window
+ * anchor time − corpus anchor time, window pitch − corpus pitch). The most-voted translations are then scored exactly as
+ * core/match.ts scores them, so a score found here is the brute-force score
+ * of that translation, never more than the window's exact best, and equal to
+ * it whenever the best translation was among those verified.
+ *
+ * Windows of at most four points are scored by an exact scan over the flat
+ * corpus instead: two points in common already score 0.5 there, and the
+ * filter needs three.
+ *
+ * @example
+ *   const m = indexMatcher(corpusIndex(postings), 16);
+ *   m.best(windowPoints, toGrains(32), { exclude: 3 })
+ *   // → { piece: 7, pieceStart: 8, transposition: 5, matched: 24, excerptNotes: 24, score: 1 }
+ */
+import { type Point, GRAINS_PER_BEAT, toGrains } from './note.js';
+import { type MatchOptions, type WindowMatch, type WindowMatcher, betterMatch } from './match.js';
+import { type CorpusIndex, lowerBoundAt, tripleKey, triplesEndingAt } from './triple-index.js';
+import { VoteTable } from './votes.js';
+
+export interface FilterSettings {
+  /** The query side's partners per point. The corpus's number is best: more only adds triples the corpus never indexed. */
+  queryPartners: number;
+  /** Postings read per window before the filter stops looking up triples, rarest first. */
+  voteBudget: number;
+  /** Triples looked up however common, so a window of common figures still votes. */
+  minTriples: number;
+  /** Most-voted translations scored exactly. */
+  candidates: number;
+}
+
+export const DEFAULT_FILTER: FilterSettings = { queryPartners: 3, voteBudget: 2_000, minTriples: 6, candidates: 16 };
+
+/**
+ * Windows with at most this many points are scanned exactly: two points in
+ * common already score 0.5 there, and two points make no triple.
+ */
+export const SCAN_POINTS = 4;
+
+/** The key of the triple (a, b, c) of a sorted point run. */
+export const keyOf = (points: readonly Point[], a: number, b: number, c: number): number =>
+  tripleKey(points[b].at - points[a].at, points[b].pitch - points[a].pitch, points[c].at - points[a].at, points[c].pitch - points[a].pitch);
+
+/**
+ * The exact score of one translation of a piece: `shift` grains and `dp`
+ * steps from the corpus to the window, the same numbers core/match.ts gives.
+ */
+export function verifyShift(index: CorpusIndex, window: readonly Point[], startGrains: number, windowGrains: number, piece: number, shift: number, dp: number): WindowMatch {
+  const { at, pitch, offsets } = index.points;
+  const from = startGrains - shift;
+  const lo = lowerBoundAt(at, from, offsets[piece], offsets[piece + 1]);
+  const hi = lowerBoundAt(at, from + windowGrains, lo, offsets[piece + 1]);
+  let matched = 0;
+  let c = lo;
+  for (const w of window) {
+    const t = w.at - shift;
+    const p = w.pitch - dp;
+    while (c < hi && (at[c] < t || (at[c] === t && pitch[c] < p))) c++;
+    if (c === hi) break;
+    if (at[c] === t && pitch[c] === p) matched++;
+  }
+  const excerptNotes = hi - lo;
+  return { piece, pieceStart: from / GRAINS_PER_BEAT, transposition: dp, matched, excerptNotes, score: matched / Math.max(window.length, excerptNotes) };
+}
+
+/** Scores the most-voted translations exactly; the best under `betterMatch`. */
+export function verifyTop(index: CorpusIndex, votes: VoteTable, window: readonly Point[], startGrains: number, windowGrains: number, candidates: number): WindowMatch | null {
+  let best: WindowMatch | null = null;
+  for (const slot of votes.top(candidates)) {
+    const m = verifyShift(index, window, startGrains, windowGrains, votes.pieceAt(slot), votes.shiftAt(slot), votes.dpAt(slot));
+    if (betterMatch(m, best)) best = m;
+  }
+  return best;
+}
+
+/**
+ * Exact best of a window by trying every translation that puts one window
+ * point on one corpus point. Excerpt bounds and lookups move forward with the
+ * corpus point, so a piece costs its length times |window|², fine for the
+ * tiny windows it serves.
+ */
+export function scanBest(index: CorpusIndex, window: readonly Point[], startGrains: number, windowGrains: number, exclude?: number): WindowMatch | null {
+  const { at, pitch, offsets } = index.points;
+  let best: WindowMatch | null = null;
+  const ptr = new Int32Array(window.length);
+  for (let piece = 0; piece < index.pieces; piece++) {
+    if (piece === exclude) continue;
+    const first = offsets[piece];
+    const end = offsets[piece + 1];
+    for (const [u, anchor] of window.entries()) {
+      let lo = first;
+      let hi = first;
+      ptr.fill(first);
+      for (let c = first; c < end; c++) {
+        const shift = anchor.at - at[c];
+        const dp = anchor.pitch - pitch[c];
+        const from = startGrains - shift;
+        while (lo < end && at[lo] < from) lo++;
+        while (hi < end && at[hi] < from + windowGrains) hi++;
+        let matched = 0;
+        for (let v = 0; v < window.length; v++) {
+          if (v === u) {
+            matched++;
+            continue;
+          }
+          const t = window[v].at - shift;
+          const p = window[v].pitch - dp;
+          let q = ptr[v];
+          while (q < end && at[q] < t) q++;
+          ptr[v] = q;
+          while (q < end && at[q] === t && pitch[q] < p) q++;
+          if (q < end && at[q] === t && pitch[q] === p) matched++;
+        }
+        const excerptNotes = hi - lo;
+        const score = matched / Math.max(window.length, excerptNotes);
+        if (best && score < best.score) continue;
+        const m = { piece, pieceStart: from / GRAINS_PER_BEAT, transposition: dp, matched, excerptNotes, score };
+        if (betterMatch(m, best)) best = m;
+      }
+    }
+  }
+  return best;
+}
+
+/**
+ * The triples of a sorted point run that the corpus has, rarest first, in
+ * reusable typed buffers: a window looks up thousands, so no object each.
+ */
+export class TripleLookups {
+  private order = new Float64Array(1024);
+  private anchor = new Int32Array(1024);
+  private key = new Int32Array(1024);
+  private n = 0;
+
+  clear(): void {
+    this.n = 0;
+  }
+
+  /** Looks up the triples ending at point `c` (those starting at `from` or later) and keeps the ones the corpus has. */
+  collect(index: CorpusIndex, points: readonly Point[], at: ArrayLike<number>, from: number, c: number, partners: number, horizon: number): void {
+    triplesEndingAt(at, from, c, partners, horizon, (a, b) => {
+      const k = index.find(keyOf(points, a, b, c));
+      if (k < 0) return;
+      if (this.n === this.key.length) this.grow();
+      // Postings first, then the order found: sorting one double sorts by both.
+      this.order[this.n] = (index.starts[k + 1] - index.starts[k]) * 2 ** 21 + this.n;
+      this.anchor[this.n] = a;
+      this.key[this.n++] = k;
+    });
+  }
+
+  private grow(): void {
+    const order = new Float64Array(this.order.length * 2);
+    const anchor = new Int32Array(order.length);
+    const key = new Int32Array(order.length);
+    order.set(this.order);
+    anchor.set(this.anchor);
+    key.set(this.key);
+    [this.order, this.anchor, this.key] = [order, anchor, key];
+  }
+
+  /** Sorts the kept triples rarest first; returns how many there are, to read with anchorAt and keyAt. */
+  sort(): number {
+    if (this.n > 2 ** 21) throw new RangeError(`too many triples in one window (${this.n}); use a shorter window`);
+    this.order.subarray(0, this.n).sort();
+    return this.n;
+  }
+
+  /** The window point anchoring the r-th rarest triple. */
+  anchorAt(r: number): number {
+    return this.anchor[this.order[r] % 2 ** 21];
+  }
+
+  /** Position in the index's keys of the r-th rarest triple. */
+  keyAt(r: number): number {
+    return this.key[this.order[r] % 2 ** 21];
+  }
+}
+
+/**
+ * Adds `delta` votes from every posting of key position `k`, each for the
+ * translation taking that corpus anchor onto the window point `anchor`;
+ * postings at [skipFrom, skipTo) (a piece left out) do not vote.
+ */
+export function castVotes(index: CorpusIndex, votes: VoteTable, anchor: Point, k: number, delta: number, skipFrom = 0, skipTo = 0): void {
+  const { packed, anchors, starts } = index;
+  for (let s = starts[k]; s < starts[k + 1]; s++) {
+    const a = anchors[s];
+    if (a < skipFrom || a >= skipTo) votes.add(packed[2 * a + 1] >>> 8, anchor.at - packed[2 * a], anchor.pitch - (packed[2 * a + 1] & 255), delta);
+  }
+}
+
+/** The batch matcher over an index; `report` and `baseline` use it like the exact one. */
+export function indexMatcher(index: CorpusIndex, windowBeats: number, settings: FilterSettings = DEFAULT_FILTER): WindowMatcher {
+  const windowGrains = toGrains(windowBeats);
+  const horizon = toGrains(index.shape.horizonBeats);
+  const votes = new VoteTable();
+  const lookups = new TripleLookups();
+  const { starts } = index;
+  const { offsets } = index.points;
+  return {
+    windowBeats,
+    best(window: readonly Point[], startGrains: number, options: MatchOptions = {}) {
+      if (window.length === 0) return null;
+      if (window.length <= SCAN_POINTS) return scanBest(index, window, startGrains, windowGrains, options.exclude);
+      lookups.clear();
+      const at = window.map((w) => w.at);
+      for (let c = 2; c < window.length; c++) lookups.collect(index, window, at, 0, c, settings.queryPartners, horizon);
+      const skipFrom = options.exclude === undefined ? 0 : offsets[options.exclude];
+      const skipTo = options.exclude === undefined ? 0 : offsets[options.exclude + 1];
+      votes.clear();
+      const found = lookups.sort();
+      for (let r = 0, spent = 0; r < found; r++) {
+        const k = lookups.keyAt(r);
+        const from = starts[k];
+        const to = starts[k + 1];
+        if (r >= settings.minTriples && spent + to - from > settings.voteBudget) break;
+        spent += to - from;
+        castVotes(index, votes, window[lookups.anchorAt(r)], k, 1, skipFrom, skipTo);
+      }
+      return verifyTop(index, votes, window, startGrains, windowGrains, settings.candidates);
+    },
+  };
+}

@@ -1,0 +1,123 @@
+/**
+ * Live matching against the corpus index, one note at a time.
+ *
+ * The stream keeps the window's points and running vote counts per
+ * translation. A new point completes triples with the few points before it
+ * (core/triple-index.ts); its rarest triples look up their postings and add
+ * votes, and the stream remembers which, so that when a triple's first point
+ * leaves the window the same votes are taken back. A note therefore costs
+ * about the postings of its own triples, however long the window. `best()` scores the
+ * most-voted translations exactly, as core/match.ts would score them.
+ *
+ * Points must come in time order (equal ontimes in any order; a point
+ * already in the window is ignored, as in a point set). Choosing a point's
+ * triples when it arrives means a window reached by streaming can vote a little
+ * differently from the same window scored afresh; both only ever report
+ * exact scores of real translations.
+ *
+ * @example
+ *   const stream = new StreamingMatch(index, { windowBeats: 16 });
+ *   const W = toGrains(16);
+ *   for (const p of played) {            // p = { at: grains since the session began, pitch }
+ *     stream.add(p);
+ *     stream.expire(p.at - W + 1);       // the window is now the last 16 beats, ending with p
+ *     stream.best();                     // → { piece: 7, pieceStart: 8, transposition: 5, matched: 24, excerptNotes: 24, score: 1 } or null
+ *   }
+ */
+import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains } from './note.js';
+import type { WindowMatch } from './match.js';
+import { type CorpusIndex, MAX_GRAIN, MAX_PITCH } from './triple-index.js';
+import { DEFAULT_FILTER, SCAN_POINTS, TripleLookups, castVotes, scanBest, verifyTop } from './index-match.js';
+import { VoteTable } from './votes.js';
+
+export interface StreamSettings {
+  /** How far back (in points) a new point's triples reach. */
+  queryPartners: number;
+  /** Postings a new point may read; its rarest triple is looked up even when that alone is more. */
+  noteBudget: number;
+  /** Most-voted translations `best()` scores exactly. */
+  candidates: number;
+}
+
+export const DEFAULT_STREAM: StreamSettings = { queryPartners: DEFAULT_FILTER.queryPartners, noteBudget: 64, candidates: DEFAULT_FILTER.candidates };
+
+export class StreamingMatch {
+  readonly windowBeats: number;
+  private readonly windowGrains: number;
+  private readonly horizon: number;
+  private readonly settings: StreamSettings;
+  /** The window's points, sorted, and for each the keys it anchored votes for. */
+  private readonly points: Point[] = [];
+  private readonly at: number[] = [];
+  private readonly voted: number[][] = [];
+  private readonly lookups = new TripleLookups();
+  private readonly votes = new VoteTable();
+  private start = 0;
+
+  constructor(private readonly index: CorpusIndex, options: { windowBeats: number; settings?: StreamSettings }) {
+    if (!(Number.isFinite(options.windowBeats) && options.windowBeats > 0)) throw new RangeError(`windowBeats must be a positive number of beats, got ${options.windowBeats}`);
+    this.windowBeats = options.windowBeats;
+    this.windowGrains = toGrains(options.windowBeats);
+    this.horizon = toGrains(index.shape.horizonBeats);
+    this.settings = options.settings ?? DEFAULT_STREAM;
+  }
+
+  /** Points in the window now. */
+  get size(): number {
+    return this.points.length;
+  }
+
+  /** Adds a played point (ontime in integer grains, pitch in the index's dimension). */
+  add(point: Point): void {
+    const last = this.points[this.points.length - 1];
+    if (!(Number.isInteger(point.at) && point.at >= 0 && point.at <= MAX_GRAIN) || !(Number.isInteger(point.pitch) && point.pitch >= 0 && point.pitch <= MAX_PITCH)) {
+      throw new RangeError(`a point needs an ontime of 0…${MAX_GRAIN} whole grains and a pitch of 0…${MAX_PITCH}, got at ${point.at}, pitch ${point.pitch}`);
+    }
+    if (last && point.at < last.at) throw new RangeError(`points must come in time order: got one at ${point.at} grains after one at ${last.at}`);
+    if (point.at < this.start) throw new RangeError(`a point at ${point.at} grains is before the window, which starts at ${this.start}`);
+    let j = this.points.length;
+    while (j > 0 && comparePoints(this.points[j - 1], point) > 0) j--;
+    if (j > 0 && comparePoints(this.points[j - 1], point) === 0) return;
+    this.points.splice(j, 0, { at: point.at, pitch: point.pitch });
+    this.voted.splice(j, 0, []);
+    this.at.splice(j, 0, point.at);
+    this.lookups.clear();
+    this.lookups.collect(this.index, this.points, this.at, 0, j, this.settings.queryPartners, this.horizon);
+    const found = this.lookups.sort();
+    const { starts } = this.index;
+    for (let r = 0, spent = 0; r < found; r++) {
+      const k = this.lookups.keyAt(r);
+      const size = starts[k + 1] - starts[k];
+      if (r > 0 && spent + size > this.settings.noteBudget) break;
+      spent += size;
+      const a = this.lookups.anchorAt(r);
+      castVotes(this.index, this.votes, this.points[a], k, 1);
+      this.voted[a].push(k);
+    }
+  }
+
+  /** Starts the window at `beforeGrains`: earlier points leave it, taking back their votes. */
+  expire(beforeGrains: number): void {
+    let gone = 0;
+    while (gone < this.points.length && this.points[gone].at < beforeGrains) {
+      for (const k of this.voted[gone]) castVotes(this.index, this.votes, this.points[gone], k, -1);
+      gone++;
+    }
+    this.points.splice(0, gone);
+    this.at.splice(0, gone);
+    this.voted.splice(0, gone);
+    this.start = beforeGrains;
+  }
+
+  /** The window's best match, scored exactly; null for an empty window. */
+  best(): WindowMatch | null {
+    const n = this.points.length;
+    if (n === 0) return null;
+    const span = this.points[n - 1].at - this.start;
+    if (span >= this.windowGrains) {
+      throw new RangeError(`the window starts at ${this.start / GRAINS_PER_BEAT} beats but holds a note ${span / GRAINS_PER_BEAT} beats later, more than its ${this.windowBeats} beats: expire() the older notes first`);
+    }
+    if (n <= SCAN_POINTS) return scanBest(this.index, this.points, this.start, this.windowGrains);
+    return verifyTop(this.index, this.votes, this.points, this.start, this.windowGrains, this.settings.candidates);
+  }
+}

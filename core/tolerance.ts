@@ -1,0 +1,205 @@
+/**
+ * Matching played timing: a corpus point counts as matched when, after the
+ * translation, the window holds a point of the same pitch whose ontime lies
+ * within ± tolerance of it. Matching is one-to-one — a played note stands for
+ * at most one corpus note — so a smeared chord cannot count twice.
+ *
+ * For one translation the matching is a maximum bipartite matching, which
+ * splits by pitch into matchings of points on a line where a pair is allowed
+ * when the two lie within ± tolerance; two sorted lists matched greedily from
+ * the left give the maximum. Candidate translations come from a histogram of
+ * (time difference in bins of one tolerance, pitch difference) over all pairs:
+ * every pair a translation in bin b can match lies in bins b−1…b+1, so their
+ * sum bounds the bin's matching and lets the scan stop early, as the exact
+ * path does. Each bin is refined to the densest span of its time differences.
+ *
+ * @example
+ *   const m = toleranceMatcher(corpusPoints(corpus, 'chromatic'), 16, 0.1);
+ *   m.best(playedWindow, toGrains(32))
+ *   // → { piece: 3, pieceStart: 8, transposition: 5, matched: 22, excerptNotes: 24, score: 0.917 }
+ */
+import { type Point, GRAINS_PER_BEAT, countInSpan, toGrains } from './note.js';
+import { type Translation, keyTranslation, translationKey } from './cardinality.js';
+import type { CorpusPoints } from './corpus.js';
+import { type WindowMatch, type WindowMatcher, bestOverPieces, betterMatch } from './match.js';
+
+/** A piece's ontimes grouped by pitch, each list ascending: the lines one-to-one matching runs along. */
+export type PitchLines = Map<number, number[]>;
+
+export function pitchLines(points: readonly Point[]): PitchLines {
+  const lines: PitchLines = new Map();
+  for (const p of points) {
+    const line = lines.get(p.pitch);
+    if (line) line.push(p.at);
+    else lines.set(p.pitch, [p.at]);
+  }
+  return lines;
+}
+
+/** Index of the first value ≥ x in an ascending list. */
+function firstAtLeast(xs: readonly number[], x: number): number {
+  let lo = 0;
+  let hi = xs.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (xs[mid] < x) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo;
+}
+
+/** A corpus point and the window point it was matched to. */
+export interface MatchedPair {
+  corpus: Point;
+  query: Point;
+}
+
+/**
+ * The maximum one-to-one matching of corpus points, moved by `t`, onto window
+ * points of equal pitch lying within ± `tolGrains` of them.
+ */
+export function toleranceMatching(lines: PitchLines, window: readonly Point[], t: Translation, tolGrains: number): MatchedPair[] {
+  const pairs: MatchedPair[] = [];
+  for (const [pitch, played] of pitchLines(window)) {
+    const line = lines.get(pitch - t.pitch);
+    if (!line) continue;
+    let i = firstAtLeast(line, played[0] - t.at - tolGrains);
+    let j = 0;
+    while (i < line.length && j < played.length) {
+      const at = line[i] + t.at;
+      if (at + tolGrains < played[j]) i++;
+      else if (played[j] + tolGrains < at) j++;
+      else {
+        pairs.push({ corpus: { at: line[i], pitch: pitch - t.pitch }, query: { at: played[j], pitch } });
+        i++;
+        j++;
+      }
+    }
+  }
+  return pairs;
+}
+
+/** Restricts the candidate search to one transposition and time shifts near a guess. */
+export interface Near {
+  translation: Translation;
+  /** Largest distance in grains from the guessed time shift. */
+  within: number;
+}
+
+/** Time differences (window − corpus) of all pairs with pitch difference `pitch` and time difference in [lo, hi]. */
+function shiftsBetween(lines: PitchLines, window: readonly Point[], pitch: number, lo: number, hi: number): number[] {
+  const out: number[] = [];
+  for (const q of window) {
+    const line = lines.get(q.pitch - pitch);
+    if (!line) continue;
+    for (let i = firstAtLeast(line, q.at - hi); i < line.length && q.at - line[i] >= lo; i++) out.push(q.at - line[i]);
+  }
+  return out.sort((a, b) => a - b);
+}
+
+/** Histogram of pairs by (time-difference bin, pitch difference), keyed like translations. */
+function binCounts(points: readonly Point[], lines: PitchLines, window: readonly Point[], bin: number, near?: Near): Map<number, number> {
+  const counts = new Map<number, number>();
+  const add = (shift: number, pitch: number): void => {
+    const k = translationKey(Math.floor(shift / bin), pitch);
+    counts.set(k, (counts.get(k) ?? 0) + 1);
+  };
+  if (near) {
+    const { at, pitch } = near.translation;
+    for (const shift of shiftsBetween(lines, window, pitch, at - near.within, at + near.within)) add(shift, pitch);
+  } else {
+    for (const q of window) for (const c of points) add(q.at - c.at, q.pitch - c.pitch);
+  }
+  return counts;
+}
+
+/**
+ * The time shifts worth matching at for one bin: the median of the densest
+ * span of 2 × tolerance among the shifts the bin can reach (the played notes
+ * scatter around the true shift), and the bin's most frequent exact shift, so
+ * a copy with strict timing scores at least as well as on the exact path.
+ */
+function refinedShifts(lines: PitchLines, window: readonly Point[], b: number, pitch: number, bin: number, tolGrains: number): number[] {
+  const shifts = shiftsBetween(lines, window, pitch, (b - 1) * bin, (b + 2) * bin - 1);
+  let dense = { from: 0, to: 0 };
+  for (let lo = 0, hi = 0; hi < shifts.length; hi++) {
+    while (shifts[hi] - shifts[lo] > 2 * tolGrains) lo++;
+    if (hi - lo > dense.to - dense.from) dense = { from: lo, to: hi };
+  }
+  const median = shifts[(dense.from + dense.to) >> 1];
+  let mode = { shift: median, count: 0 };
+  for (let i = 0; i < shifts.length; ) {
+    let j = i;
+    while (j < shifts.length && shifts[j] === shifts[i]) j++;
+    const inBin = Math.floor(shifts[i] / bin) === b;
+    if (inBin && j - i > mode.count) mode = { shift: shifts[i], count: j - i };
+    i = j;
+  }
+  return mode.shift === median ? [median] : [median, mode.shift];
+}
+
+export interface PieceSearch {
+  piece: number;
+  points: readonly Point[];
+  lines: PitchLines;
+  /** Window points, sorted, on the corpus's time scale. */
+  window: readonly Point[];
+  startGrains: number;
+  /** Length in grains of the corpus span the window covers. */
+  spanGrains: number;
+  tolGrains: number;
+  near?: Near;
+}
+
+/** The best tolerant match of a window in one piece, or `incumbent` when nothing there beats it. */
+export function bestInPiece(s: PieceSearch, incumbent: WindowMatch | null): WindowMatch | null {
+  const bin = Math.max(1, s.tolGrains);
+  const counts = binCounts(s.points, s.lines, s.window, bin, s.near);
+  const bound = (k: number): number => {
+    const { at, pitch } = keyTranslation(k);
+    const around = (counts.get(translationKey(at - 1, pitch)) ?? 0) + counts.get(k)! + (counts.get(translationKey(at + 1, pitch)) ?? 0);
+    return Math.min(around, s.window.length);
+  };
+  const ranked = [...counts.keys()].map((k) => ({ k, bound: bound(k) })).sort((x, y) => y.bound - x.bound || x.k - y.k);
+  let best = incumbent;
+  for (const { k, bound: most } of ranked) {
+    if (best && most / s.window.length < best.score) break;
+    const { at: b, pitch } = keyTranslation(k);
+    for (const shift of refinedShifts(s.lines, s.window, b, pitch, bin, s.tolGrains)) {
+      const matched = toleranceMatching(s.lines, s.window, { at: shift, pitch }, s.tolGrains).length;
+      const from = s.startGrains - shift;
+      const excerptNotes = countInSpan(s.points, from, from + s.spanGrains);
+      const candidate: WindowMatch = {
+        piece: s.piece,
+        pieceStart: from / GRAINS_PER_BEAT,
+        transposition: pitch,
+        matched,
+        excerptNotes,
+        score: matched / Math.max(s.window.length, excerptNotes),
+      };
+      if (betterMatch(candidate, best)) best = candidate;
+    }
+  }
+  return best;
+}
+
+/** Throws unless `beats` is a usable tolerance: finite, ≥ 0, under a beat. */
+export function checkTolerance(beats: number): void {
+  if (!(Number.isFinite(beats) && beats >= 0 && beats < 1)) throw new RangeError(`tolerance must be at least 0 and under 1 beat, got ${beats}`);
+}
+
+/** Matches windows with ontimes allowed to stray ± `toleranceBeats` from the corpus's. */
+export function toleranceMatcher(corpus: CorpusPoints, windowBeats: number, toleranceBeats: number): WindowMatcher {
+  checkTolerance(toleranceBeats);
+  const windowGrains = toGrains(windowBeats);
+  const tolGrains = toGrains(toleranceBeats);
+  const lines = corpus.points.map(pitchLines);
+  return {
+    windowBeats,
+    best(window, startGrains, options = {}) {
+      if (window.length === 0) return null;
+      return bestOverPieces(corpus, options, (piece, points, best) => bestInPiece({ piece, points, lines: lines[piece], window, startGrains, spanGrains: windowGrains, tolGrains }, best));
+    },
+  };
+}
+

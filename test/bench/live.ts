@@ -1,0 +1,97 @@
+/**
+ * Benchmark (not a test): note-in → score-out latency of `earwitness
+ * listen`, over loopback OSC in and the /events WebSocket out, against a
+ * synthetic corpus (test/bench/synthetic.ts) of a given size written as
+ * MIDI files. Notes go one at a time, each after the previous one's score,
+ * so no evaluation is coalesced and every sample is one note's full trip.
+ * The target is p99 ≤ 10 ms, the usual ceiling for responsive musical
+ * control (Wessel & Wright 2002, ../shared/reference/check-values.md).
+ *
+ *   node dist/test/bench/live.js [--notes 1000000] [--samples 100] [--window 16] [-- LISTEN FLAGS…]
+ *
+ * Flags after `--` go to `earwitness listen` as they are (`-- --tolerance 0`
+ * measures the exact matcher alone).
+ *
+ * @example
+ *   node dist/test/bench/live.js --notes 10000
+ *   // corpus 10,000 notes (10 pieces) … p50 3.1 ms, p99 5.2 ms …
+ */
+import { createSocket } from 'node:dgram';
+import { writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { performance } from 'node:perf_hooks';
+import osc from 'osc';
+import { GRAINS_PER_BEAT } from '../../core/note.js';
+import { percentile } from '../../core/stats.js';
+import { midiBytes } from '../../bridge/midi-write.js';
+import type { ScoreEvent } from '../../bridge/events.js';
+import { synthCorpus } from './synthetic.js';
+import { health, listen, spawnDaemon, tempDir } from '../daemon/helpers.js';
+
+/** The benchmark's own flags: those before a `--`. */
+const own = process.argv.includes('--') ? process.argv.slice(0, process.argv.indexOf('--')) : process.argv;
+
+function flag(name: string, fallback: number): number {
+  const i = own.indexOf(`--${name}`);
+  const v = i < 0 ? fallback : Number(own[i + 1]);
+  if (!(Number.isFinite(v) && v > 0)) throw new Error(`--${name} must be a positive number, got ${own[i + 1]}`);
+  return v;
+}
+
+async function main(): Promise<void> {
+  const notes = flag('notes', 1_000_000);
+  const samples = flag('samples', 100);
+  const window = flag('window', 16);
+  const t0 = performance.now();
+  const pieces = synthCorpus({ notes, seed: 1 });
+  const dir = tempDir('bench-corpus');
+  pieces.forEach((points, i) => {
+    const track = points.map((p) => ({ onset: p.at / GRAINS_PER_BEAT, duration: 0.5, pitch: p.pitch, velocity: 80 }));
+    writeFileSync(join(dir, `piece-${String(i).padStart(5, '0')}.mid`), midiBytes([{ name: 'voices', channel: 1, notes: track }], { title: `piece ${i}` }));
+  });
+  const total = pieces.reduce((s, p) => s + p.length, 0);
+  process.stdout.write(`corpus ${total.toLocaleString('en')} notes (${pieces.length} pieces), written in ${((performance.now() - t0) / 1000).toFixed(1)} s\n`);
+
+  const t1 = performance.now();
+  const extra = process.argv.includes('--') ? process.argv.slice(process.argv.indexOf('--') + 1) : [];
+  const d = await spawnDaemon(['--corpus', dir, '--preset', 'jam', '--input', 'osc', '--window', String(window), ...extra], { startMs: 30 * 60_000 });
+  process.stdout.write(`daemon up in ${((performance.now() - t1) / 1000).toFixed(1)} s (corpus read in the worker)\n`);
+  const events = await listen(d.http);
+  const socket = createSocket('udp4');
+  // A passage of the first piece, played back: windows that match, as a quoting performer's would.
+  const played = pieces[0].slice(0, samples + 20);
+  const latencies: number[] = [];
+  const workerMs: number[] = [];
+  for (const [k, p] of played.entries()) {
+    const seq = k + 1;
+    const bytes = osc.writePacket({ address: '/ew/note', args: [{ type: 'i', value: p.pitch }, { type: 'i', value: 90 }, { type: 'f', value: 0.5 }, { type: 'f', value: p.at / GRAINS_PER_BEAT }] }, { metadata: true });
+    const sent = performance.now();
+    socket.send(bytes, d.osc, '127.0.0.1');
+    await events.next<ScoreEvent>((e) => e.type === 'score' && e.seq === seq, 10 * 60_000);
+    // The first 20 warm the JIT and fill the window.
+    if (k >= 20) {
+      latencies.push(performance.now() - sent);
+      workerMs.push((await health(d.http)).lastEvaluationMs as number);
+    }
+  }
+  socket.close();
+  events.close();
+  const h = await health(d.http);
+  await d.stop();
+  latencies.sort((a, b) => a - b);
+  workerMs.sort((a, b) => a - b);
+  const ms = (x: number) => `${x.toFixed(2)} ms`;
+  process.stdout.write(
+    [
+      `window ${window} beats${extra.length ? `, listen ${extra.join(' ')}` : ''}, ${latencies.length} notes, ${h.coalesced} coalesced`,
+      `note-in → score-out: p50 ${ms(percentile(latencies, 50))}, p99 ${ms(percentile(latencies, 99))}, max ${ms(latencies[latencies.length - 1])}`,
+      `of which scoring in the worker: p50 ${ms(percentile(workerMs, 50))}, p99 ${ms(percentile(workerMs, 99))}`,
+      `target p99 ≤ 10 ms (Wessel & Wright 2002): ${percentile(latencies, 99) <= 10 ? 'met' : 'not met'}`,
+    ].join('\n') + '\n',
+  );
+}
+
+main().catch((e: Error) => {
+  process.stderr.write(`live benchmark: ${e.message}\n`);
+  process.exitCode = 1;
+});

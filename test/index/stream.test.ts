@@ -1,0 +1,105 @@
+/**
+ * The streaming matcher (core/stream.ts): notes added one at a time and
+ * expired as the window moves must give, for the window they leave, the
+ * exact score core/match.ts gives that window (wherever it is ≥ 0.5), and
+ * never more.
+ *
+ * @example
+ *   npx vitest run test/index/stream.test.ts
+ */
+import { describe, expect, it } from 'vitest';
+import { type Point, comparePoints, toGrains } from '../../core/note.js';
+import type { CorpusPoints } from '../../core/corpus.js';
+import { exactMatcher } from '../../core/match.js';
+import { seededRandom } from '../../core/stats.js';
+import { buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
+import { indexMatcher } from '../../core/index-match.js';
+import { StreamingMatch } from '../../core/stream.js';
+import { synthCorpus, unrelated } from '../bench/synthetic.js';
+import { pieceOf } from '../helpers/corpus.js';
+
+const W = 16;
+const corpus = synthCorpus({ notes: 5_000, seed: 21 });
+const view: CorpusPoints = { mode: 'chromatic', pieces: corpus.map((_, i) => pieceOf(`p${i}.mid`, [])), points: corpus, size: corpus.flat().length };
+const index = corpusIndex(buildTriples(flattenPoints(view)));
+const exact = exactMatcher(view, W);
+
+/** A performance: a corpus passage played a fifth up from beat 100 of the session, a stretch of new material, then another passage with 20% of pitches off by a step. */
+function session(): Point[] {
+  const rand = seededRandom(4);
+  const from = (piece: number, beat: number, beats: number, at: number, transpose: number, alter: number): Point[] =>
+    corpus[piece]
+      .filter((p) => p.at >= toGrains(beat) && p.at < toGrains(beat + beats))
+      .map((p) => ({ at: p.at - toGrains(beat) + toGrains(at), pitch: p.pitch + transpose + (rand() < alter ? 1 : 0) }));
+  const fresh = unrelated(5, 24).map((p) => ({ at: p.at + toGrains(132), pitch: p.pitch }));
+  const all = [...from(1, 30, 32, 100, 7, 0), ...fresh, ...from(3, 8, 32, 156, -2, 0.2)].sort(comparePoints);
+  return all.filter((p, i) => i === 0 || comparePoints(all[i - 1], p) !== 0);
+}
+
+describe('streaming matches equal exact matches of the same window', () => {
+  it('after every note of a session, for the window of the last 16 beats', () => {
+    const stream = new StreamingMatch(index, { windowBeats: W });
+    const played = session();
+    let strong = 0;
+    for (const [n, p] of played.entries()) {
+      stream.add(p);
+      const start = p.at - toGrains(W) + 1;
+      stream.expire(start);
+      if (n % 6 !== 0) continue; // exact is slow; every sixth note is plenty
+      const window = played.slice(0, n + 1).filter((q) => q.at >= start);
+      expect(stream.size).toBe(window.length);
+      const e = exact.best(window, start);
+      const s = stream.best();
+      expect(s?.score ?? 0).toBeLessThanOrEqual(e?.score ?? 0);
+      if ((e?.score ?? 0) >= 0.5) {
+        strong++;
+        expect(s?.score).toBe(e!.score);
+      }
+    }
+    expect(strong).toBeGreaterThan(10);
+  });
+
+  it('a fresh stream fed a window equals the batch matcher on it', () => {
+    const batch = indexMatcher(index, W);
+    const played = session();
+    for (const startBeat of [100, 108, 116, 156, 164]) {
+      const start = toGrains(startBeat);
+      const window = played.filter((q) => q.at >= start && q.at < start + toGrains(W));
+      const stream = new StreamingMatch(index, { windowBeats: W });
+      for (const p of window) stream.add(p);
+      stream.expire(start);
+      const e = exact.best(window, start)!;
+      expect(e.score).toBeGreaterThanOrEqual(0.5);
+      expect(stream.best()).toEqual(batch.best(window, start));
+      expect(stream.best()!.score).toBe(e.score);
+    }
+  });
+
+  it('forgets everything it expired: an emptied window scores nothing, and a new passage scores as if fresh', () => {
+    const stream = new StreamingMatch(index, { windowBeats: W });
+    const played = session();
+    for (const p of played.filter((q) => q.at < toGrains(116))) stream.add(p);
+    stream.expire(toGrains(200));
+    expect(stream.size).toBe(0);
+    expect(stream.best()).toBeNull();
+    const later = played.filter((q) => q.at >= toGrains(100) && q.at < toGrains(116)).map((q) => ({ at: q.at + toGrains(100), pitch: q.pitch }));
+    const fresh = new StreamingMatch(index, { windowBeats: W });
+    fresh.expire(toGrains(200));
+    for (const p of later) {
+      stream.add(p);
+      fresh.add(p);
+    }
+    expect(stream.best()).toEqual(fresh.best());
+    expect(stream.best()!.score).toBe(1);
+  });
+
+  it('says what is wrong with out-of-order or out-of-range input', () => {
+    const stream = new StreamingMatch(index, { windowBeats: W });
+    stream.add({ at: toGrains(4), pitch: 60 });
+    expect(() => stream.add({ at: toGrains(3), pitch: 60 })).toThrow(/time order/);
+    expect(() => stream.add({ at: toGrains(5), pitch: 300 })).toThrow(/pitch of 0…255/);
+    stream.add({ at: toGrains(30), pitch: 62 });
+    expect(() => stream.best()).toThrow(/expire\(\) the older notes first/);
+    expect(() => new StreamingMatch(index, { windowBeats: 0 })).toThrow(/positive number of beats/);
+  });
+});
