@@ -6,6 +6,14 @@
  * Channel 10 (General MIDI percussion: drum sounds, not pitches) is left out
  * unless asked for. A key signature meta event, when present, decides the
  * spelling; otherwise the key is estimated from the notes.
+ *
+ * Damaged or hostile bytes are refused before the parser underneath sees
+ * them (it can loop forever on a negative length, and pairs notes in time
+ * quadratic in a track's note count): every error is a MidiFileError.
+ *
+ * @example
+ *   readMidi('songs/reel.mid').notes.length      // → 212
+ *   parseMidi(bytes, 'take-7.mid')               // throws MidiFileError: take-7.mid: the file is empty
  */
 import { readFileSync, statSync } from 'node:fs';
 import tonejs from '@tonejs/midi';
@@ -58,20 +66,82 @@ function keyOf(header: InstanceType<typeof Midi>['header'], notes: Note[]): { ke
 }
 
 /**
+ * Most Note On and Note Off events one track may hold: the parser
+ * underneath pairs them in time quadratic in their number (50,000 notes
+ * read in under 2 s, a million events would take hours), so a track past
+ * this is refused at once instead of stalling whoever reads it.
+ */
+export const MAX_TRACK_NOTE_EVENTS = 100_000;
+/** SMF 1.0: a variable-length quantity has at most 4 bytes (0x0FFFFFFF). */
+const MAX_VLQ_BYTES = 4;
+/** MIDI 1.0: data bytes after a channel status byte, by its high nibble (0x8–0xE). */
+const DATA_BYTES: Record<number, number> = { 0x8: 2, 0x9: 2, 0xa: 2, 0xb: 2, 0xc: 1, 0xd: 1, 0xe: 2 };
+
+/**
+ * Walks one MTrk's events as the parser underneath will, counting note
+ * events, and refuses what would hang it: a variable-length number over 4
+ * bytes (it decodes one of 5 as a negative length and reads the same bytes
+ * again, forever). Positions in messages are byte offsets in the file.
+ */
+function checkTrack(bytes: Uint8Array, start: number, end: number, where: string, file: string): void {
+  const damaged = (what: string): MidiFileError => new MidiFileError(file, `damaged MIDI data (${where}: ${what})`);
+  let at = start;
+  const vlq = (): number => {
+    const from = at;
+    let n = 0;
+    for (let k = 0; k < MAX_VLQ_BYTES && at < end; k++) {
+      const b = bytes[at++];
+      n = n * 128 + (b & 0x7f);
+      if (!(b & 0x80)) return n;
+    }
+    if (at - from < MAX_VLQ_BYTES) return n; // cut short by the end of the track: the parser stops there too
+    throw damaged(`the variable-length number at byte ${from} runs past the ${MAX_VLQ_BYTES} bytes SMF 1.0 allows`);
+  };
+  let status = 0;
+  let notes = 0;
+  while (at < end) {
+    vlq();
+    if (at >= end) break;
+    const b = bytes[at++];
+    if (b === 0xff || b === 0xf0 || b === 0xf7) {
+      if (b === 0xff) at++; // the meta event's type
+      const length = vlq(); // read first: it moves `at`
+      at += length;
+    } else if (b >= 0xf0) {
+      throw damaged(`byte ${at - 1} is 0x${b.toString(16)}, not an event a file may hold`);
+    } else {
+      // Running status: a data byte where a status byte would be repeats the last status (MIDI 1.0).
+      if (b & 0x80) status = b;
+      else if (status === 0) throw damaged(`byte ${at - 1} continues a running status before any status byte`);
+      at += DATA_BYTES[status >> 4] - (b & 0x80 ? 0 : 1);
+      if ((status >> 4 === 0x8 || status >> 4 === 0x9) && ++notes > MAX_TRACK_NOTE_EVENTS) {
+        throw new MidiFileError(file, `${where} holds more than ${MAX_TRACK_NOTE_EVENTS.toLocaleString('en')} note events (Note On and Note Off), the most a track may hold; split it into several tracks`);
+      }
+    }
+  }
+}
+
+/**
  * SMF 1.0 chunks are an id, a 32-bit length and that many bytes. The parser
  * underneath reads a chunk cut short by the end of the file, or a file with
  * fewer tracks than its header announces, as if it were whole, so a
- * truncated file would silently lose its tail: walk the chunks first.
+ * truncated file would silently lose its tail: walk the chunks first, and
+ * the events of each track (checkTrack).
  */
 function checkChunks(bytes: Uint8Array, file: string): void {
   const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
   const tracks = view.getUint16(10);
-  let at = 8 + view.getUint32(4);
+  const headerLength = view.getUint32(4);
+  if (headerLength < 6 || 8 + headerLength > bytes.length) {
+    throw new MidiFileError(file, `damaged MIDI data (the MThd header declares ${headerLength} bytes; SMF 1.0 gives it at least 6, and ${bytes.length - 8} follow)`);
+  }
+  let at = 8 + headerLength;
   for (let found = 0; found < tracks; found++) {
     if (at + 8 > bytes.length) throw new MidiFileError(file, `damaged MIDI data (the header announces ${tracks} track${tracks === 1 ? '' : 's'}, the file ends after ${found})`);
     const length = view.getUint32(at + 4);
     const left = bytes.length - at - 8;
     if (length > left) throw new MidiFileError(file, `damaged MIDI data (track ${found + 1} of ${tracks} is cut short: it declares ${length} bytes, ${left} follow)`);
+    if (view.getUint32(at) === 0x4d54726b) checkTrack(bytes, at + 8, at + 8 + length, `track ${found + 1} of ${tracks}`, file); // "MTrk"
     at += 8 + length;
   }
 }

@@ -2,10 +2,12 @@
 import { Command, CommanderError } from 'commander';
 import { registerReport } from './commands/report.js';
 import { registerCorpus } from './commands/corpus.js';
+import { registerCheck } from './commands/check.js';
+import { registerDemo } from './commands/demo.js';
 import { registerListen } from './commands/listen.js';
 import { registerReview } from './commands/review.js';
 import { registerScore } from './commands/score.js';
-import { EXIT, UsageError } from './usage.js';
+import { EXIT, Outcome, UsageError } from './usage.js';
 
 export function program(): Command {
   const cli = new Command('earwitness')
@@ -22,6 +24,8 @@ A similarity score is evidence for a musician's judgement, not a legal finding.`
   registerCorpus(cli);
   registerListen(cli);
   registerReview(cli);
+  registerCheck(cli);
+  registerDemo(cli);
   return cli;
 }
 
@@ -38,6 +42,7 @@ export async function run(argv: string[]): Promise<number> {
     return EXIT.ok;
   } catch (e) {
     if (e instanceof CommanderError) return e.exitCode === 0 ? EXIT.ok : EXIT.usage;
+    if (e instanceof Outcome) return e.code;
     const known = e instanceof UsageError || (e as Error).name === 'MidiFileError' || e instanceof RangeError;
     process.stderr.write(`earwitness: ${(e as Error).message}\n`);
     if (!known) process.stderr.write(`${(e as Error).stack}\n`);

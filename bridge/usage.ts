@@ -15,6 +15,14 @@ export class UsageError extends Error {
   }
 }
 
+/** Thrown by a command once it has printed its result, when that result has an exit code of its own (check: below the bar). */
+export class Outcome extends Error {
+  constructor(readonly code: number, message: string) {
+    super(message);
+    this.name = 'Outcome';
+  }
+}
+
 export function parseNumber(name: string, value: string, check: (n: number) => boolean = Number.isFinite, what = 'a number'): number {
   const n = Number(value);
   if (value.trim() === '' || !check(n)) throw new UsageError(`${name} must be ${what}, got "${value}"`);

@@ -9,9 +9,8 @@
  * of that translation, never more than the window's exact best, and equal to
  * it whenever the best translation was among those verified.
  *
- * Windows of at most four points are scored by an exact scan over the flat
- * corpus instead: two points in common already score 0.5 there, and the
- * filter needs three.
+ * Windows of at most eight points are scanned instead (scanBest): a match of
+ * 0.5 there needs only two to four points in common, too few for triples.
  *
  * @example
  *   const m = indexMatcher(corpusIndex(postings), 16);
@@ -37,10 +36,12 @@ export interface FilterSettings {
 export const DEFAULT_FILTER: FilterSettings = { queryPartners: 3, voteBudget: 2_000, minTriples: 6, candidates: 16 };
 
 /**
- * Windows with at most this many points are scanned exactly: two points in
- * common already score 0.5 there, and two points make no triple.
+ * Windows with at most this many points are scanned (scanBest): a match of
+ * 0.5 there needs only two to four points in common, too few for triples to
+ * be sure of finding it, and its excerpt holds at most 16 points, which only
+ * sparse stretches of a corpus do.
  */
-export const SCAN_POINTS = 4;
+export const SCAN_POINTS = 8;
 
 /** The key of the triple (a, b, c) of a sorted point run. */
 export const keyOf = (points: readonly Point[], a: number, b: number, c: number): number =>
@@ -79,47 +80,36 @@ export function verifyTop(index: CorpusIndex, votes: VoteTable, window: readonly
 }
 
 /**
- * Exact best of a window by trying every translation that puts one window
- * point on one corpus point. Excerpt bounds and lookups move forward with the
- * corpus point, so a piece costs its length times |window|², fine for the
- * tiny windows it serves.
+ * The best match of a window too small for the filter, exact wherever it
+ * scores ≥ 0.5. Such a match puts a window point on a corpus point c whose
+ * excerpt holds at most twice the window's points; every W-beat span around
+ * c covers a half-window on one side of it, so a corpus point with more than
+ * that on both sides is passed over in one linear sweep, and only the few
+ * left (near the ends of pieces, in sparse passages) are verified with each
+ * window point on them. Below 0.5 the answer may fall short of the exact one.
  */
 export function scanBest(index: CorpusIndex, window: readonly Point[], startGrains: number, windowGrains: number, exclude?: number): WindowMatch | null {
   const { at, pitch, offsets } = index.points;
+  const most = 2 * window.length;
+  const half = Math.floor(windowGrains / 2);
   let best: WindowMatch | null = null;
-  const ptr = new Int32Array(window.length);
   for (let piece = 0; piece < index.pieces; piece++) {
     if (piece === exclude) continue;
-    const first = offsets[piece];
     const end = offsets[piece + 1];
-    for (const [u, anchor] of window.entries()) {
-      let lo = first;
-      let hi = first;
-      ptr.fill(first);
-      for (let c = first; c < end; c++) {
-        const shift = anchor.at - at[c];
-        const dp = anchor.pitch - pitch[c];
-        const from = startGrains - shift;
-        while (lo < end && at[lo] < from) lo++;
-        while (hi < end && at[hi] < from + windowGrains) hi++;
-        let matched = 0;
-        for (let v = 0; v < window.length; v++) {
-          if (v === u) {
-            matched++;
-            continue;
-          }
-          const t = window[v].at - shift;
-          const p = window[v].pitch - dp;
-          let q = ptr[v];
-          while (q < end && at[q] < t) q++;
-          ptr[v] = q;
-          while (q < end && at[q] === t && pitch[q] < p) q++;
-          if (q < end && at[q] === t && pitch[q] === p) matched++;
-        }
-        const excerptNotes = hi - lo;
-        const score = matched / Math.max(window.length, excerptNotes);
-        if (best && score < best.score) continue;
-        const m = { piece, pieceStart: from / GRAINS_PER_BEAT, transposition: dp, matched, excerptNotes, score };
+    let from = offsets[piece];
+    let to = from;
+    let groupStart = from;
+    let groupEnd = from;
+    for (let c = offsets[piece]; c < end; c++) {
+      if (c >= groupEnd) {
+        groupStart = c;
+        for (groupEnd = c; groupEnd < end && at[groupEnd] === at[c]; groupEnd++);
+      }
+      while (at[from] < at[c] - half) from++;
+      while (to < end && at[to] <= at[c] + half) to++;
+      if (Math.min(groupEnd - from, to - groupStart) > most) continue;
+      for (const w of window) {
+        const m = verifyShift(index, window, startGrains, windowGrains, piece, w.at - at[c], w.pitch - pitch[c]);
         if (betterMatch(m, best)) best = m;
       }
     }

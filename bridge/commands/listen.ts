@@ -5,11 +5,13 @@
  * @example
  *   earwitness listen --corpus presets/demo/corpus --preset jam
  *   earwitness listen --corpus ./training-set --preset livecode --threshold 0.8 --osc-out 127.0.0.1:9752
+ *   earwitness listen --corpus presets/demo/corpus --host 0.0.0.0 --token stage-left-0427   # the overlay on a tablet
  *   earwitness ports
  */
 import type { Command } from 'commander';
 import { CAUTION } from '../../core/report.js';
 import { startDaemon } from '../daemon/daemon.js';
+import { DEFAULT_HOST, checkExposure, isWildcard } from '../daemon/access.js';
 import { listPorts } from '../daemon/midi-input.js';
 import { parseOscTarget } from '../daemon/osc-output.js';
 import { defaultLogFile } from '../paths.js';
@@ -22,7 +24,24 @@ export const DEFAULT_HTTP_PORT = 9751;
 /** Longest a stop may take before the process exits regardless (the log is closed first). */
 const STOP_LIMIT_MS = 1500;
 
-const portNumber = (flag: string) => (v: string) => parseNumber(flag, v, (n) => Number.isInteger(n) && n >= 0 && n <= 65535, 'a port number from 0 (any free port) to 65535');
+export const portNumber = (flag: string) => (v: string) => parseNumber(flag, v, (n) => Number.isInteger(n) && n >= 0 && n <= 65535, 'a port number from 0 (any free port) to 65535');
+
+/** On SIGINT or SIGTERM: say `saying` on stderr, run `stop`, exit 0; after STOP_LIMIT_MS, exit regardless. */
+export function stopOnSignals(saying: string, stop: () => Promise<void>): void {
+  const onSignal = (signal: string): void => {
+    process.stderr.write(`earwitness: ${signal}: ${saying}\n`);
+    setTimeout(() => process.exit(0), STOP_LIMIT_MS).unref();
+    stop().then(
+      () => process.exit(0),
+      (e: Error) => {
+        process.stderr.write(`earwitness: while stopping: ${e.message}\n`);
+        process.exit(0);
+      },
+    );
+  };
+  process.once('SIGINT', () => onSignal('SIGINT'));
+  process.once('SIGTERM', () => onSignal('SIGTERM'));
+}
 
 function channelList(v: string): Set<number> {
   const parts = v.split(',').map((s) => s.trim());
@@ -37,6 +56,8 @@ interface ListenFlags extends Overrides {
   preset: string;
   oscPort: number;
   httpPort: number;
+  host: string;
+  token?: string;
   oscOut?: string;
   midiIn?: string;
   thru?: string;
@@ -63,13 +84,16 @@ export function registerListen(cli: Command): void {
     .option('--warn', 'raise warnings (overrides the preset)')
     .option('--no-warn', 'log and score only, no warnings (overrides the preset)')
     .option('--osc-port <port>', 'UDP port for OSC in, on 127.0.0.1 (0 = any free port)', portNumber('--osc-port'), DEFAULT_OSC_PORT)
-    .option('--http-port <port>', 'port of the overlay, /health and /events, on 127.0.0.1 (0 = any free port)', portNumber('--http-port'), DEFAULT_HTTP_PORT)
+    .option('--http-port <port>', 'port of the overlay, /health and /events, on --host (0 = any free port)', portNumber('--http-port'), DEFAULT_HTTP_PORT)
+    .option('--host <addr>', 'address of the overlay, /health and /events: 127.0.0.1 is this machine only; any other (0.0.0.0 = all) needs --token. OSC in stays on 127.0.0.1', DEFAULT_HOST)
+    .option('--token <secret>', 'a secret every request to the overlay, /health and /events must then carry (?token=SECRET, or Authorization: Bearer SECRET)')
     .option('--osc-out <host:port>', 'also send /ew/warning and /ew/score there')
     .option('--midi-in <name>', 'MIDI input port to open (default: a virtual port "earwitness in"; see earwitness ports)')
     .option('--thru <name>', 'forward MIDI input to this output port')
     .option('--channels <list>', 'MIDI channels to hear, 1–16, as in 1,2 (default: all)', channelList)
     .option('--log <file>', `session log (default: ${defaultLogFile()})`)
     .action(async (o: ListenFlags) => {
+      checkExposure(o.host, o.token ?? null);
       const chosen = withOverrides(loadPreset(o.preset), {
         input: o.input, window: o.window, bpm: o.bpm, threshold: o.threshold, minNotes: o.minNotes,
         consecutive: o.consecutive, hysteresis: o.hysteresis, grid: o.grid, warn: o.warn,
@@ -82,6 +106,8 @@ export function registerListen(cli: Command): void {
         preset,
         oscPort: o.oscPort,
         httpPort: o.httpPort,
+        host: o.host,
+        token: o.token ?? null,
         oscOut: o.oscOut === undefined ? null : parseOscTarget(o.oscOut),
         midi: { input: o.midiIn ?? null, thru: o.thru ?? null, channels: o.channels ?? null },
         log,
@@ -98,29 +124,17 @@ export function registerListen(cli: Command): void {
         `preset: ${preset.name} — ${preset.description} (window ${preset.window} beats, threshold ${preset.threshold}${chosen.threshold === 'auto' ? ' (auto: the corpus baseline\'s p99)' : ''}, tolerance ${preset.tolerance} beat, min distinctiveness ${preset.minDistinctiveness}, ${preset.minNotes} notes, ${preset.consecutive} in a row, hysteresis ${preset.hysteresis}, ${preset.warn ? 'warnings on' : 'no warnings'})`,
         midiLine,
         s.osc ? `OSC: udp 127.0.0.1:${s.osc.port} (/ew/note, /ew/on, /ew/off, /ew/tempo, /ew/beat, /ew/reset)` : 'OSC: not listening (the preset listens to MIDI only)',
-        `overlay: ${s.http.url}`,
+        `overlay: ${s.http.url}${o.token ? `?token=${o.token}` : ''}${isWildcard(o.host) ? ' (and on every other address of this machine)' : ''}`,
         `log: ${s.log.file} (session ${s.log.session})`,
         `listening osc=${s.osc?.port ?? 0} http=${s.http.port}`,
         'Ctrl-C stops.',
       ];
       process.stdout.write(lines.join('\n') + '\n');
 
-      const stop = (signal: string): void => {
-        process.stderr.write(`earwitness: ${signal}: stopping; session ${s.log.session} is saved in ${s.log.file}\n`);
-        setTimeout(() => process.exit(0), STOP_LIMIT_MS).unref();
-        daemon.stop().then(
-          () => process.exit(0),
-          (e: Error) => {
-            process.stderr.write(`earwitness: while stopping: ${e.message}\n`);
-            process.exit(0);
-          },
-        );
-      };
       // A closed terminal or pipe must not end the session: what cannot be printed is dropped, the daemon carries on.
       process.stdout.on('error', () => {});
       process.stderr.on('error', () => {});
-      process.once('SIGINT', () => stop('SIGINT'));
-      process.once('SIGTERM', () => stop('SIGTERM'));
+      stopOnSignals(`stopping; session ${s.log.session} is saved in ${s.log.file}`, () => daemon.stop());
     });
 
   cli

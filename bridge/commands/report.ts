@@ -2,9 +2,11 @@ import { writeFileSync } from 'node:fs';
 import type { Command } from 'commander';
 import type { PitchMode } from '../../core/note.js';
 import { type MatchMode, modeMatcher } from '../../core/match-mode.js';
-import { humanBaseline, originalityReport } from '../../core/report.js';
+import { type Baseline, type OriginalityReport, type QueryInput, humanBaseline, originalityReport } from '../../core/report.js';
+import type { CorpusPoints } from '../../core/corpus.js';
+import type { WindowMatcher } from '../../core/match.js';
 import { loadQueries } from '../corpus-files.js';
-import { openCorpus } from '../open-corpus.js';
+import { type OpenedCorpus, openCorpus } from '../open-corpus.js';
 import { type BaselineFile, checkBaselineFits, readBaselineFile } from '../baseline-file.js';
 import { writeReportHtml } from '../html/report-page.js';
 import { hopOption, pitchOption, printJson, tempoFreeOption, toleranceOption, windowOption } from '../options.js';
@@ -12,7 +14,8 @@ import { progressBar } from '../progress.js';
 import { baselineText, reportCsv, reportText } from '../report-text.js';
 import { UsageError, wholeNumber } from '../usage.js';
 
-interface CorpusFlags {
+/** The flags of every command that scores against a corpus (report, baseline, check). */
+export interface CorpusFlags {
   corpus: string;
   window: number;
   hop: number;
@@ -25,9 +28,9 @@ interface CorpusFlags {
   exact?: boolean;
 }
 
-const modeOf = (o: CorpusFlags): MatchMode => ({ tolerance: o.tolerance, tempoFree: o.tempoFree ?? false });
+export const modeOf = (o: CorpusFlags): MatchMode => ({ tolerance: o.tolerance, tempoFree: o.tempoFree ?? false });
 
-const corpusCommand = (cli: Command, name: string, description: string): Command =>
+export const corpusCommand = (cli: Command, name: string, description: string): Command =>
   cli
     .command(name)
     .description(description)
@@ -41,6 +44,37 @@ const corpusCommand = (cli: Command, name: string, description: string): Command
     .option('--percussion', 'keep channel 10 (percussion)')
     .option('--json', 'print JSON');
 
+/** The matcher the batch commands score with: the corpus's own (its index's unless --exact), in the chosen matching mode. */
+const matcherOf = (opened: OpenedCorpus, view: CorpusPoints, o: CorpusFlags): WindowMatcher =>
+  modeMatcher(view, o.window, modeOf(o), opened.matcher(view, o.window, o.exact));
+
+/** Reads the query files: each unreadable one is named on stderr and listed; none readable at all is an error. */
+export function readQueries(paths: string[], o: CorpusFlags): ReturnType<typeof loadQueries> {
+  const read = loadQueries(paths, o);
+  for (const s of read.skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
+  if (read.queries.length === 0) throw new UsageError(`no readable query file among ${paths.join(', ')}`);
+  return read;
+}
+
+/** Every window of every query scored against the corpus: the report, and what `check` judges. */
+export function scoreQueries(opened: OpenedCorpus, queries: QueryInput[], o: CorpusFlags): { view: CorpusPoints; report: OriginalityReport } {
+  const view = opened.view(o.pitch);
+  const bar = progressBar('scoring');
+  const report = originalityReport(queries, view, matcherOf(opened, view, o), o, bar.tick);
+  bar.stop();
+  return { view, report };
+}
+
+/** The corpus's human baseline: what `baseline` prints, and what `check --against-baseline` computes when none is stored. */
+export function computeBaseline(opened: OpenedCorpus, o: CorpusFlags & { samples: number }): Baseline {
+  if (o.samples < 1) throw new UsageError('--samples must be at least 1');
+  const view = opened.view(o.pitch);
+  const bar = progressBar('baseline');
+  const b = humanBaseline(view, matcherOf(opened, view, o), o, bar.tick);
+  bar.stop();
+  return b;
+}
+
 export function registerReport(cli: Command): void {
   corpusCommand(cli, 'report', 'originality report of MIDI files (or folders of them) against a corpus')
     .argument('<query...>', 'MIDI files or folders')
@@ -51,13 +85,8 @@ export function registerReport(cli: Command): void {
     .action((paths: string[], o: CorpusFlags & { csv?: string; html?: string; baseline?: BaselineFile }) => {
       if (o.baseline) checkBaselineFits(o.baseline, { ...o, mode: modeOf(o) });
       const opened = openCorpus(o.corpus, o);
-      const { queries, skipped } = loadQueries(paths, o);
-      for (const s of skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
-      if (queries.length === 0) throw new UsageError(`no readable query file among ${paths.join(', ')}`);
-      const view = opened.view(o.pitch);
-      const bar = progressBar('scoring');
-      const report = originalityReport(queries, view, modeMatcher(view, o.window, modeOf(o), opened.matcher(view, o.window, o.exact)), o, bar.tick);
-      bar.stop();
+      const { queries, skipped } = readQueries(paths, o);
+      const { view, report } = scoreQueries(opened, queries, o);
       if (o.csv) writeFileSync(o.csv, reportCsv(report));
       if (o.html) writeReportHtml(o.html, { report, queries, corpus: view, source: o.corpus, mode: modeOf(o), baseline: o.baseline ?? null });
       if (o.json) printJson({ ...report, mode: modeOf(o), skipped });
@@ -68,12 +97,7 @@ export function registerReport(cli: Command): void {
     .option('--samples <n>', 'how many pieces to sample', wholeNumber('--samples'), 50)
     .option('--seed <n>', 'seed of the sample and the bootstrap', wholeNumber('--seed'), 1)
     .action((o: CorpusFlags & { samples: number }) => {
-      if (o.samples < 1) throw new UsageError('--samples must be at least 1');
-      const opened = openCorpus(o.corpus, o);
-      const view = opened.view(o.pitch);
-      const bar = progressBar('baseline');
-      const b = humanBaseline(view, modeMatcher(view, o.window, modeOf(o), opened.matcher(view, o.window, o.exact)), o, bar.tick);
-      bar.stop();
+      const b = computeBaseline(openCorpus(o.corpus, o), o);
       if (o.json) printJson({ ...b, mode: modeOf(o) });
       else process.stdout.write(baselineText(b) + '\n');
     });

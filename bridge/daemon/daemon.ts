@@ -32,6 +32,7 @@ import { type OscInput, openOscInput } from './osc-input.js';
 import { type OscOutput, type OscTarget, openOscOutput } from './osc-output.js';
 import { packageRoot, packageVersion } from './package-root.js';
 import { type CorpusSummary, type Scorer, startScorer } from './scorer.js';
+import { watchIndexFile } from './index-watch.js';
 import { type WebServer, startWebServer } from './web-server.js';
 
 export interface DaemonOptions {
@@ -40,6 +41,10 @@ export interface DaemonOptions {
   preset: LivePreset;
   oscPort: number;
   httpPort: number;
+  /** Address of the web side; default 127.0.0.1 (access.ts: another needs `token`). */
+  host?: string;
+  /** Asked of every web request when given. */
+  token?: string | null;
   oscOut: OscTarget | null;
   midi: { input: string | null; thru: string | null; channels: ReadonlySet<number> | null };
   log: string;
@@ -173,6 +178,8 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     throw e;
   }
   cleanup.push(() => scorer.close());
+  const indexWatch = watchIndexFile(corpus, notice);
+  cleanup.push(() => indexWatch.close());
 
   /** A note is whole: log it and show it. */
   const finish = (note: LiveNote, receivedAt: number): void => {
@@ -306,13 +313,14 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     oscOutFailures: oscOut?.failures() ?? 0,
     clock: { source: clock.source, running: clock.running, beat: beatAt(clock, Date.now()), bpm: clock.bpm },
     corpus,
+    corpusIndex: indexWatch.file === null ? null : { file: indexWatch.file, onDisk: indexWatch.onDisk() },
     preset: preset.name,
     midi,
     osc: { port: osc?.port ?? 0 },
   });
 
   try {
-    web = await startWebServer({ port: options.httpPort, uiDir: options.uiDir ?? join(packageRoot(), 'ui', 'dist'), hello, health });
+    web = await startWebServer({ port: options.httpPort, host: options.host, token: options.token, uiDir: options.uiDir ?? join(packageRoot(), 'ui', 'dist'), hello, health });
   } catch (e) {
     await undo();
     throw e;

@@ -13,6 +13,9 @@
  *   const input = await openOscInput({ port: 9750, onCommand: (cmd, atMs) => daemon.handle(cmd, atMs), onBad: count });
  *   input.port    // → 9750 (the port bound, when 0 was asked for)
  *   await input.close();
+ *
+ *   const reader = oscReader({ onCommand, onBad });   // the same, without a socket (tests)
+ *   reader.read(packetBytes, '127.0.0.1:50000');
  */
 import { createSocket } from 'node:dgram';
 import osc, { type OscBundle, type OscMessage } from 'osc';
@@ -29,11 +32,24 @@ export const MAX_SCHEDULED = 4096;
 /** Deepest nesting of bundles read. */
 const MAX_DEPTH = 8;
 
-export interface OscInputOptions {
-  port: number;
+export interface OscReaderOptions {
   onCommand(command: InputCommand, atMs: number): void;
   onBad(bad: BadInput): void;
   now?: () => number;
+}
+
+export interface OscInputOptions extends OscReaderOptions {
+  port: number;
+}
+
+/** What the socket does with each packet, apart from the socket. */
+export interface OscReader {
+  /** One UDP payload; `from` names the sender in messages. */
+  read(data: Uint8Array, from: string): void;
+  /** Messages waiting for their time tags. */
+  scheduled(): number;
+  /** Drops whatever is waiting. */
+  clear(): void;
 }
 
 export interface OscInput {
@@ -45,10 +61,9 @@ export interface OscInput {
 
 const isBundle = (p: OscMessage | OscBundle): p is OscBundle => 'packets' in p;
 
-export async function openOscInput(options: OscInputOptions): Promise<OscInput> {
+export function oscReader(options: OscReaderOptions): OscReader {
   const now = options.now ?? Date.now;
   const timers = new Set<NodeJS.Timeout>();
-  const socket = createSocket('udp4');
 
   const deliver = (message: OscMessage, atMs: number): void => {
     const decoded = decodeMessage(message.address, message.args);
@@ -76,16 +91,29 @@ export async function openOscInput(options: OscInputOptions): Promise<OscInput> 
     for (const p of packet.packets) walk(p, at, depth + 1);
   };
 
-  socket.on('message', (data, from) => {
-    if (data.length > MAX_OSC_PACKET) return options.onBad({ kind: 'oversized', detail: `a ${data.length}-byte packet from ${from.address}:${from.port}; at most ${MAX_OSC_PACKET} bytes are read` });
-    let packet: OscMessage | OscBundle;
-    try {
-      packet = osc.readPacket(data, { metadata: true, unpackSingleArgs: false });
-    } catch (e) {
-      return options.onBad({ kind: 'malformed', detail: `an undecodable packet from ${from.address}:${from.port} (${(e as Error).message.slice(0, 120)})` });
-    }
-    walk(packet, now(), 0);
-  });
+  return {
+    read(data, from) {
+      if (data.length > MAX_OSC_PACKET) return options.onBad({ kind: 'oversized', detail: `a ${data.length}-byte packet from ${from}; at most ${MAX_OSC_PACKET} bytes are read` });
+      let packet: OscMessage | OscBundle;
+      try {
+        packet = osc.readPacket(data, { metadata: true, unpackSingleArgs: false });
+      } catch (e) {
+        return options.onBad({ kind: 'malformed', detail: `an undecodable packet from ${from} (${(e as Error).message.slice(0, 120)})` });
+      }
+      walk(packet, now(), 0);
+    },
+    scheduled: () => timers.size,
+    clear() {
+      for (const t of timers) clearTimeout(t);
+      timers.clear();
+    },
+  };
+}
+
+export async function openOscInput(options: OscInputOptions): Promise<OscInput> {
+  const reader = oscReader(options);
+  const socket = createSocket('udp4');
+  socket.on('message', (data, from) => reader.read(data, `${from.address}:${from.port}`));
 
   await new Promise<void>((resolve, reject) => {
     socket.once('error', (e: NodeJS.ErrnoException) =>
@@ -98,11 +126,10 @@ export async function openOscInput(options: OscInputOptions): Promise<OscInput> 
 
   return {
     port: socket.address().port,
-    scheduled: () => timers.size,
+    scheduled: reader.scheduled,
     close: () =>
       new Promise<void>((resolve) => {
-        for (const t of timers) clearTimeout(t);
-        timers.clear();
+        reader.clear();
         socket.close(() => resolve());
       }),
   };

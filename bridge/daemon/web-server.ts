@@ -1,5 +1,7 @@
 /**
- * The daemon's web side, on 127.0.0.1 only: `GET /` the overlay (from
+ * The daemon's web side, on 127.0.0.1 unless told otherwise (access.ts:
+ * another address needs a token, and a token given is always asked for):
+ * `GET /` the overlay (from
  * ui/dist, or a plain placeholder page until it is built), `GET /health`
  * the counters as JSON, and the WebSocket `/events` pushing DaemonEvents.
  *
@@ -7,7 +9,8 @@
  * browser, so: a WebSocket handshake whose Origin is present and not this
  * daemon's page is refused (RFC 6455 §10.2 leaves that decision to the
  * server), and any request whose Host is not this daemon's (DNS rebinding)
- * is refused too. Requests are small by construction — no bodies, short
+ * is refused too (listening on every address, 0.0.0.0, any Host is
+ * answered: the token guards it). Requests are small by construction — no bodies, short
  * URLs, a few clients, incoming WebSocket messages capped (clients need not
  * send anything) — and a client too slow to keep up is let go (it
  * reconnects and gets a fresh `hello` with the recent history).
@@ -27,6 +30,7 @@ import { WebSocketServer, type WebSocket } from 'ws';
 import type { DaemonEvent, HelloEvent } from '../events.js';
 import { CAUTION } from '../../core/report.js';
 import { contentType, staticFile } from './static-files.js';
+import { DEFAULT_HOST, isWildcard, tokenGate, urlHost } from './access.js';
 import { UsageError } from '../usage.js';
 
 export const MAX_URL_LENGTH = 2048;
@@ -38,6 +42,10 @@ export const MAX_CLIENT_BACKLOG = 1 << 20;
 
 export interface WebServerOptions {
   port: number;
+  /** Address to listen on; default 127.0.0.1. */
+  host?: string;
+  /** Asked of every request when given. */
+  token?: string | null;
   uiDir: string;
   hello(): HelloEvent;
   health(): Record<string, unknown>;
@@ -69,8 +77,12 @@ const escapeHtml = (s: string): string => s.replace(/[&<>]/g, (c) => ({ '&': '&a
 export async function startWebServer(options: WebServerOptions): Promise<WebServer> {
   let port = options.port;
   let slow = 0;
-  const ownHosts = (): Set<string> => new Set([`127.0.0.1:${port}`, `localhost:${port}`]);
+  const host = options.host ?? DEFAULT_HOST;
+  const gate = tokenGate(options.token ?? null);
+  const ownHosts = (): Set<string> => new Set([`127.0.0.1:${port}`, `localhost:${port}`, `${urlHost(host)}:${port}`]);
   const ownOrigins = (): Set<string> => new Set([...ownHosts()].map((h) => `http://${h}`));
+  const hostAllowed = (h: string | undefined): boolean => isWildcard(host) || ownHosts().has(h ?? '');
+  const unauthorized = `this daemon asks for its --token: open the overlay as http://${urlHost(isWildcard(host) ? DEFAULT_HOST : host)}:PORT/?token=…, or send the header "Authorization: Bearer …"`;
   const wss = new WebSocketServer({ noServer: true, maxPayload: MAX_CLIENT_MESSAGE });
 
   const send = (res: ServerResponse, status: number, type: string, body: string | Buffer, head: boolean, extra: Record<string, string> = {}): void => {
@@ -82,7 +94,8 @@ export async function startWebServer(options: WebServerOptions): Promise<WebServ
   const handle = async (req: IncomingMessage, res: ServerResponse): Promise<void> => {
     const url = req.url ?? '/';
     if (url.length > MAX_URL_LENGTH) return text(res, 414, `request URL over ${MAX_URL_LENGTH} characters`);
-    if (!ownHosts().has(req.headers.host ?? '')) return text(res, 421, `this daemon answers to 127.0.0.1:${port} or localhost:${port} only`);
+    if (!hostAllowed(req.headers.host)) return text(res, 421, `this daemon answers to ${[...ownHosts()].join(', ')} only`);
+    if (!gate.allows(req, port)) return text(res, 401, unauthorized.replace('PORT', String(port)), { 'www-authenticate': 'Bearer realm="earwitness"' });
     if (req.method !== 'GET' && req.method !== 'HEAD') return text(res, 405, 'only GET and HEAD', { allow: 'GET, HEAD' });
     if (Number(req.headers['content-length'] ?? 0) > 0 || req.headers['transfer-encoding']) return text(res, 413, 'requests to this daemon carry no body');
     const head = req.method === 'HEAD';
@@ -94,7 +107,9 @@ export async function startWebServer(options: WebServerOptions): Promise<WebServ
     }
     const file = staticFile(options.uiDir, path);
     if (!file) return text(res, 404, 'not found');
-    send(res, 200, contentType(file), await readFile(file), head);
+    // The page's own script and style cannot carry ?token=: the cookie carries it for them.
+    const cookie = gate.cookie(req, port);
+    send(res, 200, contentType(file), await readFile(file), head, cookie ? { 'set-cookie': cookie } : {});
   };
 
   const refuse = (socket: Duplex, status: number, reason: string): void => {
@@ -110,9 +125,10 @@ export async function startWebServer(options: WebServerOptions): Promise<WebServ
   server.on('upgrade', (req, socket, head) => {
     const origin = req.headers.origin;
     if ((req.url ?? '').split('?')[0] !== '/events') return refuse(socket, 404, 'Not Found');
-    if (!ownHosts().has(req.headers.host ?? '')) return refuse(socket, 421, 'Misdirected Request');
+    if (!hostAllowed(req.headers.host)) return refuse(socket, 421, 'Misdirected Request');
     // RFC 6455 §10.2: a browser names the page that opened the socket; only our own page may listen.
-    if (origin !== undefined && !ownOrigins().has(origin)) return refuse(socket, 403, 'Forbidden');
+    if (origin !== undefined && origin !== `http://${req.headers.host}` && !ownOrigins().has(origin)) return refuse(socket, 403, 'Forbidden');
+    if (!gate.allows(req, port)) return refuse(socket, 401, 'Unauthorized');
     if (wss.clients.size >= MAX_CLIENTS) return refuse(socket, 503, 'Service Unavailable');
     wss.handleUpgrade(req, socket, head, (ws: WebSocket) => {
       ws.on('error', () => ws.terminate());
@@ -123,15 +139,15 @@ export async function startWebServer(options: WebServerOptions): Promise<WebServ
 
   await new Promise<void>((resolve, reject) => {
     server.once('error', (e: NodeJS.ErrnoException) =>
-      reject(new UsageError(`--http-port ${options.port}: cannot listen on 127.0.0.1 (${e.code === 'EADDRINUSE' ? 'the port is in use; choose another, or 0 for any free one' : e.message})`)),
+      reject(new UsageError(`--http-port ${options.port}: cannot listen on ${host} (${e.code === 'EADDRINUSE' ? 'the port is in use; choose another, or 0 for any free one' : e.message})`)),
     );
-    server.listen(options.port, '127.0.0.1', () => resolve());
+    server.listen(options.port, host, () => resolve());
   });
   port = (server.address() as AddressInfo).port;
 
   return {
     port,
-    url: `http://127.0.0.1:${port}/`,
+    url: `http://${urlHost(isWildcard(host) ? DEFAULT_HOST : host)}:${port}/`,
     broadcast(e) {
       const data = JSON.stringify(e);
       for (const ws of wss.clients) {

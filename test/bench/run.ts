@@ -24,7 +24,8 @@
  *   // …tables…
  *   // {"quick":true,"rows":[{"corpus":"synthetic 100k","mode":"exact","notes":100123,...}, ...]}
  */
-import { mkdtempSync, rmSync, statSync, existsSync, readFileSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
 import { loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { type Point, comparePoints, toGrains } from '../../core/note.js';
@@ -33,7 +34,7 @@ import { type WindowMatcher, exactMatcher } from '../../core/match.js';
 import { windows } from '../../core/windows.js';
 import { percentile, seededRandom } from '../../core/stats.js';
 import { type FlatNotes, notePoints } from '../../core/flat-notes.js';
-import { type FlatPoints, CORPUS_TRIPLES, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
+import { type FlatPoints, CORPUS_TRIPLES, buildTriples, corpusIndex, flattenPoints, piecePoints } from '../../core/triple-index.js';
 import { DEFAULT_FILTER, indexMatcher } from '../../core/index-match.js';
 import { StreamingMatch } from '../../core/stream.js';
 import { readIndexFile, writeIndexFile } from '../../bridge/index-file.js';
@@ -140,24 +141,52 @@ function notesOfPoints(flat: FlatPoints): FlatNotes {
   };
 }
 
-function benchCorpus(name: string, corpus: Point[][], options: { perKind: number; exactSeconds: number }): BenchRow {
-  const view: CorpusPoints = { mode: 'chromatic', pieces: corpus.map((_, i) => ({ path: `p${i}.mid`, title: null, beats: 0, key: { tonic: 'C', mode: 'major', fifths: 0, correlation: 0 }, notes: [] })), points: corpus, size: 0 };
+const pieceInfo = (i: number): CorpusPoints['pieces'][number] => ({ path: `p${i}.mid`, title: null, beats: 0, key: { tonic: 'C', mode: 'major', fifths: 0, correlation: 0 }, notes: [] });
+
+/** The corpus as flat notes, and the queries cut from it; the Point objects are left behind so they cannot slow what follows. */
+function prepare(make: () => Point[][], perKind: number): { notes: FlatNotes; pieces: number; played: Point[][]; probes: Probe[] } {
+  const corpus = make();
+  const notes = notesOfPoints(flattenPoints({ mode: 'chromatic', pieces: corpus.map((_, i) => pieceInfo(i)), points: corpus }));
+  return { notes, pieces: corpus.length, ...queries(corpus, perKind, 7) };
+}
+
+/** Seconds a fresh process takes to load the index (chromatic postings) ready to match, as `--corpus FILE` does. */
+function freshLoadSeconds(file: string): number {
+  const dist = join(import.meta.dirname, '../..');
+  const script = `
+    const { readIndexFile } = await import(${JSON.stringify(join(dist, 'bridge/index-file.js'))});
+    const { notePoints } = await import(${JSON.stringify(join(dist, 'core/flat-notes.js'))});
+    const { corpusIndex } = await import(${JSON.stringify(join(dist, 'core/triple-index.js'))});
+    const t = performance.now();
+    const read = readIndexFile(${JSON.stringify(file)}, ['chromatic']);
+    corpusIndex({ ...read.postings.chromatic, points: notePoints(read.notes, 'chromatic'), shape: read.shape });
+    process.stdout.write(String((performance.now() - t) / 1000));`;
+  const r = spawnSync(process.execPath, ['--input-type=module', '-e', script], { encoding: 'utf8' });
+  if (r.status !== 0) throw new Error(`loading ${file} in a fresh process failed: ${r.stderr}`);
+  return Number(r.stdout);
+}
+
+function benchCorpus(name: string, make: () => Point[][], options: { perKind: number; exactSeconds: number }): BenchRow {
+  const { notes, pieces, played, probes } = prepare(make, options.perKind);
   const dir = mkdtempSync(join(tmpdir(), 'ew-bench-'));
   const file = join(dir, 'index');
   try {
     let t0 = performance.now();
-    const notes = notesOfPoints(flattenPoints(view));
-    const postings = { chromatic: buildTriples(notePoints(notes, 'chromatic')), morphetic: buildTriples(notePoints(notes, 'morphetic')) };
-    writeIndexFile(file, { shape: CORPUS_TRIPLES, percussion: false, pieces: view.pieces.map(({ notes: _, ...info }) => info), files: [], notes, postings });
+    writeIndexFile(file, {
+      shape: CORPUS_TRIPLES,
+      percussion: false,
+      pieces: Array.from({ length: pieces }, (_, i) => pieceInfo(i)).map(({ notes: _, ...info }) => info),
+      files: [],
+      notes,
+      postings: { chromatic: buildTriples(notePoints(notes, 'chromatic')), morphetic: buildTriples(notePoints(notes, 'morphetic')) },
+    });
     const buildSeconds = ms(t0) / 1000;
     const bytes = statSync(file).size;
-    t0 = performance.now();
+    const loadSeconds = freshLoadSeconds(file);
     const read = readIndexFile(file, ['chromatic']);
     const index = corpusIndex({ ...read.postings.chromatic!, points: notePoints(read.notes, 'chromatic'), shape: read.shape });
-    const loadSeconds = ms(t0) / 1000;
     const noteCount = index.points.at.length;
 
-    const { played, probes } = queries(corpus, options.perKind, 7);
     const matcher = indexMatcher(index, W);
     const timed = (m: WindowMatcher, p: Probe): { ms: number; score: number } => {
       const t = performance.now();
@@ -177,8 +206,26 @@ function benchCorpus(name: string, corpus: Point[][], options: { perKind: number
     const batchWindowsPerSecond = (passes * probes.length) / (ms(t0) / 1000);
     const batchWindowsPerCpuSecond = (passes * probes.length) / ((cpuMs() - cpu0) / 1000);
 
-    // The reference, round-robin over the kinds until its time budget is spent.
-    const exact = exactMatcher(view, W);
+    // Streaming: every query played back to back, 4 beats apart, one note at a time.
+    const stream = new StreamingMatch(index, { windowBeats: W });
+    const perNote: number[] = [];
+    const perNoteCpu: number[] = [];
+    played.forEach((query, q) => {
+      const offset = q * toGrains(QUERY_BEATS + 4);
+      for (const pt of query) {
+        const c = cpuMs();
+        const t = performance.now();
+        stream.add({ at: pt.at + offset, pitch: pt.pitch });
+        stream.expire(pt.at + offset - toGrains(W) + 1);
+        stream.best();
+        perNote.push(ms(t));
+        perNoteCpu.push(cpuMs() - c);
+      }
+    });
+    const cpuSorted = [...perNoteCpu].sort((a, b) => a - b);
+    // The reference, round-robin over the kinds until its time budget is spent, on Point objects made only now.
+    const points = Array.from({ length: pieces }, (_, p) => piecePoints(index.points, p));
+    const exact = exactMatcher({ mode: 'chromatic', pieces: points.map((_, i) => pieceInfo(i)), points, size: noteCount }, W);
     const order = KINDS.flatMap((k) => probes.map((p, i) => ({ p, i })).filter(({ p }) => p.kind === k));
     const byKind = KINDS.map((k) => order.filter(({ p }) => p.kind === k));
     const sampled: { i: number; ms: number; score: number }[] = [];
@@ -197,29 +244,12 @@ function benchCorpus(name: string, corpus: Point[][], options: { perKind: number
     const indexLatency = latency(indexed.map((s) => s.ms));
     const sameWindows = latency(sampled.map((s) => indexed[s.i].ms));
 
-    // Streaming: every query played back to back, 4 beats apart, one note at a time.
-    const stream = new StreamingMatch(index, { windowBeats: W });
-    const perNote: number[] = [];
-    const perNoteCpu: number[] = [];
-    played.forEach((query, q) => {
-      const offset = q * toGrains(QUERY_BEATS + 4);
-      for (const pt of query) {
-        const c = cpuMs();
-        const t = performance.now();
-        stream.add({ at: pt.at + offset, pitch: pt.pitch });
-        stream.expire(pt.at + offset - toGrains(W) + 1);
-        stream.best();
-        perNote.push(ms(t));
-        perNoteCpu.push(cpuMs() - c);
-      }
-    });
-    const cpuSorted = [...perNoteCpu].sort((a, b) => a - b);
     const notesSorted = [...perNote].sort((a, b) => a - b);
     return {
       corpus: name,
       mode: 'exact',
       notes: noteCount,
-      pieces: corpus.length,
+      pieces,
       buildSeconds: round(buildSeconds, 2),
       loadSeconds: round(loadSeconds, 3),
       indexBytesPerNote: round(bytes / noteCount, 1),
@@ -246,8 +276,7 @@ function benchCorpus(name: string, corpus: Point[][], options: { perKind: number
 }
 
 /** The whole JSB chorale dataset (all splits), decoded per its README, as point sets. */
-function jsbCorpus(): Point[][] | null {
-  if (!existsSync(JSB)) return null;
+function jsbCorpus(): Point[][] {
   const data = JSON.parse(readFileSync(JSB, 'utf8')) as Record<string, number[][][]>;
   return Object.values(data).flat().map((steps) => sortedUnique(decodeChorale(steps).map((n) => ({ at: toGrains(n.onset), pitch: n.pitch }))));
 }
@@ -272,21 +301,20 @@ function main(): void {
   const quick = process.argv.includes('--quick');
   const began = performance.now();
   const rows: BenchRow[] = [];
-  const plan: { name: string; make: () => Point[][] | null; perKind: number; exactSeconds: number }[] = [
+  const plan: { name: string; make: () => Point[][]; needs?: string; perKind: number; exactSeconds: number }[] = [
     { name: 'synthetic 100k', make: () => synthCorpus({ notes: 100_000, seed: 1 }), perKind: quick ? 4 : 12, exactSeconds: quick ? 6 : 150 },
     { name: 'synthetic 1M', make: () => synthCorpus({ notes: 1_000_000, seed: 2 }), perKind: quick ? 4 : 12, exactSeconds: quick ? 1 : 240 },
   ];
   if (!quick) {
     plan.push({ name: 'synthetic 10M', make: () => synthCorpus({ notes: 10_000_000, seed: 3 }), perKind: 12, exactSeconds: 300 });
-    plan.push({ name: 'JSB chorales', make: jsbCorpus, perKind: 12, exactSeconds: 120 });
+    plan.push({ name: 'JSB chorales', make: jsbCorpus, needs: JSB, perKind: 12, exactSeconds: 120 });
   }
   for (const step of plan) {
-    const corpus = step.make();
-    if (!corpus) {
-      process.stdout.write(`${step.name}: skipped, ${JSB} is not here\n\n`);
+    if (step.needs && !existsSync(step.needs)) {
+      process.stdout.write(`${step.name}: skipped, ${step.needs} is not here\n\n`);
       continue;
     }
-    const row = benchCorpus(step.name, corpus, step);
+    const row = benchCorpus(step.name, step.make, step);
     rows.push(row);
     process.stdout.write(table(row) + '\n\n');
   }

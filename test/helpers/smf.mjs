@@ -64,7 +64,8 @@ export function track(events, { running = false } = {}) {
   return chunk('MTrk', data);
 }
 
-function chunk(id, data) {
+/** A chunk: its 4-letter id, a 32-bit big-endian length, the data (SMF 1.0). */
+export function chunk(id, data) {
   const n = data.length;
   return [...text(id), (n >>> 24) & 0xff, (n >>> 16) & 0xff, (n >>> 8) & 0xff, n & 0xff, ...data];
 }
