@@ -129,12 +129,12 @@ export function registerListen(cli: Command): void {
         `listening osc=${s.osc?.port ?? 0} http=${s.http.port}`,
         'Ctrl-C stops.',
       ];
-      process.stdout.write(lines.join('\n') + '\n');
-
       // A closed terminal or pipe must not end the session: what cannot be printed is dropped, the daemon carries on.
       process.stdout.on('error', () => {});
       process.stderr.on('error', () => {});
+      // Before the listening line: whoever waits for it may signal at once, and an unhandled SIGINT would skip closing the session.
       stopOnSignals(`stopping; session ${s.log.session} is saved in ${s.log.file}`, () => daemon.stop());
+      process.stdout.write(lines.join('\n') + '\n');
     });
 
   cli

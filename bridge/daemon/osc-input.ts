@@ -31,6 +31,13 @@ export const MAX_AHEAD_MS = 60_000;
 export const MAX_SCHEDULED = 4096;
 /** Deepest nesting of bundles read. */
 const MAX_DEPTH = 8;
+/**
+ * Receive buffer asked of the kernel (it grants up to net.core.rmem_max):
+ * about 0.2 s of packets at the default size, several seconds at this one,
+ * so a busy moment of the main thread delays a flood of notes instead of
+ * losing some (test/reliability/load.test.ts).
+ */
+export const RECV_BUFFER_BYTES = 4 * 1024 * 1024;
 
 export interface OscReaderOptions {
   onCommand(command: InputCommand, atMs: number): void;
@@ -112,7 +119,7 @@ export function oscReader(options: OscReaderOptions): OscReader {
 
 export async function openOscInput(options: OscInputOptions): Promise<OscInput> {
   const reader = oscReader(options);
-  const socket = createSocket('udp4');
+  const socket = createSocket({ type: 'udp4', recvBufferSize: RECV_BUFFER_BYTES });
   socket.on('message', (data, from) => reader.read(data, `${from.address}:${from.port}`));
 
   await new Promise<void>((resolve, reject) => {

@@ -135,7 +135,8 @@ export async function startWebServer(options: WebServerOptions): Promise<WebServ
       ws.send(JSON.stringify(options.hello()));
     });
   });
-  server.on('clientError', (_e, socket) => refuse(socket, 400, 'Bad Request'));
+  // Node's own answer to headers over maxHeaderSize is 431; keep it, as a handler of our own replaces it.
+  server.on('clientError', (e: NodeJS.ErrnoException, socket) => (e.code === 'HPE_HEADER_OVERFLOW' ? refuse(socket, 431, 'Request Header Fields Too Large') : refuse(socket, 400, 'Bad Request')));
 
   await new Promise<void>((resolve, reject) => {
     server.once('error', (e: NodeJS.ErrnoException) =>

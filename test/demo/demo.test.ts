@@ -6,74 +6,57 @@
  * (SIGINT) stops the generator and the daemon with exit 0, the session
  * saved with its notes and warnings.
  */
-import { type ChildProcess, spawn, spawnSync } from 'node:child_process';
+import { spawnSync } from 'node:child_process';
 import { existsSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { WarningEvent } from '../../bridge/events.js';
 import { EXIT } from '../../bridge/usage.js';
 import { CLI, ROOT, health, listen, tempDir } from '../daemon/helpers.js';
+import { type Launched, launch } from './launch.js';
 
 const TUNES = readdirSync(join(ROOT, 'presets', 'demo', 'corpus')).filter((f) => f.endsWith('.mid'));
 
 describe('earwitness demo', () => {
-  let child: ChildProcess;
-  let out = '';
-  let err = '';
-  let exited: Promise<{ code: number | null; signal: NodeJS.Signals | null }>;
-  let ports: { osc: number; http: number };
+  let d: Launched;
   let startedAt: number;
   const log = join(tempDir('demo-log'), 'sessions.db');
 
   beforeAll(async () => {
     if (!existsSync(CLI)) throw new Error(`${CLI} is missing: build first (npx tsc -p tsconfig.json)`);
     startedAt = Date.now();
-    child = spawn(process.execPath, [CLI, 'demo', '--http-port', '0', '--osc-port', '0', '--log', log], { cwd: ROOT, stdio: ['ignore', 'pipe', 'pipe'] });
-    child.stdout!.on('data', (d: Buffer) => (out += d.toString()));
-    child.stderr!.on('data', (d: Buffer) => (err += d.toString()));
-    exited = new Promise((resolve) => child.on('exit', (code, signal) => resolve({ code, signal })));
-    ports = await new Promise((resolve, reject) => {
-      const timer = setTimeout(() => reject(new Error(`demo did not start within 20 s; stdout: ${out}; stderr: ${err}`)), 20_000);
-      child.stdout!.on('data', () => {
-        const m = /listening osc=(\d+) http=(\d+)/.exec(out);
-        if (m) {
-          clearTimeout(timer);
-          resolve({ osc: Number(m[1]), http: Number(m[2]) });
-        }
-      });
-    });
+    d = await launch(process.execPath, [CLI, 'demo', '--http-port', '0', '--osc-port', '0', '--log', log], { cwd: ROOT, env: process.env });
   });
   afterAll(() => {
-    if (child && child.exitCode === null && child.signalCode === null) child.kill('SIGKILL');
+    if (d && d.child.exitCode === null && d.child.signalCode === null) d.child.kill('SIGKILL');
   });
 
   it('prints the overlay URL on a line of its own, and the caution', () => {
-    expect(out).toMatch(new RegExp(`^ +Open the overlay in your browser: +http://127\\.0\\.0\\.1:${ports.http}/$`, 'm'));
-    expect(out).toContain("A similarity score is evidence for a musician's judgement, not a legal finding.");
-    expect(out).toMatch(/preset: livecode/);
+    expect(d.stdout()).toMatch(new RegExp(`^ +Open the overlay in your browser: +http://127\\.0\\.0\\.1:${d.http}/$`, 'm'));
+    expect(d.stdout()).toContain("A similarity score is evidence for a musician's judgement, not a legal finding.");
+    expect(d.stdout()).toMatch(/preset: livecode/);
   });
 
   it('shows a real warning on /events within a minute, naming a demo tune', async () => {
-    const events = await listen(ports.http);
+    const events = await listen(d.http);
     const warning = await events.next<WarningEvent>((e) => e.type === 'warning', 60_000);
     const seconds = (Date.now() - startedAt) / 1000;
     process.stderr.write(`demo: first warning after ${seconds.toFixed(1)} s from start: ${warning.title}, score ${warning.score.toFixed(2)}\n`);
     events.close();
     expect(TUNES).toContain(warning.piece);
     expect(warning.score).toBeGreaterThanOrEqual(0.7);
-    const h = await health(ports.http);
+    const h = await health(d.http);
     expect(h.notes).toBeGreaterThan(8);
     expect(h.badInput).toEqual({});
     expect(h.warnings).toBeGreaterThanOrEqual(1);
     // The terminal hears of it too.
     await new Promise((r) => setTimeout(r, 200));
-    expect(out).toContain(`warning: "${warning.title}" (${warning.piece})`);
+    expect(d.stdout()).toContain(`warning: "${warning.title}" (${warning.piece})`);
   });
 
   it('stops the generator and the daemon on SIGINT with exit 0, the session saved', async () => {
-    child.kill('SIGINT');
-    const r = await exited;
-    expect(r, err).toEqual({ code: 0, signal: null });
+    const r = await d.stop('SIGINT');
+    expect({ code: r.code, signal: r.signal }, d.stderr()).toEqual({ code: 0, signal: null });
     const sessions = spawnSync(process.execPath, [CLI, 'sessions', '--log', log, '--json'], { encoding: 'utf8' });
     expect(sessions.status, sessions.stderr).toBe(EXIT.ok);
     const [s] = JSON.parse(sessions.stdout) as { preset: string; end: string | null; notes: number; warnings: number }[];

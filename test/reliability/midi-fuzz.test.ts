@@ -99,8 +99,9 @@ describe('parseMidi on hostile bytes', () => {
     // SMF 1.0: a VLQ has at most 4 bytes. 8F FF FF FF 79 is what the parser underneath decodes as −7: the sysex's length sends it back to the event's start.
     const loops = Uint8Array.from([...header(0, 1, 480), ...chunk('MTrk', [0x00, 0xf0, 0x8f, 0xff, 0xff, 0xff, 0x79, 0x00, 0xff, 0x2f, 0x00])]);
     expect(() => parseMidi(loops, 'loops.mid')).toThrow(/loops.mid: damaged MIDI data \(track 1 of 1: the variable-length number at byte 24 runs past the 4 bytes SMF 1.0 allows\)/);
+    const million = manyNotes(500_000);
     const t0 = performance.now();
-    expect(() => parseMidi(manyNotes(500_000), 'million.mid')).toThrow(new RegExp(`million.mid: track 1 of 1 holds more than ${MAX_TRACK_NOTE_EVENTS.toLocaleString('en')} note events`));
+    expect(() => parseMidi(million, 'million.mid')).toThrow(new RegExp(`million.mid: track 1 of 1 holds more than ${MAX_TRACK_NOTE_EVENTS.toLocaleString('en')} note events`));
     expect(performance.now() - t0).toBeLessThan(SLOWEST_MS);
     // At the limit the track still reads, all of it.
     expect(parseMidi(manyNotes(MAX_TRACK_NOTE_EVENTS / 2), 'limit.mid').notes).toHaveLength(MAX_TRACK_NOTE_EVENTS / 2);
