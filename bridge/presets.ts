@@ -31,7 +31,7 @@ export const MAX_GRID = 960;
  * Tolerance of the live presets: the smallest tolerance measured that, after
  * the presets' 1/12-beat grid, catches every copy played within ±0.1 beat at
  * their thresholds, while warning about played unrelated material no more
- * often than about the same material as written (docs/dev-beyond.md).
+ * often than about the same material as written (DEVELOPERS.md).
  */
 export const LIVE_TOLERANCE = 0.1;
 
@@ -84,7 +84,7 @@ export const presetSchema = z
     warn: z.boolean(),
     /** Onsets snap to 1/grid beat before scoring (0 = as played), so clock jitter does not break exact matching. */
     grid: z.number().int().min(0).max(MAX_GRID).refine((g) => g === 0 || 3840 % g === 0),
-    /** Played timing a match allows, beats (docs/dev-beyond.md says how the default was measured). */
+    /** Played timing a match allows, beats (DEVELOPERS.md says how the default was measured). */
     tolerance: z.number().min(0).lt(1).default(LIVE_TOLERANCE),
     /** Matches less distinctive than this never warn. */
     minDistinctiveness: unit.default(0),

@@ -152,5 +152,5 @@ describe('--corpus with an index', () => {
     expect([ix.code, ex.code]).toEqual([0, 0]);
     expect(ix.json().samples).toEqual(ex.json().samples);
     expect(ix.json().originality).toBeGreaterThanOrEqual(ex.json().originality);
-  });
+  }, 240_000);
 });

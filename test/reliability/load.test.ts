@@ -6,7 +6,9 @@
  * resident memory (/proc/PID/status VmRSS) stays under 1 GB; scoring
  * coalesces (at most one batch waits, so evaluations ≪ notes) and /health
  * says how many notes were coalesced and how many the full window let go;
- * every note heard is logged; clients leave nothing behind (/health's
+ * every note sent is heard or was dropped by the kernel for want of buffer
+ * (counted in /proc/net/udp: on a machine busy with other work, a starved
+ * main thread cannot always keep up with 2,000 a second); every note heard is logged; clients leave nothing behind (/health's
  * client count back to 0, file descriptors back to where they were).
  */
 import { setTimeout as sleep } from 'node:timers/promises';
@@ -15,7 +17,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { MAX_CLIENTS } from '../../bridge/daemon/web-server.js';
 import { SessionLog } from '../../bridge/session-log.js';
 import { ROOT, type SpawnedDaemon, eventually, health, listen, spawnDaemon } from '../daemon/helpers.js';
-import { fdCount, noteBytes, oscSender, paced, rssMb } from './proc.js';
+import { fdCount, noteBytes, oscSender, paced, rssMb, udpDrops } from './proc.js';
 import { join } from 'node:path';
 
 const NOTES = 20_000;
@@ -40,6 +42,7 @@ describe('load', () => {
   it(`${NOTES.toLocaleString('en')} notes in ${FLOOD_MS / 1000} s over OSC: healthy, bounded, coalesced, every note heard logged`, async () => {
     const page = await listen(d.http);
     const before = rssMb(pid);
+    const drops0 = udpDrops(d.osc);
     let healthSlowestMs = 0;
     let sampling = true;
     const sampler = (async () => {
@@ -55,8 +58,9 @@ describe('load', () => {
     // Notes without a beat: the daemon's clock places them, a thousand a beat, so the 16-beat window fills and lets notes go.
     await paced(NOTES, FLOOD_MS, (k) => sender.send(noteBytes(48 + (k % 37), 0.25)));
     const sentMs = Date.now() - t0;
-    // Done once the last note heard is in a verdict: every note is in exactly one evaluation.
-    const h = await eventually(() => health(d.http), (v) => v.notes >= NOTES * 0.99 && (v.evaluations as number) + (v.coalesced as number) === v.notes, 30_000);
+    // Done once every note is heard or dropped, and the last one heard is in a verdict (every note is in exactly one evaluation).
+    const h = await eventually(() => health(d.http), (v) => v.notes + udpDrops(d.osc) - drops0 === NOTES && (v.evaluations as number) + (v.coalesced as number) === v.notes, 30_000);
+    const dropped = udpDrops(d.osc) - drops0;
     const last = await page.next((e) => e.type === 'score' && e.seq === h.notes, 30_000);
     const caughtUpMs = Date.now() - t0 - sentMs;
     sampling = false;
@@ -64,13 +68,14 @@ describe('load', () => {
     page.close();
     const peak = Math.max(...rss);
     console.log(
-      `load: ${NOTES} notes sent in ${(sentMs / 1000).toFixed(1)} s (${Math.round(NOTES / (sentMs / 1000))}/s); heard ${h.notes}; ` +
+      `load: ${NOTES} notes sent in ${(sentMs / 1000).toFixed(1)} s (${Math.round(NOTES / (sentMs / 1000))}/s); heard ${h.notes}, dropped by the kernel ${dropped}; ` +
         `evaluations ${h.evaluations}, coalesced ${h.coalesced}, dropped by the full window ${h.dropped}; last score ${caughtUpMs} ms after the last send; ` +
         `RSS ${before.toFixed(0)} MB before, peak ${peak.toFixed(0)} MB, ${rssMb(pid).toFixed(0)} MB after; slowest /health ${healthSlowestMs} ms`,
     );
     expect(last.seq).toBe(h.notes);
-    // UDP may drop what the kernel cannot buffer (osc-input.ts asks for 4 MiB); measured here: none. What is heard is all logged.
-    expect(h.notes).toBeGreaterThanOrEqual(NOTES * 0.99);
+    // UDP may drop what the kernel cannot buffer (osc-input.ts asks for 4 MiB): alone on the machine, none is; what is heard is all logged.
+    expect(h.notes + dropped).toBe(NOTES);
+    expect(h.notes).toBeGreaterThan(NOTES / 2);
     expect(h.evaluations).toBeLessThan(NOTES / 10);
     expect(h.coalesced).toBeGreaterThan(NOTES * 0.9);
     expect(h.dropped).toBeGreaterThan(0);
@@ -86,13 +91,15 @@ describe('load', () => {
   it('1,000 random UDP packets: each counted as bad input, the daemon still healthy and hearing', async () => {
     const bad = (h: Record<string, any>): number => Object.values(h.badInput as Record<string, number>).reduce((s, n) => s + n, 0);
     const before = await health(d.http);
+    const drops0 = udpDrops(d.osc);
     let seed = 7;
     const rand = (): number => ((seed = (seed * 1103515245 + 12345) >>> 0) / 2 ** 32);
     await paced(1000, 500, () => sender.send(Uint8Array.from({ length: 1 + Math.floor(rand() * 600) }, () => Math.floor(rand() * 256))));
-    const h = await eventually(() => health(d.http), (v) => bad(v) - bad(before) === 1000);
-    console.log(`load: 1000 random packets → bad input ${JSON.stringify(h.badInput)}; RSS ${rssMb(pid).toFixed(0)} MB`);
+    const h = await eventually(() => health(d.http), (v) => bad(v) - bad(before) + udpDrops(d.osc) - drops0 === 1000);
+    const dropped = udpDrops(d.osc) - drops0;
+    console.log(`load: 1000 random packets → bad input ${JSON.stringify(h.badInput)}, dropped by the kernel ${dropped}; RSS ${rssMb(pid).toFixed(0)} MB`);
     expect(h.ok).toBe(true);
-    expect(bad(h) - bad(before)).toBe(1000);
+    expect(bad(h) - bad(before) + dropped).toBe(1000);
     expect(h.notes).toBe(before.notes);
     await sender.send(noteBytes(60, 1));
     expect((await eventually(() => health(d.http), (v) => v.notes === before.notes + 1)).notes).toBe(before.notes + 1);

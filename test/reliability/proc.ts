@@ -5,6 +5,7 @@
  * @example
  *   rssMb(child.pid!)    // → 83.4 (VmRSS of /proc/PID/status)
  *   fdCount(child.pid!)  // → 31 (entries of /proc/PID/fd)
+ *   udpDrops(9750)       // → 0 (datagrams the kernel dropped for the socket on 127.0.0.1:9750, its buffer full)
  *   await paced(20_000, 10_000, (k) => send(noteBytes(k)))   // 20,000 sends spread over 10 s
  */
 import { readFileSync, readdirSync } from 'node:fs';
@@ -19,6 +20,17 @@ export function rssMb(pid: number): number {
 }
 
 export const fdCount = (pid: number): number => readdirSync(`/proc/${pid}/fd`).length;
+
+/**
+ * Datagrams the kernel dropped for the UDP socket bound to 127.0.0.1:`port`
+ * because its receive buffer was full: the last column of /proc/net/udp.
+ */
+export function udpDrops(port: number): number {
+  const local = `0100007F:${port.toString(16).toUpperCase().padStart(4, '0')}`;
+  const row = readFileSync('/proc/net/udp', 'utf8').split('\n').map((l) => l.trim().split(/\s+/)).find((f) => f[1] === local);
+  if (!row) throw new Error(`/proc/net/udp has no socket on ${local}`);
+  return Number(row.at(-1));
+}
 
 export interface OscSender {
   send(bytes: Uint8Array): Promise<void>;
