@@ -41,9 +41,9 @@ interface Answer {
 }
 
 /** A request with the path exactly as written (no URL normalisation), as an attacker sends it. */
-function raw(port: number, path: string, headers: Record<string, string> = {}, method = 'GET', body?: string): Promise<Answer> {
+function raw(port: number, path: string, headers: Record<string, string> = {}, method = 'GET', body?: string, host = '127.0.0.1'): Promise<Answer> {
   return new Promise((resolve, reject) => {
-    const req = request({ host: '127.0.0.1', port, path, method, headers }, (res) => {
+    const req = request({ host, port, path, method, headers }, (res) => {
       let text = '';
       res.on('data', (d: Buffer) => (text += d.toString()));
       res.on('end', () => resolve({ status: res.statusCode!, body: text, headers: res.headers }));
@@ -54,9 +54,9 @@ function raw(port: number, path: string, headers: Record<string, string> = {}, m
 }
 
 /** The status of an /events handshake: 101, or what the daemon answered instead. */
-function handshake(port: number, query: string, headers: Record<string, string>): Promise<number> {
+function handshake(port: number, query: string, headers: Record<string, string>, host = '127.0.0.1'): Promise<number> {
   return new Promise((resolve) => {
-    const ws = new WebSocket(`ws://127.0.0.1:${port}/events${query}`, { headers });
+    const ws = new WebSocket(`ws://${host}:${port}/events${query}`, { headers });
     ws.on('open', () => (ws.terminate(), resolve(101)));
     ws.on('unexpected-response', (_req, res) => resolve(res.statusCode!));
     ws.on('error', () => {});
@@ -103,6 +103,22 @@ describe('binding', () => {
     const r = listenRun('--host', '192.0.2.10', '--token', TOKEN);
     expect(r.status).toBe(2);
     expect(r.stderr).toMatch(/^earwitness: --http-port 0: cannot listen on 192\.0\.2\.10 \(/);
+  });
+
+  it('--host ADDR: requests must name ADDR (or 127.0.0.1, localhost) as their Host, and pages their Origin (DNS rebinding, RFC 6455 §10.2)', async () => {
+    const d = await spawnDaemon(['--corpus', corpus, '--host', '127.0.0.2', '--token', TOKEN]);
+    try {
+      const at = (headers: Record<string, string>) => raw(d.http, `/health?token=${TOKEN}`, headers, 'GET', undefined, '127.0.0.2');
+      expect((await at({})).status).toBe(200);
+      expect((await at({ host: `localhost:${d.http}` })).status).toBe(200);
+      expect((await at({ host: `attacker.example:${d.http}` })).status).toBe(421);
+      expect((await at({ host: `127.0.0.2:${d.http + 1}` })).status).toBe(421);
+      expect(await handshake(d.http, `?token=${TOKEN}`, { origin: `http://127.0.0.2:${d.http}` }, '127.0.0.2')).toBe(101);
+      expect(await handshake(d.http, `?token=${TOKEN}`, { origin: `http://attacker.example:${d.http}` }, '127.0.0.2')).toBe(403);
+      expect(d.stdout()).toContain(`overlay: http://127.0.0.2:${d.http}/?token=${TOKEN}\n`);
+    } finally {
+      await d.stop();
+    }
   });
 
   it.each(['127.0.0.1', '127.0.0.2', 'localhost'])('--host %s (loopback) needs no token', async (host) => {
