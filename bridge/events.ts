@@ -60,16 +60,20 @@ export interface ScoreEvent {
   distinctiveness?: number | null;
 }
 
-export interface WarningEvent {
-  type: 'warning';
-  seq: number;
-  time: number;
+/** What a warning says about the match, as pushed on /events and kept in the session log. */
+export interface WarnedMatch {
   piece: string;
   title: string;
   score: number;
   transposition: number;
   pieceStart: number;
   startBeat: number;
+}
+
+export interface WarningEvent extends WarnedMatch {
+  type: 'warning';
+  seq: number;
+  time: number;
   /** Of the match warned about, as in ScoreEvent. */
   distinctiveness?: number;
 }

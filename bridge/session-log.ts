@@ -8,6 +8,7 @@ import { mkdirSync } from 'node:fs';
 import { dirname } from 'node:path';
 import Database from 'better-sqlite3';
 import type { Note } from '../core/note.js';
+import type { WarnedMatch } from './events.js';
 
 export const LOG_SCHEMA_VERSION = 1;
 const APPLICATION_ID = 0x45574c47; // "EWLG": marks the file as an earwitness log
@@ -71,17 +72,11 @@ export interface LoggedNote extends Note {
   receivedAt: number;
 }
 
-export interface LoggedWarning {
+export interface LoggedWarning extends WarnedMatch {
   id: number;
   /** Sequence number of the last note in the warned window. */
   seq: number;
   raisedAt: number;
-  piece: string;
-  title: string;
-  score: number;
-  transposition: number;
-  pieceStart: number;
-  startBeat: number;
   clearedAt: number | null;
 }
 
