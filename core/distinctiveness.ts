@@ -23,6 +23,9 @@ import type { CorpusPoints } from './corpus.js';
 import type { WindowMatch, WindowMatcher } from './match.js';
 import { type PitchLines, checkTolerance, pitchLines, toleranceMatching } from './tolerance.js';
 import { scaleTime } from './fingerprint.js';
+import { type CorpusIndex, lowerBoundAt, triplesEndingAt } from './triple-index.js';
+import { TripleLookups, castVotes, keyOf } from './index-match.js';
+import { VoteTable } from './votes.js';
 
 /** Share of the matched material a place must hold to count as holding it. */
 export const NEAR_SHARE = 0.8;
@@ -42,11 +45,20 @@ export function placesHolding(material: readonly Point[], corpus: CorpusPoints, 
   if (material.length === 0) return 0;
   const need = Math.max(1, Math.ceil(NEAR_SHARE * material.length));
   const apart = Math.max(GRAINS_PER_BEAT, material[material.length - 1].at - material[0].at);
-  let places = 0;
+  const shifts = new Map<number, number[]>();
   corpus.points.forEach((points, piece) => {
     if (piece === exclude) return;
-    const shifts: number[] = [];
-    for (const [k, count] of translationCounts(material, points)) if (count >= need) shifts.push(keyTranslation(k).at);
+    const held: number[] = [];
+    for (const [k, count] of translationCounts(material, points)) if (count >= need) held.push(keyTranslation(k).at);
+    shifts.set(piece, held);
+  });
+  return countPlaces(shifts, apart);
+}
+
+/** Clusters each piece's sorted shifts: shifts closer than `apart` are one place. */
+function countPlaces(shiftsByPiece: Map<number, number[]>, apart: number): number {
+  let places = 0;
+  for (const shifts of shiftsByPiece.values()) {
     shifts.sort((a, b) => a - b);
     let placeStart = -Infinity;
     for (const s of shifts) {
@@ -55,29 +67,124 @@ export function placesHolding(material: readonly Point[], corpus: CorpusPoints, 
         placeStart = s;
       }
     }
-  });
+  }
   return places;
+}
+
+/** Postings the indexed count reads at most (its rarest triples first), and candidate places it verifies. */
+export const PLACES_FILTER = { voteBudget: 20_000, minTriples: 6, candidates: 256 };
+
+/**
+ * How many of `material`'s points a piece holds under one translation
+ * (`shift` grains, `dp` steps from the corpus to the material), stopping as
+ * soon as more are missing than `need` allows.
+ */
+function heldAt(index: CorpusIndex, piece: number, material: readonly Point[], shift: number, dp: number, need: number): number {
+  const { at, pitch, offsets } = index.points;
+  const end = offsets[piece + 1];
+  let c = lowerBoundAt(at, material[0].at - shift, offsets[piece], end);
+  let held = 0;
+  for (let i = 0; i < material.length; i++) {
+    if (i - held > material.length - need) return held;
+    const t = material[i].at - shift;
+    const p = material[i].pitch - dp;
+    while (c < end && (at[c] < t || (at[c] === t && pitch[c] < p))) c++;
+    if (c === end) break;
+    if (at[c] === t && pitch[c] === p) held++;
+  }
+  return held;
+}
+
+/**
+ * `placesHolding` through the corpus index, at a cost independent of the
+ * corpus's size. Candidate places come from triples of the material: those
+ * of the material as a run of its own, and the source piece's own triples
+ * whose three points all belong to it; their postings vote for translations
+ * (rarest first, PLACES_FILTER's budget), and the most-voted are verified
+ * point by point, as is the source place itself. Every place counted is
+ * real, so this never counts more places than `placesHolding`; it counts
+ * fewer when a place holds the material among other notes that no shared
+ * triple survives (then the material reads more distinctive than it is).
+ */
+export function indexedPlacesHolding(index: CorpusIndex, source: number, material: readonly Point[], exclude?: number): number {
+  if (material.length === 0) return 0;
+  const need = Math.max(1, Math.ceil(NEAR_SHARE * material.length));
+  const apart = Math.max(GRAINS_PER_BEAT, material[material.length - 1].at - material[0].at);
+  const { partners } = index.shape;
+  const horizon = toGrains(index.shape.horizonBeats);
+  const lookups = new TripleLookups();
+  const materialAt = material.map((p) => p.at);
+  for (let c = 2; c < material.length; c++) lookups.collect(index, material, materialAt, 0, c, partners, horizon);
+  // The source piece's triples among the material: the material's own positions, or -1 for the notes around it.
+  const { at, pitch, offsets } = index.points;
+  const from = lowerBoundAt(at, material[0].at, offsets[source], offsets[source + 1]);
+  const to = lowerBoundAt(at, material[material.length - 1].at + 1, from, offsets[source + 1]);
+  const around: Point[] = [];
+  const position: number[] = [];
+  for (let i = from, m = 0; i < to; i++) {
+    while (m < material.length && comparePoints(material[m], { at: at[i], pitch: pitch[i] }) < 0) m++;
+    const own = m < material.length && material[m].at === at[i] && material[m].pitch === pitch[i];
+    around.push({ at: at[i], pitch: pitch[i] });
+    position.push(own ? m : -1);
+  }
+  const aroundAt = around.map((p) => p.at);
+  for (let c = 2; c < around.length; c++) {
+    if (position[c] < 0) continue;
+    triplesEndingAt(aroundAt, 0, c, partners, horizon, (a, b) => {
+      if (position[a] >= 0 && position[b] >= 0) lookups.keep(index, keyOf(around, a, b, c), position[a]);
+    });
+  }
+  const votes = new VoteTable();
+  const skipFrom = exclude === undefined ? 0 : offsets[exclude];
+  const skipTo = exclude === undefined ? 0 : offsets[exclude + 1];
+  const found = lookups.sort();
+  for (let r = 0, spent = 0; r < found; r++) {
+    const k = lookups.keyAt(r);
+    const size = index.starts[k + 1] - index.starts[k];
+    if (r >= PLACES_FILTER.minTriples && spent + size > PLACES_FILTER.voteBudget) break;
+    spent += size;
+    castVotes(index, votes, material[lookups.anchorAt(r)], k, 1, skipFrom, skipTo);
+  }
+  const shifts = new Map<number, number[]>();
+  const hold = (piece: number, shift: number, dp: number): void => {
+    if (heldAt(index, piece, material, shift, dp, need) >= need) (shifts.get(piece) ?? shifts.set(piece, []).get(piece)!).push(shift);
+  };
+  if (source !== exclude) hold(source, 0, 0);
+  for (const e of votes.top(PLACES_FILTER.candidates)) {
+    const piece = votes.pieceAt(e);
+    const shift = votes.shiftAt(e);
+    if (!(piece === source && shift === 0 && votes.dpAt(e) === 0)) hold(piece, shift, votes.dpAt(e));
+  }
+  return countPlaces(shifts, apart);
 }
 
 /** 1 / places, in (0, 1]; a match always holds its own place, so fewer than one counts as one. */
 export const distinctivenessOf = (places: number): number => 1 / Math.max(1, places);
 
+/** Each piece's pitch lines, made the first time a match lands in it: most pieces never need them. */
+export function lazyPitchLines(points: (piece: number) => readonly Point[]): (piece: number) => PitchLines {
+  const made = new Map<number, PitchLines>();
+  return (piece) => made.get(piece) ?? made.set(piece, pitchLines(points(piece))).get(piece)!;
+}
+
 /**
  * Wraps a matcher so each match carries its distinctiveness. `toleranceBeats`
  * is the tolerance the wrapped matcher matched with, so the material found is
- * the material it counted.
+ * the material it counted. With the corpus `index` (same pitch dimension),
+ * places are counted through it (`indexedPlacesHolding`), else by brute force.
  */
-export function withDistinctiveness(matcher: WindowMatcher, corpus: CorpusPoints, toleranceBeats: number): WindowMatcher {
+export function withDistinctiveness(matcher: WindowMatcher, corpus: CorpusPoints, toleranceBeats: number, index?: CorpusIndex): WindowMatcher {
   checkTolerance(toleranceBeats);
   const tolGrains = toGrains(toleranceBeats);
-  const lines = corpus.points.map(pitchLines);
+  const lines = lazyPitchLines((piece) => corpus.points[piece]);
   return {
     windowBeats: matcher.windowBeats,
     best(window, startGrains, options = {}) {
       const m = matcher.best(window, startGrains, options);
       if (!m || m.matched === 0) return m;
-      const material = matchedMaterial(lines[m.piece], window, startGrains, m, tolGrains);
-      return { ...m, distinctiveness: distinctivenessOf(placesHolding(material, corpus, options.exclude)) };
+      const material = matchedMaterial(lines(m.piece), window, startGrains, m, tolGrains);
+      const places = index ? indexedPlacesHolding(index, m.piece, material, options.exclude) : placesHolding(material, corpus, options.exclude);
+      return { ...m, distinctiveness: distinctivenessOf(places) };
     },
   };
 }

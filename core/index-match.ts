@@ -133,15 +133,18 @@ export class TripleLookups {
 
   /** Looks up the triples ending at point `c` (those starting at `from` or later) and keeps the ones the corpus has. */
   collect(index: CorpusIndex, points: readonly Point[], at: ArrayLike<number>, from: number, c: number, partners: number, horizon: number): void {
-    triplesEndingAt(at, from, c, partners, horizon, (a, b) => {
-      const k = index.find(keyOf(points, a, b, c));
-      if (k < 0) return;
-      if (this.n === this.key.length) this.grow();
-      // Postings first, then the order found: sorting one double sorts by both.
-      this.order[this.n] = (index.starts[k + 1] - index.starts[k]) * 2 ** 21 + this.n;
-      this.anchor[this.n] = a;
-      this.key[this.n++] = k;
-    });
+    triplesEndingAt(at, from, c, partners, horizon, (a, b) => this.keep(index, keyOf(points, a, b, c), a));
+  }
+
+  /** Keeps one triple's key, anchored at point `anchor`, when the corpus has it. */
+  keep(index: CorpusIndex, key: number, anchor: number): void {
+    const k = index.find(key);
+    if (k < 0) return;
+    if (this.n === this.key.length) this.grow();
+    // Postings first, then the order found: sorting one double sorts by both.
+    this.order[this.n] = (index.starts[k + 1] - index.starts[k]) * 2 ** 21 + this.n;
+    this.anchor[this.n] = anchor;
+    this.key[this.n++] = k;
   }
 
   private grow(): void {

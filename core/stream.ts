@@ -120,4 +120,20 @@ export class StreamingMatch {
     if (n <= SCAN_POINTS) return scanBest(this.index, this.points, this.start, this.windowGrains);
     return verifyTop(this.index, this.votes, this.points, this.start, this.windowGrains, this.settings.candidates);
   }
+
+  /**
+   * The `n` most-voted translations so far, most first, for a caller that
+   * verifies them its own way (within a tolerance, say): `shift` grains and
+   * `dp` steps from the corpus to the played points.
+   */
+  translations(n: number): VotedTranslation[] {
+    return this.votes.top(n).map((e) => ({ piece: this.votes.pieceAt(e), shift: this.votes.shiftAt(e), dp: this.votes.dpAt(e), votes: this.votes.countAt(e) }));
+  }
+}
+
+export interface VotedTranslation {
+  piece: number;
+  shift: number;
+  dp: number;
+  votes: number;
 }

@@ -3,26 +3,27 @@
  * This is the one place that decides *how* a live window is matched; the
  * worker, the coalescing and everything downstream only see `LiveScorer`.
  *
- * Now: the rolling window (core/live-window.ts) rescored from scratch each
- * evaluation by the preset's matching mode over the corpus's points
- * (core/match-mode.ts: exact, or within a tolerance for played timing,
- * each match with its distinctiveness). The window
- * holds (newest − W, newest] and is matched from its first note; the corpus
- * index's streaming matcher can keep the same window (add each point, then
- * expire to `startGrains`), so swapping it in changes this file only.
+ * The rolling window (core/live-window.ts) says which notes are in play:
+ * (newest − W, newest], matched from its first note. Each note joins the
+ * corpus index's streaming matcher as it arrives (core/live-match.ts), so
+ * an evaluation costs the new notes' postings and the verification of a few
+ * candidates — not a rescore against the whole corpus — whether the match is
+ * exact or within the preset's tolerance, and the match's distinctiveness
+ * is counted through the index as well.
  *
  * Onsets snap to a grid of 1/`grid` beat before matching (0 = as played):
  * a note stamped from a clock lands a few ms off the beat, and exact
  * matching counts only coinciding points.
  *
  * @example
- *   const scorer = exactLiveScorer(corpus, { windowBeats: 16, grid: 12 });
+ *   const scorer = liveScorer(corpus, { windowBeats: 16, grid: 12, tolerance: 0.1 });
  *   scorer.add({ seq: 1, onset: 0, duration: 1, pitch: 60, velocity: 90, channel: 1 });
  *   scorer.evaluate()   // → { seq: 1, windowNotes: 1, windowStart: 0, windowEnd: 16, match: {...} | null, excerpt: [...], ... }
  */
-import { type Note, GRAINS_PER_BEAT, toPoints } from '../../core/note.js';
+import { type Note, GRAINS_PER_BEAT, toGrains, toPoints } from '../../core/note.js';
 import { type Corpus, corpusPoints, pieceName } from '../../core/corpus.js';
-import { modeMatcher } from '../../core/match-mode.js';
+import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
+import { LiveMatcher } from '../../core/live-match.js';
 import { LiveWindow } from '../../core/live-window.js';
 import { excerptPair, snapOnsets } from '../../core/review.js';
 import type { ExcerptNote, NoteEvent } from '../events.js';
@@ -79,24 +80,35 @@ export const MAX_WINDOW_NOTES = 1024;
 /** Most corpus notes sent with a verdict for the piano roll. */
 export const MAX_EXCERPT_NOTES = 512;
 
-export function exactLiveScorer(corpus: Corpus, options: LiveScorerOptions): LiveScorer {
-  const view = corpusPoints(corpus, 'chromatic');
-  const matcher = modeMatcher(view, options.windowBeats, { tolerance: options.tolerance ?? 0, tempoFree: false });
+/**
+ * The live scorer over a corpus and its chromatic index (built here when not
+ * given: `openCorpus(...).index('chromatic')` is the daemon's).
+ */
+export function liveScorer(corpus: Corpus, options: LiveScorerOptions, index: CorpusIndex = corpusIndex(buildTriples(flattenPoints(corpusPoints(corpus, 'chromatic'))))): LiveScorer {
+  const live = new LiveMatcher(index, { windowBeats: options.windowBeats, tolerance: options.tolerance ?? 0 });
   const window = new LiveWindow<Note & { seq: number }>({ beats: options.windowBeats, maxNotes: MAX_WINDOW_NOTES });
   let lastSeq = 0;
   return {
     add(n) {
       lastSeq = n.seq;
-      window.add(snapOnsets([{ seq: n.seq, onset: n.onset, duration: n.duration, pitch: n.pitch, morph: n.pitch, velocity: n.velocity, channel: n.channel }], options.grid)[0]);
+      const note = snapOnsets([{ seq: n.seq, onset: n.onset, duration: n.duration, pitch: n.pitch, morph: n.pitch, velocity: n.velocity, channel: n.channel }], options.grid)[0];
+      const restarts = window.restarts;
+      window.add(note);
+      if (window.restarts !== restarts) live.reset();
+      live.add({ at: toGrains(note.onset), pitch: note.pitch });
+      live.expire(window.startGrains);
     },
-    reset: () => window.clear(),
+    reset() {
+      window.clear();
+      live.reset();
+    },
     evaluate() {
       const notes = window.notes;
       const points = toPoints(notes, 'chromatic');
       const startGrains = window.startGrains;
       const windowStart = startGrains / GRAINS_PER_BEAT;
       const windowEnd = windowStart + options.windowBeats;
-      const m = matcher.best(points, startGrains);
+      const m = live.best(points, startGrains);
       const base = { seq: lastSeq, windowNotes: points.length, windowStart, windowEnd, dropped: window.dropped, restarts: window.restarts };
       if (!m || m.matched === 0) return { ...base, score: 0, match: null, timeShift: null, excerpt: null };
       const piece = corpus.pieces[m.piece];

@@ -13,7 +13,7 @@
 import { parentPort, workerData } from 'node:worker_threads';
 import { performance } from 'node:perf_hooks';
 import { openCorpus } from '../open-corpus.js';
-import { exactLiveScorer, type LiveScorer } from './live-scorer.js';
+import { type LiveScorer, liveScorer } from './live-scorer.js';
 import type { FromWorker, ToWorker, WorkerSetup } from './scorer.js';
 
 const setup = workerData as WorkerSetup;
@@ -22,8 +22,9 @@ const post = (m: FromWorker): void => port.postMessage(m);
 
 let scorer: LiveScorer;
 try {
-  const { source, corpus } = openCorpus(setup.corpus);
-  scorer = exactLiveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance });
+  const opened = openCorpus(setup.corpus);
+  const { source, corpus } = opened;
+  scorer = liveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance }, opened.index('chromatic'));
   post({ type: 'ready', corpus: { source, pieces: corpus.pieces.length, notes: corpus.pieces.reduce((s, p) => s + p.notes.length, 0) } });
 } catch (e) {
   post({ type: 'failed', message: (e as Error).message });

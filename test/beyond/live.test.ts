@@ -14,7 +14,7 @@ import { join } from 'node:path';
 import osc from 'osc';
 import { afterAll, describe, expect, test } from 'vitest';
 import { initialPolicy, stepPolicy } from '../../core/warning-policy.js';
-import { exactLiveScorer } from '../../bridge/daemon/live-scorer.js';
+import { liveScorer } from '../../bridge/daemon/live-scorer.js';
 import { LIVE_TOLERANCE, loadPreset, parsePreset, resolveThreshold, withOverrides } from '../../bridge/presets.js';
 import { INDEX_NAME, IndexFileError, readIndexBaselines } from '../../bridge/index-file.js';
 import type { HelloEvent, ScoreEvent, WarningEvent } from '../../bridge/events.js';
@@ -42,7 +42,7 @@ describe('the live scorer with a tolerance', () => {
   const { corpus } = chorales();
   const take = played(passage(corpus.pieces[8].notes, 8, 16, 1), { jitter: 0.06, drop: 0.1, seed: 3 });
   const verdictOf = (tolerance: number) => {
-    const scorer = exactLiveScorer(corpus, { windowBeats: 8, grid: 0, tolerance });
+    const scorer = liveScorer(corpus, { windowBeats: 8, grid: 0, tolerance });
     take.forEach((n, i) => scorer.add({ ...n, seq: i + 1 }));
     return scorer.evaluate();
   };

@@ -16,7 +16,7 @@ import { seededRandom } from '../../core/stats.js';
 import { initialPolicy, stepPolicy } from '../../core/warning-policy.js';
 import { loadCorpusFolder } from '../../bridge/corpus-files.js';
 import { DEMO_ORDER, DEMO_PRESET } from '../../bridge/commands/demo.js';
-import { exactLiveScorer } from '../../bridge/daemon/live-scorer.js';
+import { liveScorer } from '../../bridge/daemon/live-scorer.js';
 import { MELODY_CHANNEL, demoTunes } from '../../bridge/demo/tunes.js';
 import { loadPreset, resolveThreshold } from '../../bridge/presets.js';
 import { ROOT } from '../daemon/helpers.js';
@@ -32,7 +32,7 @@ const preset = resolveThreshold(loadPreset(DEMO_PRESET), CORPUS);
 /** `minutes` of the chain's music at the preset's tempo, scored after every note as the daemon scores it. */
 function perform(order: number, seed: number, minutes: number) {
   const next = generator(trainChain(tunes.map((t) => t.melody), order), seededRandom(seed)).next;
-  const scorer = exactLiveScorer(corpus, { windowBeats: preset.window, grid: preset.grid, tolerance: preset.tolerance });
+  const scorer = liveScorer(corpus, { windowBeats: preset.window, grid: preset.grid, tolerance: preset.tolerance });
   let policy = initialPolicy();
   const raised: { second: number; piece: string; score: number }[] = [];
   let cleared = 0;

@@ -1,0 +1,137 @@
+/**
+ * Live matching at a cost that does not grow with the corpus: the streaming
+ * index's votes (core/stream.ts) name a few candidate translations, each is
+ * verified on the window as played — exactly, or within a tolerance — and
+ * the best one's distinctiveness is counted through the index too.
+ *
+ * Votes are cast with onsets snapped to VOTE_GRID divisions of a beat,
+ * whatever grid the caller matches with: triple keys compare exact time
+ * differences, and a note played a few milliseconds early would otherwise
+ * share no key with the corpus. Verification then looks at the points as
+ * given, within `tolerance` beats, around each voted shift. A passage played
+ * loosely enough that few of its triples snap back to the corpus's keys may
+ * get no vote for its true translation; it then scores what the candidates
+ * found, never more than the brute force would.
+ *
+ * Points come in time order, one at a time (`add`); the window's start
+ * moves with `expire`. A point earlier than one already added (a late note
+ * from a bundle) marks the votes stale, and the next `best` rebuilds them
+ * from the window it is given.
+ *
+ * @example
+ *   const live = new LiveMatcher(index, { windowBeats: 16, tolerance: 0.1 });
+ *   for (const p of played) { live.add(p); live.expire(windowStart); }
+ *   live.best(windowPoints, windowStart)
+ *   // → { piece: 7, pieceStart: 8, transposition: 5, matched: 22, excerptNotes: 24, score: 0.917, distinctiveness: 1 }
+ */
+import { type Point, GRAINS_PER_BEAT, toGrains } from './note.js';
+import { type WindowMatch, betterMatch } from './match.js';
+import { type CorpusIndex, piecePoints } from './triple-index.js';
+import { verifyShift } from './index-match.js';
+import { StreamingMatch } from './stream.js';
+import { type PitchLines, bestInPiece, checkTolerance, pitchLines } from './tolerance.js';
+import { distinctivenessOf, indexedPlacesHolding, matchedMaterial } from './distinctiveness.js';
+
+/** Divisions of a beat onsets snap to before voting: sixteenths and triplets both land on it. */
+export const VOTE_GRID = 12;
+const VOTE_GRAINS = GRAINS_PER_BEAT / VOTE_GRID;
+
+/** Most-voted translations verified per evaluation. */
+export const LIVE_CANDIDATES = 16;
+
+/** Played times are kept relative to an origin so that shifts stay well inside int32 however long a session runs. */
+const REBASE_GRAINS = 2 ** 30;
+
+/** Pieces whose points and pitch lines are kept ready between evaluations. */
+const PIECES_KEPT = 256;
+
+export interface LiveMatcherOptions {
+  windowBeats: number;
+  /** Beats a played onset may stray from the corpus's; 0 = exact. */
+  tolerance: number;
+}
+
+const snap = (at: number): number => Math.round(at / VOTE_GRAINS) * VOTE_GRAINS;
+const snapDown = (at: number): number => Math.floor(at / VOTE_GRAINS) * VOTE_GRAINS;
+
+export class LiveMatcher {
+  private readonly windowGrains: number;
+  private readonly tolGrains: number;
+  private stream: StreamingMatch;
+  private origin = 0;
+  private newest = -Infinity;
+  private stale = false;
+  private readonly pieces = new Map<number, { points: Point[]; lines: PitchLines }>();
+
+  constructor(
+    private readonly index: CorpusIndex,
+    private readonly options: LiveMatcherOptions,
+  ) {
+    checkTolerance(options.tolerance);
+    this.windowGrains = toGrains(options.windowBeats);
+    this.tolGrains = toGrains(options.tolerance);
+    this.stream = new StreamingMatch(index, { windowBeats: options.windowBeats });
+  }
+
+  /** Adds a played point (ontime in grains ≥ 0, pitch in the index's dimension). */
+  add(point: Point): void {
+    if (this.stale) return;
+    const at = snap(point.at);
+    if (at < this.newest || at - this.origin > REBASE_GRAINS) {
+      this.stale = true;
+      return;
+    }
+    this.stream.add({ at: at - this.origin, pitch: point.pitch });
+    this.newest = at;
+  }
+
+  /** The window now starts at `startGrains`: votes of earlier points are taken back. */
+  expire(startGrains: number): void {
+    if (!this.stale) this.stream.expire(Math.max(0, snapDown(startGrains) - this.origin));
+  }
+
+  /** Forgets every point: a new passage. */
+  reset(): void {
+    this.restart(0);
+  }
+
+  private restart(origin: number): void {
+    this.stream = new StreamingMatch(this.index, { windowBeats: this.options.windowBeats });
+    this.origin = origin;
+    this.newest = -Infinity;
+    this.stale = false;
+  }
+
+  private piece(p: number): { points: Point[]; lines: PitchLines } {
+    let kept = this.pieces.get(p);
+    if (!kept) {
+      if (this.pieces.size >= PIECES_KEPT) this.pieces.clear();
+      const points = piecePoints(this.index.points, p);
+      kept = { points, lines: pitchLines(points) };
+      this.pieces.set(p, kept);
+    }
+    return kept;
+  }
+
+  /** The best verified match of `window` (sorted points, ontimes in [startGrains, startGrains + W)), with its distinctiveness. */
+  best(window: readonly Point[], startGrains: number): WindowMatch | null {
+    if (window.length === 0) return null;
+    if (this.stale) {
+      this.restart(snapDown(startGrains));
+      for (const p of window) this.add(p);
+      this.expire(startGrains);
+    }
+    let best: WindowMatch | null = null;
+    for (const t of this.stream.translations(LIVE_CANDIDATES)) {
+      const shift = t.shift + this.origin;
+      const m =
+        this.tolGrains === 0
+          ? verifyShift(this.index, window, startGrains, this.windowGrains, t.piece, shift, t.dp)
+          : bestInPiece({ piece: t.piece, ...this.piece(t.piece), window, startGrains, spanGrains: this.windowGrains, tolGrains: this.tolGrains, near: { translation: { at: shift, pitch: t.dp }, within: this.tolGrains + VOTE_GRAINS } }, null);
+      if (m && betterMatch(m, best)) best = m;
+    }
+    if (!best || best.matched === 0) return best;
+    const material = matchedMaterial(this.piece(best.piece).lines, window, startGrains, best, this.tolGrains);
+    return { ...best, distinctiveness: distinctivenessOf(indexedPlacesHolding(this.index, best.piece, material)) };
+  }
+}
