@@ -39,6 +39,8 @@ export interface OpenedCorpus {
   matcher(view: CorpusPoints, windowBeats: number, exact?: boolean): WindowMatcher;
   /** The corpus index of a pitch dimension, for StreamingMatch: the file's, or built in memory for a folder read file by file. */
   index(mode: PitchMode): CorpusIndex;
+  /** The index file's index of a pitch dimension, or undefined for a corpus read from its MIDI files. */
+  storedIndex(mode: PitchMode): CorpusIndex | undefined;
 }
 
 export interface OpenOptions {
@@ -108,6 +110,7 @@ function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
     view: (mode) => flatView(mode, pieces, pointsOf(mode)),
     matcher: (view, windowBeats, exact) => (exact ? exactMatcher(view, windowBeats) : indexMatcher(indexOf(view.mode), windowBeats)),
     index: indexOf,
+    storedIndex: indexOf,
   };
 }
 
@@ -126,6 +129,7 @@ function fromFolder(dir: string, options: OpenOptions): OpenedCorpus {
     view: (mode) => corpusPoints(corpus, mode),
     matcher: (view, windowBeats) => exactMatcher(view, windowBeats),
     index: (mode) => built.get(mode) ?? built.set(mode, corpusIndex(buildTriples(flattenPoints(corpusPoints(corpus, mode))))).get(mode)!,
+    storedIndex: () => undefined,
   };
 }
 

@@ -10,7 +10,9 @@
  * a step is not counted twice. distinctiveness = 1 / places: 1 when the
  * material is found in one place only, ½ in two, and near 0 for a scale run
  * or a cadence formula that the whole corpus uses. A piece left out of the
- * search (the baseline's own piece) is left out of the count too.
+ * search (the baseline's own piece) is left out of the count too. Material
+ * of fewer than three notes is no figure at all and gets 0: a pair of notes
+ * a given interval and time apart is found all over any corpus.
  *
  * @example
  *   const m = withDistinctiveness(exactMatcher(view, 16), view, 0);
@@ -72,7 +74,10 @@ function countPlaces(shiftsByPiece: Map<number, number[]>, apart: number): numbe
 }
 
 /** Postings the indexed count reads at most (its rarest triples first), and candidate places it verifies. */
-export const PLACES_FILTER = { voteBudget: 20_000, minTriples: 6, candidates: 256 };
+export const PLACES_FILTER = { voteBudget: 4_000, minTriples: 6, candidates: 128 };
+
+/** One vote table for every count: a fresh one would grow (and rehash) to the same size each time. */
+const placeVotes = new VoteTable(14);
 
 /**
  * How many of `material`'s points a piece holds under one translation
@@ -134,7 +139,8 @@ export function indexedPlacesHolding(index: CorpusIndex, source: number, materia
       if (position[a] >= 0 && position[b] >= 0) lookups.keep(index, keyOf(around, a, b, c), position[a]);
     });
   }
-  const votes = new VoteTable();
+  const votes = placeVotes;
+  votes.clear();
   const skipFrom = exclude === undefined ? 0 : offsets[exclude];
   const skipTo = exclude === undefined ? 0 : offsets[exclude + 1];
   const found = lookups.sort();
@@ -161,6 +167,13 @@ export function indexedPlacesHolding(index: CorpusIndex, source: number, materia
 /** 1 / places, in (0, 1]; a match always holds its own place, so fewer than one counts as one. */
 export const distinctivenessOf = (places: number): number => 1 / Math.max(1, places);
 
+/** Material of fewer notes than this is no figure: two notes a given interval and time apart are everywhere. */
+export const MIN_FIGURE_NOTES = 3;
+
+/** The distinctiveness of matched material: 0 below MIN_FIGURE_NOTES, else 1 / the places `count` finds. */
+export const figureDistinctiveness = (material: readonly Point[], count: (material: readonly Point[]) => number): number =>
+  material.length < MIN_FIGURE_NOTES ? 0 : distinctivenessOf(count(material));
+
 /** Each piece's pitch lines, made the first time a match lands in it: most pieces never need them. */
 export function lazyPitchLines(points: (piece: number) => readonly Point[]): (piece: number) => PitchLines {
   const made = new Map<number, PitchLines>();
@@ -183,8 +196,8 @@ export function withDistinctiveness(matcher: WindowMatcher, corpus: CorpusPoints
       const m = matcher.best(window, startGrains, options);
       if (!m || m.matched === 0) return m;
       const material = matchedMaterial(lines(m.piece), window, startGrains, m, tolGrains);
-      const places = index ? indexedPlacesHolding(index, m.piece, material, options.exclude) : placesHolding(material, corpus, options.exclude);
-      return { ...m, distinctiveness: distinctivenessOf(places) };
+      const count = index ? (x: readonly Point[]) => indexedPlacesHolding(index, m.piece, x, options.exclude) : (x: readonly Point[]) => placesHolding(x, corpus, options.exclude);
+      return { ...m, distinctiveness: figureDistinctiveness(material, count) };
     },
   };
 }

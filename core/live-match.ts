@@ -15,8 +15,8 @@
  *
  * Points come in time order, one at a time (`add`); the window's start
  * moves with `expire`. A point earlier than one already added (a late note
- * from a bundle) marks the votes stale, and the next `best` rebuilds them
- * from the window it is given.
+ * from a bundle), a reset or a new matcher leave the votes stale, and the
+ * next `best` rebuilds them from the window it is given.
  *
  * @example
  *   const live = new LiveMatcher(index, { windowBeats: 16, tolerance: 0.1 });
@@ -26,11 +26,11 @@
  */
 import { type Point, GRAINS_PER_BEAT, toGrains } from './note.js';
 import { type WindowMatch, betterMatch } from './match.js';
-import { type CorpusIndex, piecePoints } from './triple-index.js';
+import { type CorpusIndex, lowerBoundAt } from './triple-index.js';
 import { verifyShift } from './index-match.js';
 import { StreamingMatch } from './stream.js';
 import { type PitchLines, bestInPiece, checkTolerance, pitchLines } from './tolerance.js';
-import { distinctivenessOf, indexedPlacesHolding, matchedMaterial } from './distinctiveness.js';
+import { figureDistinctiveness, indexedPlacesHolding, matchedMaterial } from './distinctiveness.js';
 
 /** Divisions of a beat onsets snap to before voting: sixteenths and triplets both land on it. */
 export const VOTE_GRID = 12;
@@ -41,9 +41,6 @@ export const LIVE_CANDIDATES = 16;
 
 /** Played times are kept relative to an origin so that shifts stay well inside int32 however long a session runs. */
 const REBASE_GRAINS = 2 ** 30;
-
-/** Pieces whose points and pitch lines are kept ready between evaluations. */
-const PIECES_KEPT = 256;
 
 export interface LiveMatcherOptions {
   windowBeats: number;
@@ -60,8 +57,8 @@ export class LiveMatcher {
   private stream: StreamingMatch;
   private origin = 0;
   private newest = -Infinity;
-  private stale = false;
-  private readonly pieces = new Map<number, { points: Point[]; lines: PitchLines }>();
+  /** Set when the votes no longer follow the window (a late note, a reset, a new matcher): `best` rebuilds them. */
+  private stale = true;
 
   constructor(
     private readonly index: CorpusIndex,
@@ -90,48 +87,54 @@ export class LiveMatcher {
     if (!this.stale) this.stream.expire(Math.max(0, snapDown(startGrains) - this.origin));
   }
 
-  /** Forgets every point: a new passage. */
+  /** Forgets every point: a new passage. The next `best` builds the votes afresh from the window it is given. */
   reset(): void {
-    this.restart(0);
+    this.stale = true;
   }
 
-  private restart(origin: number): void {
+  /** Votes from nothing but `window`, with times counted from its start. */
+  private rebuild(window: readonly Point[], startGrains: number): void {
     this.stream = new StreamingMatch(this.index, { windowBeats: this.options.windowBeats });
-    this.origin = origin;
+    this.origin = snapDown(startGrains);
     this.newest = -Infinity;
     this.stale = false;
+    for (const p of window) this.add(p);
+    this.expire(startGrains);
   }
 
-  private piece(p: number): { points: Point[]; lines: PitchLines } {
-    let kept = this.pieces.get(p);
-    if (!kept) {
-      if (this.pieces.size >= PIECES_KEPT) this.pieces.clear();
-      const points = piecePoints(this.index.points, p);
-      kept = { points, lines: pitchLines(points) };
-      this.pieces.set(p, kept);
-    }
-    return kept;
+  /**
+   * The points of `piece` a window matched at about `shift` can reach, with
+   * their pitch lines: the excerpt ± `margin` grains, so verification never
+   * builds anything for a whole piece.
+   */
+  private around(piece: number, startGrains: number, shift: number, margin: number): { points: Point[]; lines: PitchLines } {
+    const { at, pitch, offsets } = this.index.points;
+    const from = lowerBoundAt(at, startGrains - shift - margin, offsets[piece], offsets[piece + 1]);
+    const to = lowerBoundAt(at, startGrains - shift + this.windowGrains + margin, from, offsets[piece + 1]);
+    const points: Point[] = [];
+    for (let i = from; i < to; i++) points.push({ at: at[i], pitch: pitch[i] });
+    return { points, lines: pitchLines(points) };
   }
 
   /** The best verified match of `window` (sorted points, ontimes in [startGrains, startGrains + W)), with its distinctiveness. */
   best(window: readonly Point[], startGrains: number): WindowMatch | null {
     if (window.length === 0) return null;
-    if (this.stale) {
-      this.restart(snapDown(startGrains));
-      for (const p of window) this.add(p);
-      this.expire(startGrains);
-    }
+    if (this.stale) this.rebuild(window, startGrains);
+    // Tolerant verification looks at shifts within `within` of the voted one, refined by up to two tolerances more.
+    const within = this.tolGrains + VOTE_GRAINS;
+    const margin = within + 3 * this.tolGrains;
     let best: WindowMatch | null = null;
     for (const t of this.stream.translations(LIVE_CANDIDATES)) {
       const shift = t.shift + this.origin;
       const m =
         this.tolGrains === 0
           ? verifyShift(this.index, window, startGrains, this.windowGrains, t.piece, shift, t.dp)
-          : bestInPiece({ piece: t.piece, ...this.piece(t.piece), window, startGrains, spanGrains: this.windowGrains, tolGrains: this.tolGrains, near: { translation: { at: shift, pitch: t.dp }, within: this.tolGrains + VOTE_GRAINS } }, null);
+          : bestInPiece({ piece: t.piece, ...this.around(t.piece, startGrains, shift, margin), window, startGrains, spanGrains: this.windowGrains, tolGrains: this.tolGrains, near: { translation: { at: shift, pitch: t.dp }, within } }, null);
       if (m && betterMatch(m, best)) best = m;
     }
     if (!best || best.matched === 0) return best;
-    const material = matchedMaterial(this.piece(best.piece).lines, window, startGrains, best, this.tolGrains);
-    return { ...best, distinctiveness: distinctivenessOf(indexedPlacesHolding(this.index, best.piece, material)) };
+    const bestShift = startGrains - toGrains(best.pieceStart);
+    const material = matchedMaterial(this.around(best.piece, startGrains, bestShift, this.tolGrains).lines, window, startGrains, best, this.tolGrains);
+    return { ...best, distinctiveness: figureDistinctiveness(material, (x) => indexedPlacesHolding(this.index, best!.piece, x)) };
   }
 }

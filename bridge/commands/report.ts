@@ -44,9 +44,13 @@ export const corpusCommand = (cli: Command, name: string, description: string): 
     .option('--percussion', 'keep channel 10 (percussion)')
     .option('--json', 'print JSON');
 
-/** The matcher the batch commands score with: the corpus's own (its index's unless --exact), in the chosen matching mode. */
+/**
+ * The matcher the batch commands score with: the corpus's own (its index's
+ * unless --exact), in the chosen matching mode, counting distinctiveness
+ * through the index too when it matches through it.
+ */
 const matcherOf = (opened: OpenedCorpus, view: CorpusPoints, o: CorpusFlags): WindowMatcher =>
-  modeMatcher(view, o.window, modeOf(o), opened.matcher(view, o.window, o.exact));
+  modeMatcher(view, o.window, modeOf(o), opened.matcher(view, o.window, o.exact), o.exact ? undefined : opened.storedIndex(view.mode));
 
 /** Reads the query files: each unreadable one is named on stderr and listed; none readable at all is an error. */
 export function readQueries(paths: string[], o: CorpusFlags): ReturnType<typeof loadQueries> {

@@ -146,7 +146,7 @@ function buildReview(s: LoggedSession, settings: ReviewSettings, opened: OpenedC
   // morphetic scoring spell them in the key they suggest.
   const snapped = snapOnsets(s.notes, settings.grid);
   const notes = settings.pitch === 'morphetic' ? spellNotes(snapped) : snapped;
-  const report = originalityReport([{ file: `session ${s.summary.id}`, notes }], view, modeMatcher(view, settings.window, settings.mode, opened.matcher(view, settings.window)), { ...settings, seed: 1 });
+  const report = originalityReport([{ file: `session ${s.summary.id}`, notes }], view, modeMatcher(view, settings.window, settings.mode, opened.matcher(view, settings.window), opened.storedIndex(view.mode)), { ...settings, seed: 1 });
   const q = report.queries[0];
   const start = Date.parse(s.summary.start);
   const { id, end, corpus: corpusPath, preset } = s.summary;

@@ -1,6 +1,9 @@
 /**
  * Distinctiveness: stock figures that many corpus pieces share score low; a
- * copied chorale phrase scores high. Stock figures are our own invented data
+ * copied chorale phrase scores high. Each is counted both ways — by brute
+ * force over the corpus, and through the corpus index — and the two must
+ * agree here; on held-out chorale windows the index may only find fewer
+ * places, never more. Stock figures are our own invented data
  * (a scale run and a cadence formula planted in seeded random walks); the
  * phrases are JSB chorales (source: test/fixtures/jsb/README.md; train 0–39 as the corpus).
  */
@@ -9,7 +12,10 @@ import type { Note, PitchMode } from '../../core/note.js';
 import { toPoints } from '../../core/note.js';
 import { type Corpus, corpusPoints } from '../../core/corpus.js';
 import { exactMatcher } from '../../core/match.js';
-import { withDistinctiveness } from '../../core/distinctiveness.js';
+import { MIN_FIGURE_NOTES, indexedPlacesHolding, lazyPitchLines, matchedMaterial, placesHolding, withDistinctiveness } from '../../core/distinctiveness.js';
+import { buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
+import { windows } from '../../core/windows.js';
+import { toGrains } from '../../core/note.js';
 import { chorales, passage, randomWalk } from './material.js';
 import { pieceOf } from '../helpers/corpus.js';
 
@@ -32,9 +38,13 @@ const stockCorpus = (): Corpus => ({
   }),
 });
 
+/** The best match with its distinctiveness, counted by brute force and through the index, which must agree. */
 const distinctivenessOf = (c: Corpus, query: Note[], window: number, mode: PitchMode = 'chromatic') => {
   const view = corpusPoints(c, mode);
-  return withDistinctiveness(exactMatcher(view, window), view, 0).best(toPoints(query, mode), 0)!;
+  const brute = withDistinctiveness(exactMatcher(view, window), view, 0).best(toPoints(query, mode), 0)!;
+  const indexed = withDistinctiveness(exactMatcher(view, window), view, 0, corpusIndex(buildTriples(flattenPoints(view)))).best(toPoints(query, mode), 0)!;
+  expect(indexed).toEqual(brute);
+  return brute;
 };
 
 describe('stock figures', () => {
@@ -89,7 +99,47 @@ describe('copied chorale phrases', () => {
 
   test('the piece left out of the search is left out of the count', () => {
     const view = corpusPoints(twice, 'chromatic');
-    const m = withDistinctiveness(exactMatcher(view, 16), view, 0).best(toPoints(phrase), 0, { exclude: 10 })!;
-    expect(m).toMatchObject({ piece: 6, distinctiveness: 1 });
+    const index = corpusIndex(buildTriples(flattenPoints(view)));
+    for (const m of [withDistinctiveness(exactMatcher(view, 16), view, 0), withDistinctiveness(exactMatcher(view, 16), view, 0, index)]) {
+      expect(m.best(toPoints(phrase), 0, { exclude: 10 })).toMatchObject({ piece: 6, distinctiveness: 1 });
+    }
+  });
+});
+
+describe('counting through the index', () => {
+  const { corpus, heldOut } = chorales();
+  const view = corpusPoints(corpus, 'chromatic');
+  const index = corpusIndex(buildTriples(flattenPoints(view)));
+  const exact = exactMatcher(view, 16);
+  const lines = lazyPitchLines((piece) => view.points[piece]);
+
+  test('on every window of 20 held-out chorales: never more places than the brute force, the same in at least 90%', () => {
+    let same = 0;
+    let counted = 0;
+    for (const piece of heldOut) {
+      for (const w of windows(toPoints(piece.notes), { window: 16, hop: 8 })) {
+        const start = toGrains(w.start);
+        const m = exact.best(w.points, start);
+        if (!m) continue;
+        const material = matchedMaterial(lines(m.piece), w.points, start, m, 0);
+        if (material.length < MIN_FIGURE_NOTES) continue;
+        const indexed = indexedPlacesHolding(index, m.piece, material);
+        const brute = placesHolding(material, view);
+        expect(indexed).toBeGreaterThanOrEqual(1);
+        expect(indexed).toBeLessThanOrEqual(brute);
+        counted++;
+        if (indexed === brute) same++;
+      }
+    }
+    expect(counted).toBeGreaterThan(100);
+    expect(same / counted).toBeGreaterThanOrEqual(0.9);
+  });
+
+  test('material of fewer than three notes is no figure: distinctiveness 0 both ways', () => {
+    const view2 = corpusPoints({ pieces: corpus.pieces.slice(0, 4) }, 'chromatic');
+    const pair = view2.points[1].slice(0, 2);
+    for (const m of [withDistinctiveness(exactMatcher(view2, 4), view2, 0), withDistinctiveness(exactMatcher(view2, 4), view2, 0, corpusIndex(buildTriples(flattenPoints(view2))))]) {
+      expect(m.best(pair, pair[0].at)).toMatchObject({ matched: 2, distinctiveness: 0 });
+    }
   });
 });
