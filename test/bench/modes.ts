@@ -17,6 +17,8 @@ import { type CorpusPoints, corpusPoints } from '../../core/corpus.js';
 import { type WindowMatcher, exactMatcher } from '../../core/match.js';
 import { type MatchMode, modeMatcher } from '../../core/match-mode.js';
 import { DEFAULT_WINDOW, windows } from '../../core/windows.js';
+import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
+import { indexMatcher } from '../../core/index-match.js';
 import { chorales } from '../beyond/material.js';
 import { calibrate, calibrationTables } from '../beyond/calibration.js';
 
@@ -46,12 +48,12 @@ const MODES: { mode: string; match: MatchMode | null }[] = [
 /**
  * Times every mode over the same windows. `exact` is the exact-mode matcher
  * the other modes build on (the corpus index's, say); by default the
- * brute-force reference.
+ * brute-force reference. With `index`, distinctiveness is counted through it.
  */
-export function modeCosts(view: CorpusPoints, probes: readonly Probe[], windowBeats: number, exact: WindowMatcher = exactMatcher(view, windowBeats)): ModeCost[] {
+export function modeCosts(view: CorpusPoints, probes: readonly Probe[], windowBeats: number, exact: WindowMatcher = exactMatcher(view, windowBeats), index?: CorpusIndex): ModeCost[] {
   const rows: Omit<ModeCost, 'vsExact'>[] = MODES.map(({ mode, match }) => {
     const t0 = performance.now();
-    const matcher = match ? modeMatcher(view, windowBeats, match, exact) : exact;
+    const matcher = match ? modeMatcher(view, windowBeats, match, exact, index) : exact;
     const t1 = performance.now();
     for (const p of probes) matcher.best(p.points, p.start);
     const t2 = performance.now();
@@ -60,12 +62,18 @@ export function modeCosts(view: CorpusPoints, probes: readonly Probe[], windowBe
   return rows.map((r) => ({ ...r, vsExact: r.msPerWindow / rows[0].msPerWindow }));
 }
 
-/** The rows on the JSB subset: `limit` windows of the held-out chorales against the 40 corpus chorales. */
-export function jsbModeCosts(limit = 40, exact?: (view: CorpusPoints) => WindowMatcher): ModeCost[] {
+/**
+ * The rows on the JSB subset: `limit` windows of the held-out chorales
+ * against the 40 corpus chorales; `indexed`: on the corpus index (its exact
+ * matcher, distinctiveness through it), else by brute force.
+ */
+export function jsbModeCosts(limit = 40, indexed = false): ModeCost[] {
   const { corpus, heldOut } = chorales();
   const view = corpusPoints(corpus, 'chromatic');
   const probes = heldOut.flatMap((p) => windows(toPoints(p.notes), DEFAULT_WINDOW).map((w) => ({ points: w.points, start: toGrains(w.start) }))).slice(0, limit);
-  return modeCosts(view, probes, DEFAULT_WINDOW.window, exact?.(view));
+  if (!indexed) return modeCosts(view, probes, DEFAULT_WINDOW.window);
+  const index = corpusIndex(buildTriples(flattenPoints(view)));
+  return modeCosts(view, probes, DEFAULT_WINDOW.window, indexMatcher(index, DEFAULT_WINDOW.window), index);
 }
 
 export function modeCostTable(rows: readonly ModeCost[]): string {
@@ -82,8 +90,8 @@ if (process.argv[1] && import.meta.url === pathToFileURL(process.argv[1]).href) 
     // The report's windows, then windows like the live presets' (jam: 16 beats, livecode: 8; both snap onsets to 1/12 beat).
     const setups = [
       { shape: DEFAULT_WINDOW, grid: 0, tolerances: [0, 0.025, 0.05, 0.075, 0.1, 0.15, 0.2], tempoFreeTolerances: [0, 0.1] },
-      { shape: { window: 16, hop: 8 }, grid: 12, tolerances: [0, 0.05, 0.1, 0.15], tempoFreeTolerances: [0] },
-      { shape: { window: 8, hop: 4 }, grid: 12, tolerances: [0, 0.05, 0.1, 0.15], tempoFreeTolerances: [0] },
+      { shape: { window: 16, hop: 8 }, grid: 12, tolerances: [0, 0.05, 0.1, 0.15], tempoFreeTolerances: [0], live: [0, 0.1] },
+      { shape: { window: 8, hop: 4 }, grid: 12, tolerances: [0, 0.05, 0.1, 0.15], tempoFreeTolerances: [0], live: [0, 0.1] },
     ];
     for (const { shape, ...options } of setups) {
       const c = calibrate(shape, { ...options, copyStride: 2 });

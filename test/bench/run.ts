@@ -318,7 +318,7 @@ function main(): void {
     rows.push(row);
     process.stdout.write(table(row) + '\n\n');
   }
-  const modes = quick ? [] : jsbModeCosts(40, (view) => indexMatcher(corpusIndex(buildTriples(flattenPoints(view))), W));
+  const modes = quick ? [] : jsbModeCosts(40, true);
   if (modes.length) process.stdout.write(`Matching modes on the JSB subset, built on the index's exact mode:\n${modeCostTable(modes)}\n\n`);
   const summary = {
     quick,

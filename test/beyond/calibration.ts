@@ -13,6 +13,8 @@ import { type Note, type Point, toGrains, toPoints } from '../../core/note.js';
 import { corpusPoints } from '../../core/corpus.js';
 import type { WindowMatcher } from '../../core/match.js';
 import { modeMatcher } from '../../core/match-mode.js';
+import { LiveMatcher } from '../../core/live-match.js';
+import { buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
 import { type WindowShape, windows } from '../../core/windows.js';
 import { chorales, passage, played, randomWalk } from './material.js';
 
@@ -65,6 +67,8 @@ export interface CalibrationOptions {
   copyStride: number;
   /** Divisions per beat played onsets snap to before matching, as the live scorer does (0 = as played). */
   grid: number;
+  /** Tolerances to measure the live path's matcher at (core/live-match.ts: the streaming index's candidates). */
+  live?: number[];
 }
 
 /** Human timing of the unrelated material played, beats. */
@@ -91,16 +95,22 @@ export function calibrate(shape: WindowShape, options: CalibrationOptions): Cali
       probes: unrelated.flatMap((notes, i) => probesOf(toPoints(snap(played(notes, { jitter: PLAYED_JITTER, seed: 900 + i }))), shape)),
     },
   ];
-  const modes = [
-    ...options.tolerances.map((tolerance) => ({ mode: tolerance === 0 ? 'exact' : `tolerance ${tolerance}`, tolerance, tempoFree: false })),
-    ...options.tempoFreeTolerances.map((tolerance) => ({ mode: tolerance === 0 ? 'tempo-free' : `tempo-free, tolerance ${tolerance}`, tolerance, tempoFree: true })),
+  const index = options.live?.length ? corpusIndex(buildTriples(flattenPoints(view))) : null;
+  const modes: { mode: string; matcher: () => WindowMatcher }[] = [
+    ...options.tolerances.map((tolerance) => ({ mode: tolerance === 0 ? 'exact' : `tolerance ${tolerance}`, matcher: () => modeMatcher(view, shape.window, { tolerance, tempoFree: false }) })),
+    ...options.tempoFreeTolerances.map((tolerance) => ({ mode: tolerance === 0 ? 'tempo-free' : `tempo-free, tolerance ${tolerance}`, matcher: () => modeMatcher(view, shape.window, { tolerance, tempoFree: true }) })),
+    ...(options.live ?? []).map((tolerance) => ({
+      mode: `live (streaming index), ${tolerance === 0 ? 'exact' : `tolerance ${tolerance}`}`,
+      // A fresh live matcher builds its votes from the window it is given: what the stream holds after playing it.
+      matcher: (): WindowMatcher => ({ windowBeats: shape.window, best: (w, start) => new LiveMatcher(index!, { windowBeats: shape.window, tolerance }).best(w, start) }),
+    })),
   ];
   return {
     shape,
     grid: options.grid,
     materials: materials.map((m) => ({ name: m.name, copy: m.copy, windows: m.probes.length })),
     modes: modes.map((m) => {
-      const matcher = modeMatcher(view, shape.window, m);
+      const matcher = m.matcher();
       return { mode: m.mode, results: materials.map((material) => measure(matcher, material.probes)) };
     }),
   };
