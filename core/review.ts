@@ -66,12 +66,27 @@ export function worstWindows(windows: readonly WindowResult[], n: number): Match
 
 const pitchIn = (n: Note, mode: PitchMode): number => (mode === 'morphetic' ? n.morph : n.pitch);
 
+/** Index of the first of `notes` (sorted by onset) with onset at or after `grains`. */
+function firstFrom(notes: readonly Note[], grains: number): number {
+  let lo = 0;
+  let hi = notes.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (toGrains(notes[mid].onset) < grains) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo;
+}
+
 function inSpan<N extends Note>(notes: readonly N[], from: number, to: number): N[] {
   return notes.filter((n) => {
     const at = toGrains(n.onset);
     return at >= from && at < to;
   });
 }
+
+/** `inSpan` of a piece's notes, which are sorted by onset: a live verdict asks this of a whole piece after every note. */
+const pieceSpan = (notes: readonly Note[], from: number, to: number): Note[] => notes.slice(firstFrom(notes, from), firstFrom(notes, to));
 
 /**
  * The two excerpts of a matched window. A note is flagged when the match's
@@ -88,7 +103,7 @@ export function excerptPair<N extends Note>(notes: readonly N[], window: Matched
   const pieceFrom = toGrains(window.match.pieceStart);
   const slack = toGrains(tolerance);
   const query = inSpan(notes, from, from + width);
-  const corpus = inSpan(piece.notes, pieceFrom, pieceFrom + Math.round(width / scale));
+  const corpus = pieceSpan(piece.notes, pieceFrom, pieceFrom + Math.round(width / scale));
   const lands = (q: Note, c: Note): boolean =>
     pitchIn(q, mode) === pitchIn(c, mode) + window.match.transposition && Math.abs(toGrains(q.onset) - (from + (toGrains(c.onset) - pieceFrom) * scale)) <= slack;
   return {
