@@ -28,7 +28,7 @@ import { type Point, GRAINS_PER_BEAT, toGrains } from './note.js';
 import { type WindowMatch, betterMatch } from './match.js';
 import { type CorpusIndex, lowerBoundAt } from './triple-index.js';
 import { verifyShift } from './index-match.js';
-import { StreamingMatch } from './stream.js';
+import { StreamingMatch, type VotedTranslation } from './stream.js';
 import { type PitchLines, bestInPiece, checkTolerance, pitchLines } from './tolerance.js';
 import { figureDistinctiveness, indexedPlacesHolding, matchedMaterial } from './distinctiveness.js';
 
@@ -46,6 +46,26 @@ export interface LiveMatcherOptions {
   windowBeats: number;
   /** Beats a played onset may stray from the corpus's; 0 = exact. */
   tolerance: number;
+}
+
+/**
+ * Voted translations of one piece and transposition lie close together when
+ * a passage's notes snapped a little differently: each run of shifts no more
+ * than `within` apart is one search, around its middle, reaching `within`
+ * past its ends.
+ */
+export function nearbyGroups(candidates: readonly VotedTranslation[], within: number): { piece: number; dp: number; shift: number; within: number }[] {
+  const sorted = [...candidates].sort((a, b) => a.piece - b.piece || a.dp - b.dp || a.shift - b.shift);
+  const groups: { piece: number; dp: number; lo: number; hi: number }[] = [];
+  for (const t of sorted) {
+    const last = groups[groups.length - 1];
+    if (last && last.piece === t.piece && last.dp === t.dp && t.shift - last.hi <= within) last.hi = t.shift;
+    else groups.push({ piece: t.piece, dp: t.dp, lo: t.shift, hi: t.shift });
+  }
+  return groups.map((g) => {
+    const shift = Math.floor((g.lo + g.hi) / 2);
+    return { piece: g.piece, dp: g.dp, shift, within: within + Math.max(shift - g.lo, g.hi - shift) };
+  });
 }
 
 const snap = (at: number): number => Math.round(at / VOTE_GRAINS) * VOTE_GRAINS;
@@ -120,17 +140,22 @@ export class LiveMatcher {
   best(window: readonly Point[], startGrains: number): WindowMatch | null {
     if (window.length === 0) return null;
     if (this.stale) this.rebuild(window, startGrains);
-    // Tolerant verification looks at shifts within `within` of the voted one, refined by up to two tolerances more.
-    const within = this.tolGrains + VOTE_GRAINS;
-    const margin = within + 3 * this.tolGrains;
     let best: WindowMatch | null = null;
-    for (const t of this.stream.translations(LIVE_CANDIDATES)) {
-      const shift = t.shift + this.origin;
-      const m =
-        this.tolGrains === 0
-          ? verifyShift(this.index, window, startGrains, this.windowGrains, t.piece, shift, t.dp)
-          : bestInPiece({ piece: t.piece, ...this.around(t.piece, startGrains, shift, margin), window, startGrains, spanGrains: this.windowGrains, tolGrains: this.tolGrains, near: { translation: { at: shift, pitch: t.dp }, within } }, null);
-      if (m && betterMatch(m, best)) best = m;
+    const candidates = this.stream.translations(LIVE_CANDIDATES);
+    if (this.tolGrains === 0) {
+      for (const t of candidates) {
+        const m = verifyShift(this.index, window, startGrains, this.windowGrains, t.piece, t.shift + this.origin, t.dp);
+        if (betterMatch(m, best)) best = m;
+      }
+    } else {
+      // Tolerant verification looks at shifts within `within` of a voted one, refined by up to two tolerances more.
+      const within = this.tolGrains + VOTE_GRAINS;
+      for (const g of nearbyGroups(candidates, within)) {
+        const shift = g.shift + this.origin;
+        const near = { translation: { at: shift, pitch: g.dp }, within: g.within };
+        const m = bestInPiece({ piece: g.piece, ...this.around(g.piece, startGrains, shift, g.within + 3 * this.tolGrains), window, startGrains, spanGrains: this.windowGrains, tolGrains: this.tolGrains, near }, null);
+        if (m && betterMatch(m, best)) best = m;
+      }
     }
     if (!best || best.matched === 0) return best;
     const bestShift = startGrains - toGrains(best.pieceStart);

@@ -13,7 +13,7 @@ import { exactMatcher } from '../../core/match.js';
 import { seededRandom } from '../../core/stats.js';
 import { buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
 import { SCAN_POINTS } from '../../core/index-match.js';
-import { LiveMatcher } from '../../core/live-match.js';
+import { LiveMatcher, nearbyGroups } from '../../core/live-match.js';
 import { toleranceMatcher } from '../../core/tolerance.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';
 import { pieceOf } from '../helpers/corpus.js';
@@ -129,5 +129,19 @@ describe('within a tolerance, on chorales played with human timing', () => {
       if (m.piece === piece && m.score >= 0.7) found++;
     }
     expect(found).toBe(pieces.length);
+  });
+});
+
+describe('nearbyGroups', () => {
+  const t = (piece: number, shift: number, dp: number) => ({ piece, shift, dp, votes: 1 });
+
+  it('one search for shifts of one piece and transposition no more than `within` apart, reaching past both ends', () => {
+    const groups = nearbyGroups([t(2, 1000, 5), t(2, 1300, 5), t(2, 1500, 5), t(2, 2000, 5), t(2, 1300, 4), t(1, 1300, 5)], 320);
+    expect(groups).toEqual([
+      { piece: 1, dp: 5, shift: 1300, within: 320 },
+      { piece: 2, dp: 4, shift: 1300, within: 320 },
+      { piece: 2, dp: 5, shift: 1250, within: 570 },
+      { piece: 2, dp: 5, shift: 2000, within: 320 },
+    ]);
   });
 });
