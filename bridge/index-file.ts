@@ -249,7 +249,7 @@ export interface ReadOptions {
    * Leave the note sections that the asked-for pitch dimensions' point sets
    * do not need (durations, velocities, channels, the other pitch) to be read
    * when first used, as an excerpt's notes are: matching needs only onsets and
-   * one pitch, so a large index loads on half its note bytes. Their presence
+   * one pitch, 5 of the 12 bytes a note takes. Their presence
    * and lengths are checked at once; their checksums when they are read, where
    * a damaged section, or a file replaced in the meantime, is an
    * IndexFileError. A rebuild reuses every note, so it reads them all at once.
