@@ -154,6 +154,8 @@ export function writeIndexFile(file: string, contents: IndexContents): void {
 
 interface Opened {
   fd: number;
+  /** The section table's bytes, to tell later whether the file is still the one read. */
+  table: Buffer;
   sections: Map<string, { crc: number; offset: number; length: number }>;
 }
 
@@ -195,17 +197,23 @@ function openIndex(file: string): Opened {
       if (entry.offset + entry.length > size) throw new IndexFileError(file, `truncated: section ${tag} runs past the end of the file (${size} bytes)`);
       sections.set(tag, entry);
     }
-    return { fd, sections };
+    return { fd, table, sections };
   } catch (e) {
     closeSync(fd);
     throw e;
   }
 }
 
-function section<T extends Typed>(opened: Opened, file: string, tag: string, ctor: TypedCtor, count: number): T {
+/** A section's table entry, when it is there and holds `count` elements. */
+function entryOf(opened: Opened, file: string, tag: string, ctor: TypedCtor, count: number): { crc: number; offset: number; length: number } {
   const entry = opened.sections.get(tag);
   if (!entry) throw new IndexFileError(file, `damaged: section ${tag} is missing`);
   if (entry.length !== count * ctor.BYTES_PER_ELEMENT) throw new IndexFileError(file, `damaged: section ${tag} holds ${entry.length} bytes, expected ${count * ctor.BYTES_PER_ELEMENT}`);
+  return entry;
+}
+
+function section<T extends Typed>(opened: Opened, file: string, tag: string, ctor: TypedCtor, count: number): T {
+  const entry = entryOf(opened, file, tag, ctor, count);
   const bytes = readExactly(opened.fd, file, entry.length, entry.offset, `section ${tag}`);
   if (crc32(bytes) !== entry.crc) throw new IndexFileError(file, `damaged: section ${tag} fails its checksum`);
   return new ctor(bytes.buffer, 0, count) as T;
@@ -236,15 +244,63 @@ function withIndex<T>(file: string, read: (opened: Opened) => T): T {
 /** The pieces, shape and file fingerprints alone: cheap, for deciding whether an index is current. */
 export const readIndexMeta = (file: string): Meta => withIndex(file, (o) => readMeta(o, file));
 
-/** Reads an index with the postings of the given pitch dimensions; every section read is checked. */
-export function readIndexFile(file: string, modes: readonly PitchMode[]): IndexContents {
+export interface ReadOptions {
+  /**
+   * Leave the note sections that the asked-for pitch dimensions' point sets
+   * do not need (durations, velocities, channels, the other pitch) to be read
+   * when first used, as an excerpt's notes are: matching needs only onsets and
+   * one pitch, 5 of the 12 bytes a note takes. Their presence
+   * and lengths are checked at once; their checksums when they are read, where
+   * a damaged section, or a file replaced in the meantime, is an
+   * IndexFileError. A rebuild reuses every note, so it reads them all at once.
+   */
+  deferNotes?: boolean;
+}
+
+/** The note fields the point sets of `modes` are made from. */
+const pointFields = (modes: readonly PitchMode[]): (keyof FlatNotes)[] => ['offsets', 'at', ...modes.map((m): keyof FlatNotes => (m === 'chromatic' ? 'pitch' : 'morph'))];
+
+/**
+ * Reads one section of an index opened earlier, when first used: the file
+ * must still have the section table it had then, so a file rebuilt in the
+ * meantime is never mixed with the one already read.
+ */
+function laterSection<T extends Typed>(file: string, table: Buffer, tag: string, ctor: TypedCtor, count: number): T {
+  return withIndex(file, (opened) => {
+    if (!opened.table.equals(table)) throw new IndexFileError(file, `replaced since it was opened (its section table differs), so its ${tag} section no longer belongs with what was read; open it again`);
+    return section<T>(opened, file, tag, ctor, count);
+  });
+}
+
+/** Sets `field` of `target` to be read by `read` on first use, then kept. */
+function onFirstUse<T extends object>(target: T, field: keyof T, read: () => unknown): void {
+  Object.defineProperty(target, field, {
+    enumerable: true,
+    configurable: true,
+    get: () => {
+      const value = read();
+      Object.defineProperty(target, field, { value, enumerable: true, writable: true });
+      return value;
+    },
+  });
+}
+
+/** Reads an index with the postings of the given pitch dimensions; every section read is checked (`deferNotes`: see ReadOptions). */
+export function readIndexFile(file: string, modes: readonly PitchMode[], options: ReadOptions = {}): IndexContents {
   return withIndex(file, (opened) => {
     const meta = readMeta(opened, file);
     const pieces = meta.pieces.length;
     const offsets = section<Uint32Array>(opened, file, 'NOFS', Uint32Array, pieces + 1);
     if (offsets[pieces] !== meta.notes) throw new IndexFileError(file, `damaged: the piece offsets end at ${offsets[pieces]}, not at the ${meta.notes} notes the index holds`);
     const notes = { offsets } as FlatNotes;
-    for (const [tag, field, ctor] of NOTE_SECTIONS.slice(1)) (notes as unknown as Record<string, Typed>)[field] = section(opened, file, tag, ctor, meta.notes);
+    const now = pointFields(modes);
+    for (const [tag, field, ctor] of NOTE_SECTIONS.slice(1)) {
+      if (!options.deferNotes || now.includes(field)) (notes as unknown as Record<string, Typed>)[field] = section(opened, file, tag, ctor, meta.notes);
+      else {
+        entryOf(opened, file, tag, ctor, meta.notes);
+        onFirstUse(notes, field, () => laterSection(file, opened.table, tag, ctor, meta.notes));
+      }
+    }
     const postings: Partial<Record<PitchMode, ModePostings>> = {};
     for (const mode of modes) {
       if (!meta.modes.includes(mode)) throw new IndexFileError(file, `holds no ${mode} postings`);

@@ -63,11 +63,21 @@ function staleness(dir: string, meta: Meta, percussion: boolean): string | null 
   return null;
 }
 
+/** Runs `read`, turning an unusable index into a usage error: the index's sections are read as they are first needed. */
+function fromFile<T>(read: () => T): T {
+  try {
+    return read();
+  } catch (e) {
+    if (e instanceof IndexFileError) throw new UsageError(e.message);
+    throw e;
+  }
+}
+
 /** Pieces whose notes are read from the index when first used: most code never asks. */
 function lazyPieces(contents: IndexContents): Piece[] {
   return contents.pieces.map((info, i) => {
     let notes: Piece['notes'] | null = null;
-    return Object.defineProperty({ ...info }, 'notes', { enumerable: true, get: () => (notes ??= pieceNotes(contents.notes, i)) }) as Piece;
+    return Object.defineProperty({ ...info }, 'notes', { enumerable: true, get: () => (notes ??= fromFile(() => pieceNotes(contents.notes, i))) }) as Piece;
   });
 }
 
@@ -82,24 +92,18 @@ function flatView(mode: PitchMode, pieces: readonly Piece[], flat: FlatPoints): 
 }
 
 function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
-  let contents: IndexContents;
-  try {
-    contents = readIndexFile(file, [options.pitch ?? 'chromatic']);
-  } catch (e) {
-    if (e instanceof IndexFileError) throw new UsageError(e.message);
-    throw e;
-  }
+  const contents = fromFile(() => readIndexFile(file, [options.pitch ?? 'chromatic'], { deferNotes: true }));
   if (contents.percussion !== (options.percussion ?? false)) {
     throw new UsageError(`--corpus ${file}: the index was built ${contents.percussion ? 'with' : 'without'} --percussion; rebuild it with the same choice, or leave the option ${contents.percussion ? 'on' : 'off'}`);
   }
   const pieces = lazyPieces(contents);
   const indexes = new Map<PitchMode, CorpusIndex>();
   const points = new Map<PitchMode, FlatPoints>();
-  const pointsOf = (mode: PitchMode): FlatPoints => points.get(mode) ?? points.set(mode, notePoints(contents.notes, mode)).get(mode)!;
+  const pointsOf = (mode: PitchMode): FlatPoints => points.get(mode) ?? points.set(mode, fromFile(() => notePoints(contents.notes, mode))).get(mode)!;
   const indexOf = (mode: PitchMode): CorpusIndex => {
     const known = indexes.get(mode);
     if (known) return known;
-    const postings = contents.postings[mode] ?? readIndexFile(file, [mode]).postings[mode]!;
+    const postings = contents.postings[mode] ?? fromFile(() => readIndexFile(file, [mode], { deferNotes: true })).postings[mode]!;
     return indexes.set(mode, corpusIndex({ ...postings, points: pointsOf(mode), shape: contents.shape })).get(mode)!;
   };
   return {

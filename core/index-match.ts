@@ -7,7 +7,9 @@
  * anchor time − corpus anchor time, window pitch − corpus pitch). The most-voted translations are then scored exactly as
  * core/match.ts scores them, so a score found here is the brute-force score
  * of that translation, never more than the window's exact best, and equal to
- * it whenever the best translation was among those verified.
+ * it whenever the best translation was among those verified. A window that
+ * finds no match of 0.5 so reads a little further and verifies more of the
+ * translations voted for more than twice (FilterSettings.widenBelow).
  *
  * Windows of at most eight points are scanned instead (scanBest): a match of
  * 0.5 there needs only two to four points in common, too few for triples.
@@ -31,9 +33,24 @@ export interface FilterSettings {
   minTriples: number;
   /** Most-voted translations scored exactly. */
   candidates: number;
+  /**
+   * A window whose best verified score is below this looks again. Votes count
+   * shared triples, not the score's share of the excerpt, so a half match in
+   * a sparse excerpt can trail, far down the votes, a denser excerpt that
+   * scores less (on the chorales, where chord shapes recur everywhere, that
+   * cost 1% of the windows scoring ≥ 0.5); a window that found a strong match
+   * at once is not looked at again, so verbatim copies cost nothing more.
+   */
+  widenBelow: number;
+  /** The second look reads on, rarest first, to this many postings in all… */
+  wideBudget: number;
+  /** …and verifies up to this many most-voted translations… */
+  wideCandidates: number;
+  /** …of those with at least this many votes: a single shared chord shape is not worth verifying. */
+  wideVotes: number;
 }
 
-export const DEFAULT_FILTER: FilterSettings = { queryPartners: 3, voteBudget: 2_000, minTriples: 6, candidates: 16 };
+export const DEFAULT_FILTER: FilterSettings = { queryPartners: 3, voteBudget: 2_000, minTriples: 6, candidates: 16, widenBelow: 0.5, wideBudget: 2_500, wideCandidates: 128, wideVotes: 3 };
 
 /**
  * Windows with at most this many points are scanned (scanBest): a match of
@@ -69,10 +86,10 @@ export function verifyShift(index: CorpusIndex, window: readonly Point[], startG
   return { piece, pieceStart: from / GRAINS_PER_BEAT, transposition: dp, matched, excerptNotes, score: matched / Math.max(window.length, excerptNotes) };
 }
 
-/** Scores the most-voted translations exactly; the best under `betterMatch`. */
-export function verifyTop(index: CorpusIndex, votes: VoteTable, window: readonly Point[], startGrains: number, windowGrains: number, candidates: number): WindowMatch | null {
+/** Scores the most-voted translations (those with at least `atLeast` votes) exactly; the best under `betterMatch`. */
+export function verifyTop(index: CorpusIndex, votes: VoteTable, window: readonly Point[], startGrains: number, windowGrains: number, candidates: number, atLeast = 1): WindowMatch | null {
   let best: WindowMatch | null = null;
-  for (const slot of votes.top(candidates)) {
+  for (const slot of votes.top(candidates, atLeast)) {
     const m = verifyShift(index, window, startGrains, windowGrains, votes.pieceAt(slot), votes.shiftAt(slot), votes.dpAt(slot));
     if (betterMatch(m, best)) best = m;
   }
@@ -208,15 +225,24 @@ export function indexMatcher(index: CorpusIndex, windowBeats: number, settings: 
       const skipTo = options.exclude === undefined ? 0 : offsets[options.exclude + 1];
       votes.clear();
       const found = lookups.sort();
-      for (let r = 0, spent = 0; r < found; r++) {
-        const k = lookups.keyAt(r);
-        const from = starts[k];
-        const to = starts[k + 1];
-        if (r >= settings.minTriples && spent + to - from > settings.voteBudget) break;
-        spent += to - from;
-        castVotes(index, votes, window[lookups.anchorAt(r)], k, 1, skipFrom, skipTo);
-      }
-      return verifyTop(index, votes, window, startGrains, windowGrains, settings.candidates);
+      let r = 0;
+      let spent = 0;
+      /** Votes with the next rarest triples until `budget` postings are read (at least `minTriples` triples). */
+      const readUpTo = (budget: number): void => {
+        for (; r < found; r++) {
+          const k = lookups.keyAt(r);
+          const size = starts[k + 1] - starts[k];
+          if (r >= settings.minTriples && spent + size > budget) break;
+          spent += size;
+          castVotes(index, votes, window[lookups.anchorAt(r)], k, 1, skipFrom, skipTo);
+        }
+      };
+      readUpTo(settings.voteBudget);
+      const first = verifyTop(index, votes, window, startGrains, windowGrains, settings.candidates);
+      if ((first?.score ?? 0) >= settings.widenBelow) return first;
+      readUpTo(settings.wideBudget);
+      const wide = verifyTop(index, votes, window, startGrains, windowGrains, settings.wideCandidates, settings.wideVotes);
+      return wide && betterMatch(wide, first) ? wide : first;
     },
   };
 }

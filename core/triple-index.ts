@@ -199,11 +199,13 @@ export function corpusIndex(postings: TriplePostings): CorpusIndex {
   }
   const pieces = points.offsets.length - 1;
   if (pieces > MAX_PIECES) throw new RangeError(`an index holds at most ${MAX_PIECES} pieces, this corpus has ${pieces}`);
-  const packed = new Int32Array(points.at.length * 2);
+  const { at, pitch, offsets } = points;
+  const packed = new Int32Array(at.length * 2);
   for (let p = 0; p < pieces; p++) {
-    for (let i = points.offsets[p]; i < points.offsets[p + 1]; i++) {
-      packed[2 * i] = points.at[i];
-      packed[2 * i + 1] = (p << 8) | points.pitch[i];
+    const end = offsets[p + 1];
+    for (let i = offsets[p]; i < end; i++) {
+      packed[2 * i] = at[i];
+      packed[2 * i + 1] = (p << 8) | pitch[i];
     }
   }
   return {

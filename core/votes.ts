@@ -94,12 +94,12 @@ export class VoteTable {
     this.size = 0;
   }
 
-  /** The `n` most-voted entries, most first; ties keep the order of first vote. */
-  top(n: number): number[] {
+  /** The `n` most-voted entries with at least `atLeast` votes, most first; ties keep the order of first vote. */
+  top(n: number, atLeast = 1): number[] {
     const best: number[] = [];
     for (let e = 0; e < this.size; e++) {
       const c = this.count[e];
-      if (c <= 0 || (best.length === n && c <= this.count[best[n - 1]])) continue;
+      if (c < atLeast || (best.length === n && c <= this.count[best[n - 1]])) continue;
       let i = best.length < n ? best.length : n - 1;
       while (i > 0 && this.count[best[i - 1]] < c) {
         if (i < n) best[i] = best[i - 1];

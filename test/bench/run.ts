@@ -158,7 +158,7 @@ function freshLoadSeconds(file: string): number {
     const { notePoints } = await import(${JSON.stringify(join(dist, 'core/flat-notes.js'))});
     const { corpusIndex } = await import(${JSON.stringify(join(dist, 'core/triple-index.js'))});
     const t = performance.now();
-    const read = readIndexFile(${JSON.stringify(file)}, ['chromatic']);
+    const read = readIndexFile(${JSON.stringify(file)}, ['chromatic'], { deferNotes: true });
     corpusIndex({ ...read.postings.chromatic, points: notePoints(read.notes, 'chromatic'), shape: read.shape });
     process.stdout.write(String((performance.now() - t) / 1000));`;
   const r = spawnSync(process.execPath, ['--input-type=module', '-e', script], { encoding: 'utf8' });

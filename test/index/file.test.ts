@@ -16,6 +16,8 @@ import { corpusPoints } from '../../core/corpus.js';
 import { flattenNotes, joinNotes, notePoints, pieceNotes } from '../../core/flat-notes.js';
 import { buildTriples, flattenPoints } from '../../core/triple-index.js';
 import { type IndexContents, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta, writeIndexFile } from '../../bridge/index-file.js';
+import { openCorpus } from '../../bridge/open-corpus.js';
+import { UsageError } from '../../bridge/usage.js';
 import { corpusOf, pieceOf } from '../helpers/corpus.js';
 import { loadChorales } from '../helpers/jsb.js';
 
@@ -119,6 +121,42 @@ describe('index file', () => {
     later[8] = 2;
     expect(failure(broken('later', later)).message).toMatch(/index format version 2; this earwitness reads version 1/);
     expect(failure(join(dir, 'missing')).message).toMatch(/cannot be read \(ENOENT\)/);
+  });
+
+  /** Where a section's bytes start in an index file, from its section table. */
+  const sectionAt = (data: Uint8Array, tag: string): number => {
+    const view = Buffer.from(data.buffer, data.byteOffset, data.byteLength);
+    for (let e = 24; e < 24 + 24 * view.readUInt32LE(12); e += 24) if (view.toString('latin1', e, e + 4) === tag) return Number(view.readBigUInt64LE(e + 8));
+    throw new Error(`no section ${tag}`);
+  };
+
+  it('deferred notes: onsets and the asked-for pitch at once, the rest read and checked on first use, equal to what was written', () => {
+    const back = readIndexFile(file, ['chromatic'], { deferNotes: true });
+    expect(Object.getOwnPropertyDescriptor(back.notes, 'at')!.value).toEqual(written.notes.at);
+    expect(Object.getOwnPropertyDescriptor(back.notes, 'pitch')!.value).toEqual(written.notes.pitch);
+    for (const field of ['duration', 'morph', 'velocity', 'channel']) expect(Object.getOwnPropertyDescriptor(back.notes, field)!.get).toBeTypeOf('function');
+    expect(pieceNotes(back.notes, 3)).toEqual(corpus.pieces[3].notes);
+    expect(back.notes).toEqual(written.notes);
+    expect(notePoints(readIndexFile(file, ['chromatic'], { deferNotes: true }).notes, 'morphetic')).toEqual(notePoints(notes, 'morphetic'));
+  });
+
+  it('a damaged deferred section is refused when first used, naming the section and how to rebuild; read at once, it is refused at once', () => {
+    const damaged = Uint8Array.from(bytes);
+    damaged[sectionAt(bytes, 'NVEL') + 5] ^= 0x40;
+    const f = broken('flip-velocity', damaged);
+    const back = readIndexFile(f, ['chromatic'], { deferNotes: true });
+    expect(back.notes.at).toEqual(written.notes.at);
+    expect(() => pieceNotes(back.notes, 0)).toThrow(IndexFileError);
+    expect(() => back.notes.velocity).toThrow(`${f}: damaged: section NVEL fails its checksum; rebuild it with: earwitness corpus build CORPUS_FOLDER --out ${f}`);
+    expect(failure(f).message).toMatch(/damaged: section NVEL fails its checksum/);
+    expect(() => openCorpus(f).corpus.pieces[0].notes).toThrow(UsageError);
+  });
+
+  it('a deferred section of a file replaced since it was opened is refused, not mixed with what was read', () => {
+    const f = broken('replaced', bytes);
+    const back = readIndexFile(f, ['chromatic'], { deferNotes: true });
+    writeIndexFile(f, { ...written, pieces: written.pieces.slice(0, 11), files: written.files.slice(0, 11), notes: joinNotes(written.pieces.slice(0, 11).map((_, piece) => ({ notes, piece }))) });
+    expect(() => back.notes.duration).toThrow(/replaced since it was opened \(its section table differs\), so its NDUR section no longer belongs with what was read; open it again; rebuild it with/);
   });
 
   it('in the default place, the message names the folder to rebuild', () => {

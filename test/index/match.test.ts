@@ -17,7 +17,7 @@ import { type WindowMatch, type WindowMatcher, exactMatcher } from '../../core/m
 import { windows } from '../../core/windows.js';
 import { seededRandom } from '../../core/stats.js';
 import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
-import { indexMatcher, scanBest } from '../../core/index-match.js';
+import { DEFAULT_FILTER, indexMatcher, scanBest } from '../../core/index-match.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';
 import { corpusOf, pieceOf } from '../helpers/corpus.js';
 import { loadChorales } from '../helpers/jsb.js';
@@ -132,6 +132,30 @@ describe('indexed matching equals exact matching wherever the exact score is ≥
       { numRuns: 100, seed: 4 },
     );
     expect(strong).toBeGreaterThanOrEqual(20);
+  });
+
+  it('a window whose first look finds no match of 0.5 looks again, wider; one that found one is left as it was', () => {
+    const queries = [
+      copyOf(corpus[3], { from: 61.5, beats: 40, move: 0, transpose: -7, alter: 0.2, seed: 2 }),
+      copyOf(corpus[4], { from: 10, beats: 32, move: 3.25, transpose: 2, alter: 0.3, seed: 3 }),
+      copyOf(corpus[0], { from: 30, beats: 40, move: 1, transpose: 4, alter: 0.4, seed: 4 }),
+      unrelated(78, 40),
+    ];
+    // A first look too narrow to be sure (few postings, one candidate), so the second has something to find.
+    const narrow = { ...DEFAULT_FILTER, voteBudget: 0, minTriples: 1, candidates: 1 };
+    const once = compare(queries, exact, indexMatcher(indexOf(view), W, { ...narrow, widenBelow: 0 }));
+    const twice = compare(queries, exact, indexMatcher(indexOf(view), W, { ...narrow, wideBudget: 2_000, wideCandidates: 16, wideVotes: 2 }));
+    let found = [0, 0];
+    once.forEach((r, i) => {
+      const [a, b] = [r.indexed?.score ?? 0, twice[i].indexed?.score ?? 0];
+      if (a >= 0.5) expect(twice[i].indexed).toEqual(r.indexed);
+      expect(b).toBeGreaterThanOrEqual(a);
+      expect(b).toBeLessThanOrEqual(r.exact?.score ?? 0);
+      if ((r.exact?.score ?? 0) >= 0.5) found = [found[0] + Number(a === r.exact!.score), found[1] + Number(b === r.exact!.score)];
+    });
+    // Both looks matter here: the first alone finds some of the strong windows, the second the rest.
+    expect(found[0]).toBeGreaterThan(0);
+    expect(found[1]).toBeGreaterThan(found[0]);
   });
 
   it('`exclude` leaves the piece out, as the human baseline needs', () => {

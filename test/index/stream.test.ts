@@ -14,7 +14,7 @@ import { exactMatcher } from '../../core/match.js';
 import { seededRandom } from '../../core/stats.js';
 import { buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
 import { indexMatcher } from '../../core/index-match.js';
-import { StreamingMatch } from '../../core/stream.js';
+import { DEFAULT_STREAM, StreamingMatch } from '../../core/stream.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';
 import { pieceOf } from '../helpers/corpus.js';
 
@@ -91,6 +91,46 @@ describe('streaming matches equal exact matches of the same window', () => {
     }
     expect(stream.best()).toEqual(fresh.best());
     expect(stream.best()!.score).toBe(1);
+  });
+
+  it('no note reads more than noteCap postings as it comes, and expiring takes back just those; a note whose every triple is commoner votes nothing', () => {
+    /** The index with its postings counted as they are read. */
+    const counting = (): { index: typeof index; reads: () => number } => {
+      let n = 0;
+      const anchors = new Proxy(index.anchors, { get: (a, k) => (typeof k === 'string' && /^\d+$/.test(k) ? (n++, a[Number(k)]) : Reflect.get(a, k)) });
+      return { index: { ...index, anchors }, reads: () => n };
+    };
+    const played = session();
+    /** Over the session: the most postings one add() read, and all that add() and expire() read (the last expire empties the window). */
+    const cost = (noteCap: number): { most: number; added: number; expired: number } => {
+      const { index: counted, reads } = counting();
+      const stream = new StreamingMatch(counted, { windowBeats: W, settings: { ...DEFAULT_STREAM, noteCap } });
+      const out = { most: 0, added: 0, expired: 0 };
+      for (const [i, p] of played.entries()) {
+        let before = reads();
+        stream.add(p);
+        out.most = Math.max(out.most, reads() - before);
+        out.added += reads() - before;
+        before = reads();
+        stream.expire(i === played.length - 1 ? p.at + 1 : p.at - toGrains(W) + 1);
+        out.expired += reads() - before;
+      }
+      return out;
+    };
+    const uncapped = cost(Infinity);
+    const cap = Math.floor(uncapped.most / 2);
+    expect(cap).toBeLessThan(DEFAULT_STREAM.noteBudget);
+    const capped = cost(cap);
+    expect(capped.most).toBeLessThanOrEqual(cap);
+    expect(capped.added).toBeLessThan(uncapped.added);
+    expect([capped.expired, uncapped.expired]).toEqual([capped.added, uncapped.added]);
+    // With a cap below every triple's postings nothing votes: a window too big to scan finds nothing.
+    const silent = new StreamingMatch(index, { windowBeats: W, settings: { ...DEFAULT_STREAM, noteCap: 0 } });
+    const window = played.filter((q) => q.at >= toGrains(100) && q.at < toGrains(116));
+    silent.expire(toGrains(100));
+    for (const p of window) silent.add(p);
+    expect(window.length).toBeGreaterThan(8);
+    expect(silent.best()).toBeNull();
   });
 
   it('says what is wrong with out-of-order or out-of-range input', () => {
