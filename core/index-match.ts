@@ -42,7 +42,13 @@ export interface FilterSettings {
    * at once is not looked at again, so verbatim copies cost nothing more.
    */
   widenBelow: number;
-  /** The second look reads on, rarest first, to this many postings in all… */
+  /**
+   * The second look reads on, rarest first, to this many postings in all
+   * for a corpus of up to a million notes, and √(notes / 1M) times as many
+   * beyond (`wideBudgetFor`): a triple's postings grow with the corpus, so a
+   * fixed budget reads ever fewer triples (at 10M notes 2,500 postings found
+   * 55 of 61 altered copies that reading every posting finds, 8,000 all 61)…
+   */
   wideBudget: number;
   /** …and verifies up to this many most-voted translations… */
   wideCandidates: number;
@@ -205,6 +211,9 @@ export function castVotes(index: CorpusIndex, votes: VoteTable, anchor: Point, k
   }
 }
 
+/** The second look's budget for a corpus of `notes` notes (FilterSettings.wideBudget). */
+export const wideBudgetFor = (settings: FilterSettings, notes: number): number => Math.round(settings.wideBudget * Math.max(1, Math.sqrt(notes / 1_000_000)));
+
 /** The batch matcher over an index; `report` and `baseline` use it like the exact one. */
 export function indexMatcher(index: CorpusIndex, windowBeats: number, settings: FilterSettings = DEFAULT_FILTER): WindowMatcher {
   const windowGrains = toGrains(windowBeats);
@@ -213,6 +222,7 @@ export function indexMatcher(index: CorpusIndex, windowBeats: number, settings: 
   const lookups = new TripleLookups();
   const { starts } = index;
   const { offsets } = index.points;
+  const wideBudget = wideBudgetFor(settings, index.points.at.length);
   return {
     windowBeats,
     best(window: readonly Point[], startGrains: number, options: MatchOptions = {}) {
@@ -240,7 +250,7 @@ export function indexMatcher(index: CorpusIndex, windowBeats: number, settings: 
       readUpTo(settings.voteBudget);
       const first = verifyTop(index, votes, window, startGrains, windowGrains, settings.candidates);
       if ((first?.score ?? 0) >= settings.widenBelow) return first;
-      readUpTo(settings.wideBudget);
+      readUpTo(wideBudget);
       const wide = verifyTop(index, votes, window, startGrains, windowGrains, settings.wideCandidates, settings.wideVotes);
       return wide && betterMatch(wide, first) ? wide : first;
     },

@@ -17,7 +17,7 @@ import { type WindowMatch, type WindowMatcher, exactMatcher } from '../../core/m
 import { windows } from '../../core/windows.js';
 import { seededRandom } from '../../core/stats.js';
 import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
-import { DEFAULT_FILTER, indexMatcher, scanBest } from '../../core/index-match.js';
+import { DEFAULT_FILTER, indexMatcher, scanBest, wideBudgetFor } from '../../core/index-match.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';
 import { corpusOf, pieceOf } from '../helpers/corpus.js';
 import { loadChorales } from '../helpers/jsb.js';
@@ -187,5 +187,14 @@ describe('on the JSB chorales (open dataset, test/fixtures/jsb)', () => {
     const { strong, identical } = expectAgreement(rows);
     expect(strong).toBeGreaterThanOrEqual(6);
     expect(identical / strong).toBeGreaterThanOrEqual(0.9);
+  });
+});
+
+describe('the second look reads more of a larger corpus', () => {
+  it('its budget as set up to a million notes, √(notes / 1M) times it beyond', () => {
+    expect(wideBudgetFor(DEFAULT_FILTER, 80_000)).toBe(DEFAULT_FILTER.wideBudget);
+    expect(wideBudgetFor(DEFAULT_FILTER, 1_000_000)).toBe(DEFAULT_FILTER.wideBudget);
+    expect(wideBudgetFor(DEFAULT_FILTER, 4_000_000)).toBe(2 * DEFAULT_FILTER.wideBudget);
+    expect(wideBudgetFor({ ...DEFAULT_FILTER, wideBudget: 100 }, 9_000_000)).toBe(300);
   });
 });
