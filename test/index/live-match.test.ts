@@ -18,24 +18,8 @@ import { toleranceMatcher } from '../../core/tolerance.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';
 import { pieceOf } from '../helpers/corpus.js';
 import { chorales, passage, played } from '../beyond/material.js';
+import { W, exact, index, session } from './session.js';
 
-const W = 16;
-const corpus = synthCorpus({ notes: 5_000, seed: 21 });
-const view: CorpusPoints = { mode: 'chromatic', pieces: corpus.map((_, i) => pieceOf(`p${i}.mid`, [])), points: corpus, size: corpus.flat().length };
-const index = corpusIndex(buildTriples(flattenPoints(view)));
-const exact = exactMatcher(view, W);
-
-/** A corpus passage a fifth up from beat 100, new material, then another passage with 20% of pitches a step off. */
-function session(): Point[] {
-  const rand = seededRandom(4);
-  const from = (piece: number, beat: number, beats: number, at: number, transpose: number, alter: number): Point[] =>
-    corpus[piece]
-      .filter((p) => p.at >= toGrains(beat) && p.at < toGrains(beat + beats))
-      .map((p) => ({ at: p.at - toGrains(beat) + toGrains(at), pitch: p.pitch + transpose + (rand() < alter ? 1 : 0) }));
-  const fresh = unrelated(5, 24).map((p) => ({ at: p.at + toGrains(132), pitch: p.pitch }));
-  const all = [...from(1, 30, 32, 100, 7, 0), ...fresh, ...from(3, 8, 32, 156, -2, 0.2)].sort(comparePoints);
-  return all.filter((p, i) => i === 0 || comparePoints(all[i - 1], p) !== 0);
-}
 
 /** Plays `points` into a matcher one at a time, the window being the last W beats; calls `look` with each window. */
 function play(live: LiveMatcher, points: readonly Point[], look: (window: Point[], start: number, n: number) => void): void {

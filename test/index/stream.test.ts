@@ -17,24 +17,7 @@ import { indexMatcher } from '../../core/index-match.js';
 import { DEFAULT_STREAM, StreamingMatch } from '../../core/stream.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';
 import { pieceOf } from '../helpers/corpus.js';
-
-const W = 16;
-const corpus = synthCorpus({ notes: 5_000, seed: 21 });
-const view: CorpusPoints = { mode: 'chromatic', pieces: corpus.map((_, i) => pieceOf(`p${i}.mid`, [])), points: corpus, size: corpus.flat().length };
-const index = corpusIndex(buildTriples(flattenPoints(view)));
-const exact = exactMatcher(view, W);
-
-/** A performance: a corpus passage played a fifth up from beat 100 of the session, a stretch of new material, then another passage with 20% of pitches off by a step. */
-function session(): Point[] {
-  const rand = seededRandom(4);
-  const from = (piece: number, beat: number, beats: number, at: number, transpose: number, alter: number): Point[] =>
-    corpus[piece]
-      .filter((p) => p.at >= toGrains(beat) && p.at < toGrains(beat + beats))
-      .map((p) => ({ at: p.at - toGrains(beat) + toGrains(at), pitch: p.pitch + transpose + (rand() < alter ? 1 : 0) }));
-  const fresh = unrelated(5, 24).map((p) => ({ at: p.at + toGrains(132), pitch: p.pitch }));
-  const all = [...from(1, 30, 32, 100, 7, 0), ...fresh, ...from(3, 8, 32, 156, -2, 0.2)].sort(comparePoints);
-  return all.filter((p, i) => i === 0 || comparePoints(all[i - 1], p) !== 0);
-}
+import { W, corpus, exact, index, session, view } from './session.js';
 
 describe('streaming matches equal exact matches of the same window', () => {
   it('after every note of a session, for the window of the last 16 beats', () => {
