@@ -94,7 +94,7 @@ export class LiveMatcher {
   add(point: Point): void {
     if (this.stale) return;
     const at = snap(point.at);
-    if (at < this.newest || at - this.origin > REBASE_GRAINS) {
+    if (at < this.newest || at < this.origin || at - this.origin > REBASE_GRAINS) {
       this.stale = true;
       return;
     }
@@ -115,7 +115,7 @@ export class LiveMatcher {
   /** Votes from nothing but `window`, with times counted from its start. */
   private rebuild(window: readonly Point[], startGrains: number): void {
     this.stream = new StreamingMatch(this.index, { windowBeats: this.options.windowBeats });
-    this.origin = snapDown(startGrains);
+    this.origin = snapDown(Math.min(startGrains, window[0].at));
     this.newest = -Infinity;
     this.stale = false;
     for (const p of window) this.add(p);

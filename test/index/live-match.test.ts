@@ -88,6 +88,17 @@ describe('exact (tolerance 0)', () => {
     expect(m).toMatchObject({ piece: e.piece, pieceStart: e.pieceStart, transposition: e.transposition, score: 1 });
   });
 
+  it('a note before the window start, or before the first note it voted with, is taken in stride', () => {
+    const passage = session().filter((p) => p.at >= toGrains(100) && p.at < toGrains(116));
+    const start = passage[0].at;
+    const early = [{ at: start - toGrains(0.05), pitch: 40 }, ...passage];
+    expect(new LiveMatcher(index, { windowBeats: W, tolerance: 0.1 }).best(early, start)).toMatchObject({ score: expect.any(Number) });
+    const live = new LiveMatcher(index, { windowBeats: W, tolerance: 0 });
+    live.best(passage.slice(5), passage[5].at);
+    live.add(passage[0]);
+    expect(live.best(passage, start)!.score).toBe(1);
+  });
+
   it('refuses a tolerance it cannot use', () => {
     expect(() => new LiveMatcher(index, { windowBeats: W, tolerance: 1 })).toThrow(/tolerance must be at least 0 and under 1 beat/);
   });
