@@ -4,8 +4,8 @@
  * verified on the window as played — exactly, or within a tolerance — and
  * the best one's distinctiveness is counted through the index too.
  *
- * Votes are cast with onsets snapped to VOTE_GRID divisions of a beat,
- * whatever grid the caller matches with: triple keys compare exact time
+ * Votes are cast with onsets snapped to the VOTE_GRIDS, whatever grid the
+ * caller matches with: triple keys compare exact time
  * differences, and a note played a few milliseconds early would otherwise
  * share no key with the corpus. Verification then looks at the points as
  * given, within `tolerance` beats, around each voted shift. A passage played
@@ -32,9 +32,16 @@ import { StreamingMatch, type VotedTranslation } from './stream.js';
 import { type PitchLines, bestInPiece, checkTolerance, pitchLines } from './tolerance.js';
 import { figureDistinctiveness, indexedPlacesHolding, matchedMaterial } from './distinctiveness.js';
 
-/** Divisions of a beat onsets snap to before voting: sixteenths and triplets both land on it. */
-export const VOTE_GRID = 12;
-const VOTE_GRAINS = GRAINS_PER_BEAT / VOTE_GRID;
+/**
+ * Divisions of a beat onsets snap to before voting, each grid a stream of
+ * votes of its own: 12 holds sixteenths and triplets, and brings back a note
+ * played up to 1/24 beat off; 4 brings back a sixteenth played up to ⅛ beat
+ * off, which 12 would snap to a neighbour. The coarse one votes only when
+ * matching within a tolerance: exactly, a note that far off cannot match.
+ */
+export const VOTE_GRIDS = { fine: 12, coarse: 4 };
+const FINE_GRAINS = GRAINS_PER_BEAT / VOTE_GRIDS.fine;
+const COARSE_GRAINS = GRAINS_PER_BEAT / VOTE_GRIDS.coarse;
 
 /** Most-voted translations verified per evaluation. */
 export const LIVE_CANDIDATES = 16;
@@ -68,15 +75,23 @@ export function nearbyGroups(candidates: readonly VotedTranslation[], within: nu
   });
 }
 
-const snap = (at: number): number => Math.round(at / VOTE_GRAINS) * VOTE_GRAINS;
-const snapDown = (at: number): number => Math.floor(at / VOTE_GRAINS) * VOTE_GRAINS;
+const snap = (at: number, grains: number): number => Math.round(at / grains) * grains;
+const snapDown = (at: number, grains: number): number => Math.floor(at / grains) * grains;
+
+/** One grid's votes: the played points snapped to it, streamed. */
+interface Voter {
+  grains: number;
+  stream: StreamingMatch;
+  newest: number;
+}
 
 export class LiveMatcher {
   private readonly windowGrains: number;
   private readonly tolGrains: number;
-  private stream: StreamingMatch;
+  private readonly grids: number[];
+  private voters: Voter[] = [];
+  /** Times are counted from here, a multiple of every grid's step. */
   private origin = 0;
-  private newest = -Infinity;
   /** Set when the votes no longer follow the window (a late note, a reset, a new matcher): `best` rebuilds them. */
   private stale = true;
 
@@ -87,24 +102,26 @@ export class LiveMatcher {
     checkTolerance(options.tolerance);
     this.windowGrains = toGrains(options.windowBeats);
     this.tolGrains = toGrains(options.tolerance);
-    this.stream = new StreamingMatch(index, { windowBeats: options.windowBeats });
+    this.grids = this.tolGrains > 0 ? [FINE_GRAINS, COARSE_GRAINS] : [FINE_GRAINS];
   }
 
   /** Adds a played point (ontime in grains ≥ 0, pitch in the index's dimension). */
   add(point: Point): void {
     if (this.stale) return;
-    const at = snap(point.at);
-    if (at < this.newest || at < this.origin || at - this.origin > REBASE_GRAINS) {
+    if (point.at < this.origin || point.at - this.origin > REBASE_GRAINS || this.voters.some((v) => snap(point.at, v.grains) < v.newest)) {
       this.stale = true;
       return;
     }
-    this.stream.add({ at: at - this.origin, pitch: point.pitch });
-    this.newest = at;
+    for (const v of this.voters) {
+      v.newest = snap(point.at, v.grains);
+      v.stream.add({ at: v.newest - this.origin, pitch: point.pitch });
+    }
   }
 
   /** The window now starts at `startGrains`: votes of earlier points are taken back. */
   expire(startGrains: number): void {
-    if (!this.stale) this.stream.expire(Math.max(0, snapDown(startGrains) - this.origin));
+    if (this.stale) return;
+    for (const v of this.voters) v.stream.expire(Math.max(0, snapDown(startGrains, v.grains) - this.origin));
   }
 
   /** Forgets every point: a new passage. The next `best` builds the votes afresh from the window it is given. */
@@ -114,9 +131,8 @@ export class LiveMatcher {
 
   /** Votes from nothing but `window`, with times counted from its start. */
   private rebuild(window: readonly Point[], startGrains: number): void {
-    this.stream = new StreamingMatch(this.index, { windowBeats: this.options.windowBeats });
-    this.origin = snapDown(Math.min(startGrains, window[0].at));
-    this.newest = -Infinity;
+    this.voters = this.grids.map((grains) => ({ grains, stream: new StreamingMatch(this.index, { windowBeats: this.options.windowBeats }), newest: -Infinity }));
+    this.origin = snapDown(Math.min(startGrains, window[0].at), COARSE_GRAINS);
     this.stale = false;
     for (const p of window) this.add(p);
     this.expire(startGrains);
@@ -141,15 +157,15 @@ export class LiveMatcher {
     if (window.length === 0) return null;
     if (this.stale) this.rebuild(window, startGrains);
     let best: WindowMatch | null = null;
-    const candidates = this.stream.translations(LIVE_CANDIDATES);
+    const candidates = this.voters.flatMap((v) => v.stream.translations(LIVE_CANDIDATES));
     if (this.tolGrains === 0) {
       for (const t of candidates) {
         const m = verifyShift(this.index, window, startGrains, this.windowGrains, t.piece, t.shift + this.origin, t.dp);
         if (betterMatch(m, best)) best = m;
       }
     } else {
-      // Tolerant verification looks at shifts within `within` of a voted one, refined by up to two tolerances more.
-      const within = this.tolGrains + VOTE_GRAINS;
+      // A voted shift is off the played one by up to half a grid step; tolerant verification looks that far and a tolerance more, refined by up to two tolerances more.
+      const within = this.tolGrains + COARSE_GRAINS / 2;
       for (const g of nearbyGroups(candidates, within)) {
         const shift = g.shift + this.origin;
         const near = { translation: { at: shift, pitch: g.dp }, within: g.within };

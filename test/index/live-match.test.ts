@@ -110,11 +110,11 @@ describe('within a tolerance, on chorales played with human timing', () => {
   const choraleIndex = corpusIndex(buildTriples(flattenPoints(choraleView)));
   const brute = toleranceMatcher(choraleView, 8, 0.1);
 
-  it('a phrase played ±0.06 beat, 10% dropped, not snapped: found in its piece, never above the brute force', () => {
+  it.each([0.06, 0.1])('a phrase played ±%s beat, 10% dropped, not snapped: found in its piece, never above the brute force', (jitter) => {
     let found = 0;
     const pieces = [3, 9, 15, 21, 27, 33];
     for (const piece of pieces) {
-      const take = toPoints(played(passage(choraleCorpus.pieces[piece].notes, 8, 16, 1), { jitter: 0.06, drop: 0.1, seed: piece }));
+      const take = toPoints(played(passage(choraleCorpus.pieces[piece].notes, 8, 16, 1), { jitter, drop: 0.1, seed: piece }));
       const live = new LiveMatcher(choraleIndex, { windowBeats: 8, tolerance: 0.1 });
       for (const p of take) live.add(p);
       const start = take[0].at;
