@@ -74,10 +74,11 @@ function countPlaces(shiftsByPiece: Map<number, number[]>, apart: number): numbe
 }
 
 /** Postings the indexed count reads at most (its rarest triples first), and candidate places it verifies. */
-export const PLACES_FILTER = { voteBudget: 4_000, minTriples: 6, candidates: 128 };
+export const PLACES_FILTER = { voteBudget: 2_000, minTriples: 6, candidates: 64 };
 
-/** One vote table for every count: a fresh one would grow (and rehash) to the same size each time. */
+/** One vote table and one set of lookup buffers for every count: fresh ones would grow to the same size each time. */
 const placeVotes = new VoteTable(14);
+const placeLookups = new TripleLookups();
 
 /**
  * How many of `material`'s points a piece holds under one translation
@@ -117,7 +118,8 @@ export function indexedPlacesHolding(index: CorpusIndex, source: number, materia
   const apart = Math.max(GRAINS_PER_BEAT, material[material.length - 1].at - material[0].at);
   const { partners } = index.shape;
   const horizon = toGrains(index.shape.horizonBeats);
-  const lookups = new TripleLookups();
+  const lookups = placeLookups;
+  lookups.clear();
   const materialAt = material.map((p) => p.at);
   for (let c = 2; c < material.length; c++) lookups.collect(index, material, materialAt, 0, c, partners, horizon);
   // The source piece's triples among the material: the material's own positions, or -1 for the notes around it.

@@ -56,11 +56,12 @@ export interface MatchedPair {
 
 /**
  * The maximum one-to-one matching of corpus points, moved by `t`, onto window
- * points of equal pitch lying within ± `tolGrains` of them.
+ * points of equal pitch lying within ± `tolGrains` of them. A caller trying
+ * many translations passes the window's pitch lines, made once.
  */
-export function toleranceMatching(lines: PitchLines, window: readonly Point[], t: Translation, tolGrains: number): MatchedPair[] {
+export function toleranceMatching(lines: PitchLines, window: readonly Point[], t: Translation, tolGrains: number, windowLines: PitchLines = pitchLines(window)): MatchedPair[] {
   const pairs: MatchedPair[] = [];
-  for (const [pitch, played] of pitchLines(window)) {
+  for (const [pitch, played] of windowLines) {
     const line = lines.get(pitch - t.pitch);
     if (!line) continue;
     let i = firstAtLeast(line, played[0] - t.at - tolGrains);
@@ -161,12 +162,13 @@ export function bestInPiece(s: PieceSearch, incumbent: WindowMatch | null): Wind
     return Math.min(around, s.window.length);
   };
   const ranked = [...counts.keys()].map((k) => ({ k, bound: bound(k) })).sort((x, y) => y.bound - x.bound || x.k - y.k);
+  const windowLines = pitchLines(s.window);
   let best = incumbent;
   for (const { k, bound: most } of ranked) {
     if (best && most / s.window.length < best.score) break;
     const { at: b, pitch } = keyTranslation(k);
     for (const shift of refinedShifts(s.lines, s.window, b, pitch, bin, s.tolGrains)) {
-      const matched = toleranceMatching(s.lines, s.window, { at: shift, pitch }, s.tolGrains).length;
+      const matched = toleranceMatching(s.lines, s.window, { at: shift, pitch }, s.tolGrains, windowLines).length;
       const from = s.startGrains - shift;
       const excerptNotes = countInSpan(s.points, from, from + s.spanGrains);
       const candidate: WindowMatch = {
