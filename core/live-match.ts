@@ -27,7 +27,7 @@
 import { type Point, GRAINS_PER_BEAT, toGrains } from './note.js';
 import { type WindowMatch, betterMatch } from './match.js';
 import { type CorpusIndex, lowerBoundAt } from './triple-index.js';
-import { verifyShift } from './index-match.js';
+import { SCAN_POINTS, verifyShift } from './index-match.js';
 import { StreamingMatch, type VotedTranslation } from './stream.js';
 import { type PitchLines, bestInPiece, checkTolerance, pitchLines } from './tolerance.js';
 import { figureDistinctiveness, indexedPlacesHolding, matchedMaterial } from './distinctiveness.js';
@@ -157,7 +157,9 @@ export class LiveMatcher {
     if (window.length === 0) return null;
     if (this.stale) this.rebuild(window, startGrains);
     let best: WindowMatch | null = null;
-    const candidates = this.voters.flatMap((v) => v.stream.translations(LIVE_CANDIDATES));
+    // One shared triple is three notes in common: worth a look only in a window too small for more.
+    const atLeast = window.length > SCAN_POINTS ? 2 : 1;
+    const candidates = this.voters.flatMap((v) => v.stream.translations(LIVE_CANDIDATES, atLeast));
     if (this.tolGrains === 0) {
       for (const t of candidates) {
         const m = verifyShift(this.index, window, startGrains, this.windowGrains, t.piece, t.shift + this.origin, t.dp);

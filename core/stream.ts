@@ -132,12 +132,13 @@ export class StreamingMatch {
   }
 
   /**
-   * The `n` most-voted translations so far, most first, for a caller that
-   * verifies them its own way (within a tolerance, say): `shift` grains and
-   * `dp` steps from the corpus to the played points.
+   * The `n` most-voted translations so far with at least `atLeast` votes,
+   * most first, for a caller that verifies them its own way (within a
+   * tolerance, say): `shift` grains and `dp` steps from the corpus to the
+   * played points.
    */
-  translations(n: number): VotedTranslation[] {
-    return this.votes.top(n).map((e) => ({ piece: this.votes.pieceAt(e), shift: this.votes.shiftAt(e), dp: this.votes.dpAt(e), votes: this.votes.countAt(e) }));
+  translations(n: number, atLeast = 1): VotedTranslation[] {
+    return this.votes.top(n, atLeast).map((e) => ({ piece: this.votes.pieceAt(e), shift: this.votes.shiftAt(e), dp: this.votes.dpAt(e), votes: this.votes.countAt(e) }));
   }
 }
 
