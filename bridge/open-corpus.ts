@@ -47,6 +47,13 @@ export interface OpenOptions {
   percussion?: boolean;
   /** The pitch dimension to load the index's postings for first. */
   pitch?: PitchMode;
+  /**
+   * Read an index's note sections that matching does not need only when first
+   * used (the default). False reads everything now, for a caller that must
+   * never go back to the file: the daemon's worker, whose index may be
+   * rebuilt or deleted while it listens.
+   */
+  deferNotes?: boolean;
 }
 
 /** Why a folder's index is not current, or null when it is. */
@@ -92,7 +99,8 @@ function flatView(mode: PitchMode, pieces: readonly Piece[], flat: FlatPoints): 
 }
 
 function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
-  const contents = fromFile(() => readIndexFile(file, [options.pitch ?? 'chromatic'], { deferNotes: true }));
+  const deferNotes = options.deferNotes ?? true;
+  const contents = fromFile(() => readIndexFile(file, [options.pitch ?? 'chromatic'], { deferNotes }));
   if (contents.percussion !== (options.percussion ?? false)) {
     throw new UsageError(`--corpus ${file}: the index was built ${contents.percussion ? 'with' : 'without'} --percussion; rebuild it with the same choice, or leave the option ${contents.percussion ? 'on' : 'off'}`);
   }
@@ -103,7 +111,7 @@ function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
   const indexOf = (mode: PitchMode): CorpusIndex => {
     const known = indexes.get(mode);
     if (known) return known;
-    const postings = contents.postings[mode] ?? fromFile(() => readIndexFile(file, [mode], { deferNotes: true })).postings[mode]!;
+    const postings = contents.postings[mode] ?? fromFile(() => readIndexFile(file, [mode], { deferNotes })).postings[mode]!;
     return indexes.set(mode, corpusIndex({ ...postings, points: pointsOf(mode), shape: contents.shape })).get(mode)!;
   };
   return {

@@ -26,7 +26,7 @@ import type { WindowMatch, WindowMatcher } from './match.js';
 import { type PitchLines, checkTolerance, pitchLines, toleranceMatching } from './tolerance.js';
 import { scaleTime } from './fingerprint.js';
 import { type CorpusIndex, lowerBoundAt, triplesEndingAt } from './triple-index.js';
-import { TripleLookups, castVotes, keyOf } from './index-match.js';
+import { TripleLookups, castVotes, keyOf, verifyShift } from './index-match.js';
 import { VoteTable } from './votes.js';
 
 /** Share of the matched material a place must hold to count as holding it. */
@@ -81,27 +81,6 @@ const placeVotes = new VoteTable(14);
 const placeLookups = new TripleLookups();
 
 /**
- * How many of `material`'s points a piece holds under one translation
- * (`shift` grains, `dp` steps from the corpus to the material), stopping as
- * soon as more are missing than `need` allows.
- */
-function heldAt(index: CorpusIndex, piece: number, material: readonly Point[], shift: number, dp: number, need: number): number {
-  const { at, pitch, offsets } = index.points;
-  const end = offsets[piece + 1];
-  let c = lowerBoundAt(at, material[0].at - shift, offsets[piece], end);
-  let held = 0;
-  for (let i = 0; i < material.length; i++) {
-    if (i - held > material.length - need) return held;
-    const t = material[i].at - shift;
-    const p = material[i].pitch - dp;
-    while (c < end && (at[c] < t || (at[c] === t && pitch[c] < p))) c++;
-    if (c === end) break;
-    if (at[c] === t && pitch[c] === p) held++;
-  }
-  return held;
-}
-
-/**
  * `placesHolding` through the corpus index, at a cost independent of the
  * corpus's size. Candidate places come from triples of the material: those
  * of the material as a run of its own, and the source piece's own triples
@@ -154,8 +133,9 @@ export function indexedPlacesHolding(index: CorpusIndex, source: number, materia
     castVotes(index, votes, material[lookups.anchorAt(r)], k, 1, skipFrom, skipTo);
   }
   const shifts = new Map<number, number[]>();
+  const span = material[material.length - 1].at - material[0].at + 1;
   const hold = (piece: number, shift: number, dp: number): void => {
-    if (heldAt(index, piece, material, shift, dp, need) >= need) (shifts.get(piece) ?? shifts.set(piece, []).get(piece)!).push(shift);
+    if (verifyShift(index, material, material[0].at, span, piece, shift, dp).matched >= need) (shifts.get(piece) ?? shifts.set(piece, []).get(piece)!).push(shift);
   };
   if (source !== exclude) hold(source, 0, 0);
   for (const e of votes.top(PLACES_FILTER.candidates)) {
