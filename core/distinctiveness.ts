@@ -26,7 +26,7 @@ import type { WindowMatch, WindowMatcher } from './match.js';
 import { type PitchLines, checkTolerance, pitchLines, toleranceMatching } from './tolerance.js';
 import { scaleTime } from './fingerprint.js';
 import { type CorpusIndex, lowerBoundAt, triplesEndingAt } from './triple-index.js';
-import { TripleLookups, castVotes, keyOf, verifyShift } from './index-match.js';
+import { TripleLookups, keyOf, verifyShift, voteRarest } from './index-match.js';
 import { VoteTable } from './votes.js';
 
 /** Share of the matched material a place must hold to count as holding it. */
@@ -42,11 +42,15 @@ export function matchedMaterial(lines: PitchLines, window: readonly Point[], sta
     .sort(comparePoints);
 }
 
+/** What holding `material` takes: `need` of its points, and places `apart` grains from each other within a piece. */
+function placeRule(material: readonly Point[]): { need: number; apart: number } {
+  return { need: Math.max(1, Math.ceil(NEAR_SHARE * material.length)), apart: Math.max(GRAINS_PER_BEAT, material[material.length - 1].at - material[0].at) };
+}
+
 /** Distinct corpus places holding at least NEAR_SHARE of `material` (sorted, from the corpus). */
 export function placesHolding(material: readonly Point[], corpus: CorpusPoints, exclude?: number): number {
   if (material.length === 0) return 0;
-  const need = Math.max(1, Math.ceil(NEAR_SHARE * material.length));
-  const apart = Math.max(GRAINS_PER_BEAT, material[material.length - 1].at - material[0].at);
+  const { need, apart } = placeRule(material);
   const shifts = new Map<number, number[]>();
   corpus.points.forEach((points, piece) => {
     if (piece === exclude) return;
@@ -93,8 +97,7 @@ const placeLookups = new TripleLookups();
  */
 export function indexedPlacesHolding(index: CorpusIndex, source: number, material: readonly Point[], exclude?: number): number {
   if (material.length === 0) return 0;
-  const need = Math.max(1, Math.ceil(NEAR_SHARE * material.length));
-  const apart = Math.max(GRAINS_PER_BEAT, material[material.length - 1].at - material[0].at);
+  const { need, apart } = placeRule(material);
   const { partners } = index.shape;
   const horizon = toGrains(index.shape.horizonBeats);
   const lookups = placeLookups;
@@ -122,16 +125,10 @@ export function indexedPlacesHolding(index: CorpusIndex, source: number, materia
   }
   const votes = placeVotes;
   votes.clear();
+  lookups.sort();
   const skipFrom = exclude === undefined ? 0 : offsets[exclude];
   const skipTo = exclude === undefined ? 0 : offsets[exclude + 1];
-  const found = lookups.sort();
-  for (let r = 0, spent = 0; r < found; r++) {
-    const k = lookups.keyAt(r);
-    const size = index.starts[k + 1] - index.starts[k];
-    if (r >= PLACES_FILTER.minTriples && spent + size > PLACES_FILTER.voteBudget) break;
-    spent += size;
-    castVotes(index, votes, material[lookups.anchorAt(r)], k, 1, skipFrom, skipTo);
-  }
+  voteRarest(index, votes, lookups, material, { next: 0, spent: 0 }, PLACES_FILTER.voteBudget, PLACES_FILTER.minTriples, skipFrom, skipTo);
   const shifts = new Map<number, number[]>();
   const span = material[material.length - 1].at - material[0].at + 1;
   const hold = (piece: number, shift: number, dp: number): void => {

@@ -180,6 +180,11 @@ export class TripleLookups {
     [this.order, this.anchor, this.key] = [order, anchor, key];
   }
 
+  /** How many triples are kept. */
+  get size(): number {
+    return this.n;
+  }
+
   /** Sorts the kept triples rarest first; returns how many there are, to read with anchorAt and keyAt. */
   sort(): number {
     if (this.n > 2 ** 21) throw new RangeError(`too many triples in one window (${this.n}); use a shorter window`);
@@ -211,6 +216,31 @@ export function castVotes(index: CorpusIndex, votes: VoteTable, anchor: Point, k
   }
 }
 
+/** How far a reading of kept triples, rarest first, has got: the next triple to read, and the postings read so far. */
+export interface RarestRead {
+  next: number;
+  spent: number;
+}
+
+/**
+ * Votes with the sorted `lookups` from `read.next` on, rarest first, each
+ * posting for the translation onto the point of `anchors` the triple starts
+ * at, until `budget` postings are read in all — but at least `minTriples`
+ * triples, so a run of common figures still votes. Postings at
+ * [skipFrom, skipTo) (a piece left out) do not vote. Called again with a
+ * larger budget, it reads on where it stopped.
+ */
+export function voteRarest(index: CorpusIndex, votes: VoteTable, lookups: TripleLookups, anchors: readonly Point[], read: RarestRead, budget: number, minTriples: number, skipFrom = 0, skipTo = 0): void {
+  const { starts } = index;
+  for (const found = lookups.size; read.next < found; read.next++) {
+    const k = lookups.keyAt(read.next);
+    const size = starts[k + 1] - starts[k];
+    if (read.next >= minTriples && read.spent + size > budget) break;
+    read.spent += size;
+    castVotes(index, votes, anchors[lookups.anchorAt(read.next)], k, 1, skipFrom, skipTo);
+  }
+}
+
 /** The second look's budget for a corpus of `notes` notes (FilterSettings.wideBudget). */
 export const wideBudgetFor = (settings: FilterSettings, notes: number): number => Math.round(settings.wideBudget * Math.max(1, Math.sqrt(notes / 1_000_000)));
 
@@ -220,7 +250,6 @@ export function indexMatcher(index: CorpusIndex, windowBeats: number, settings: 
   const horizon = toGrains(index.shape.horizonBeats);
   const votes = new VoteTable();
   const lookups = new TripleLookups();
-  const { starts } = index;
   const { offsets } = index.points;
   const wideBudget = wideBudgetFor(settings, index.points.at.length);
   return {
@@ -234,23 +263,12 @@ export function indexMatcher(index: CorpusIndex, windowBeats: number, settings: 
       const skipFrom = options.exclude === undefined ? 0 : offsets[options.exclude];
       const skipTo = options.exclude === undefined ? 0 : offsets[options.exclude + 1];
       votes.clear();
-      const found = lookups.sort();
-      let r = 0;
-      let spent = 0;
-      /** Votes with the next rarest triples until `budget` postings are read (at least `minTriples` triples). */
-      const readUpTo = (budget: number): void => {
-        for (; r < found; r++) {
-          const k = lookups.keyAt(r);
-          const size = starts[k + 1] - starts[k];
-          if (r >= settings.minTriples && spent + size > budget) break;
-          spent += size;
-          castVotes(index, votes, window[lookups.anchorAt(r)], k, 1, skipFrom, skipTo);
-        }
-      };
-      readUpTo(settings.voteBudget);
+      lookups.sort();
+      const read: RarestRead = { next: 0, spent: 0 };
+      voteRarest(index, votes, lookups, window, read, settings.voteBudget, settings.minTriples, skipFrom, skipTo);
       const first = verifyTop(index, votes, window, startGrains, windowGrains, settings.candidates);
       if ((first?.score ?? 0) >= settings.widenBelow) return first;
-      readUpTo(wideBudget);
+      voteRarest(index, votes, lookups, window, read, wideBudget, settings.minTriples, skipFrom, skipTo);
       const wide = verifyTop(index, votes, window, startGrains, windowGrains, settings.wideCandidates, settings.wideVotes);
       return wide && betterMatch(wide, first) ? wide : first;
     },

@@ -10,7 +10,8 @@
  *   folderSeries(report.queries, ['ckpt-1', 'ckpt-1', 'ckpt-2'], 1)
  *   // → [{ folder: 'ckpt-1', queries: 2, windows: 14, originality: 0.81, ci95: [0.74, 0.88] }, { folder: 'ckpt-2', ... }]
  */
-import { type Note, type PitchMode, type Point, toGrains } from './note.js';
+import { type Note, type PitchMode, type Point, comparePoints, toGrains } from './note.js';
+import { type PitchLines, firstAtLeast, pitchLines } from './tolerance.js';
 import type { CorpusPoints, Piece } from './corpus.js';
 import { type MatchSummary, type QueryReport, type WindowResult, originalityCi, originalityOf } from './report.js';
 
@@ -107,34 +108,21 @@ export function excerptPair<N extends Note>(notes: readonly N[], window: Matched
   // Both sides on the query's axes: time in grains from the query's start, pitch as played.
   const queryAt = query.map((q) => ({ at: toGrains(q.onset), pitch: pitchIn(q, mode) }));
   const corpusAt = corpus.map((c) => ({ at: from + (toGrains(c.onset) - pieceFrom) * scale, pitch: pitchIn(c, mode) + window.match.transposition }));
-  const queryLines = onsetLines(queryAt);
-  const corpusLines = onsetLines(corpusAt);
+  // Pitch lines want points in order; the query's notes (a session's, in arrival order) may not be.
+  const queryLines = pitchLines([...queryAt].sort(comparePoints));
+  const corpusLines = pitchLines(corpusAt);
   return {
     query: query.map((q, i) => ({ ...q, matched: within(corpusLines, queryAt[i], slack) })),
     corpus: corpus.map((c, i) => ({ ...c, matched: within(queryLines, corpusAt[i], slack) })),
   };
 }
 
-/** Onsets by pitch, each list ascending. */
-function onsetLines(points: readonly Point[]): Map<number, number[]> {
-  const lines = new Map<number, number[]>();
-  for (const p of points) (lines.get(p.pitch) ?? lines.set(p.pitch, []).get(p.pitch)!).push(p.at);
-  for (const line of lines.values()) line.sort((a, b) => a - b);
-  return lines;
-}
-
 /** Whether a line of `p`'s pitch holds an onset within ± `slack` of it. */
-function within(lines: Map<number, number[]>, p: Point, slack: number): boolean {
+function within(lines: PitchLines, p: Point, slack: number): boolean {
   const line = lines.get(p.pitch);
   if (!line) return false;
-  let lo = 0;
-  let hi = line.length;
-  while (lo < hi) {
-    const mid = (lo + hi) >>> 1;
-    if (line[mid] < p.at - slack) lo = mid + 1;
-    else hi = mid;
-  }
-  return lo < line.length && line[lo] <= p.at + slack;
+  const i = firstAtLeast(line, p.at - slack);
+  return i < line.length && line[i] <= p.at + slack;
 }
 
 export interface Scored<N extends Note> {

@@ -37,7 +37,7 @@ export function pitchLines(points: readonly Point[]): PitchLines {
 }
 
 /** Index of the first value ≥ x in an ascending list. */
-function firstAtLeast(xs: readonly number[], x: number): number {
+export function firstAtLeast(xs: readonly number[], x: number): number {
   let lo = 0;
   let hi = xs.length;
   while (lo < hi) {
