@@ -6,10 +6,10 @@
  *
  * @example
  *   const b = readBaselineFile('baseline.json');        // as a commander argParser
- *   checkBaselineFits(b, { window: 16, hop: 8, pitch: 'chromatic', mode: EXACT_MODE });
+ *   checkBaselineFits(b, { window: 16, hop: 8, pitch: 'chromatic', mode: EXACT_MODE, minNotes: 8 });
  */
 import { z } from 'zod';
-import { EXACT_MODE, type MatchMode } from '../core/match-mode.js';
+import { EXACT_MODE, type MatchMode } from '../core/pipeline.js';
 import { PITCH_MODES, type PitchMode } from '../core/note.js';
 import type { Baseline } from '../core/report.js';
 import type { WindowShape } from '../core/windows.js';
@@ -30,7 +30,14 @@ const schema = z.object({
   samples: z.array(z.string()),
   windows: z.number().int().min(0),
   percentiles: z.object({ p50: unit, p90: unit, p95: unit, p99: unit }),
-  settings: z.object({ window: z.number().positive(), hop: z.number().positive(), pitch: z.enum(PITCH_MODES as [PitchMode, ...PitchMode[]]), seed: z.number() }),
+  settings: z.object({
+    window: z.number().positive(),
+    hop: z.number().positive(),
+    pitch: z.enum(PITCH_MODES as [PitchMode, ...PitchMode[]]),
+    seed: z.number(),
+    // Written since windows too short to judge were left out; a file without it judged every window.
+    minNotes: z.number().int().min(1).default(1),
+  }),
   caution: z.string(),
   // Written by `baseline --json` since matching modes came; a file without it was matched exactly.
   mode: z.object({ tolerance: z.number().min(0), tempoFree: z.boolean() }).optional(),
@@ -49,12 +56,12 @@ export function readBaselineFile(file: string): BaselineFile {
 }
 
 /** Throws unless the baseline was computed with the given window, hop, pitch and matching mode. */
-export function checkBaselineFits({ file, baseline, mode }: BaselineFile, used: WindowShape & { pitch: PitchMode; mode: MatchMode }): void {
+export function checkBaselineFits({ file, baseline, mode }: BaselineFile, used: WindowShape & { pitch: PitchMode; mode: MatchMode; minNotes: number }): void {
   const s = baseline.settings;
-  const how = (w: number, h: number, p: PitchMode, m: MatchMode): string =>
-    `window ${w}, hop ${h}, ${p} pitch, tolerance ${m.tolerance}${m.tempoFree ? ', tempo-free' : ''}`;
-  const theirs = how(s.window, s.hop, s.pitch, mode);
-  const ours = how(used.window, used.hop, used.pitch, used.mode);
+  const how = (w: number, h: number, p: PitchMode, m: MatchMode, n: number): string =>
+    `window ${w}, hop ${h}, ${p} pitch, tolerance ${m.tolerance}${m.tempoFree ? ', tempo-free' : ''}, windows of at least ${n} notes`;
+  const theirs = how(s.window, s.hop, s.pitch, mode, s.minNotes);
+  const ours = how(used.window, used.hop, used.pitch, used.mode, used.minNotes);
   if (theirs !== ours) {
     throw new UsageError(`--baseline ${file}: computed with ${theirs}, but these scores use ${ours}; compute the baseline with the same settings`);
   }

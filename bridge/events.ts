@@ -10,7 +10,7 @@ export interface HelloEvent {
   version: string;
   corpus: { source: string; pieces: number; notes: number };
   /** `pitch`: the dimension matched in; transpositions count semitones (chromatic, when absent) or diatonic steps (morphetic). */
-  preset: { name: string; window: number; threshold: number; minNotes: number; consecutive: number; warn: boolean; pitch?: 'chromatic' | 'morphetic'; tolerance?: number; minDistinctiveness?: number };
+  preset: { name: string; window: number; threshold: number; minNotes: number; consecutive: number; warn: boolean; pitch?: 'chromatic' | 'morphetic'; tolerance?: number; tempoFree?: boolean; minDistinctiveness?: number };
   midi: { available: boolean; detail: string };
   osc: { port: number };
   /** Recent score and warning events, so a page that reconnects can redraw its timeline. */

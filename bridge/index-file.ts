@@ -22,8 +22,10 @@ import type { Piece } from '../core/corpus.js';
 import type { FlatNotes } from '../core/flat-notes.js';
 import type { TripleShape, TriplePostings } from '../core/triple-index.js';
 import type { Baseline } from '../core/report.js';
+import type { FingerprintShape, FingerprintTable } from '../core/fingerprint.js';
 
-export const INDEX_VERSION = 1;
+/** 2: adds each pitch dimension's fingerprint table (tempo-free matching); a version 1 file is refused with a rebuild hint. */
+export const INDEX_VERSION = 2;
 /** Default file name inside the corpus folder. */
 export const INDEX_NAME = '.earwitness-index';
 /** A high byte, CR LF, ^Z, LF: a file passed through a text-mode or 7-bit channel no longer matches. */
@@ -55,6 +57,10 @@ export interface IndexContents {
   files: FileFingerprint[];
   notes: FlatNotes;
   postings: Partial<Record<PitchMode, ModePostings>>;
+  /** Which triples the fingerprint tables hold. */
+  fingerprint: FingerprintShape;
+  /** Writing: each pitch dimension's fingerprint table. Reading: each asked-for dimension's, read and checked when first called. */
+  fingerprints: Partial<Record<PitchMode, FingerprintTable | (() => FingerprintTable)>>;
   /** Human baselines stored by `corpus build --baseline` (optional section BASE; readIndexBaselines reads it). */
   baselines?: Baseline[];
 }
@@ -86,9 +92,17 @@ const POSTING_SECTIONS: [string, keyof ModePostings, TypedCtor][] = [
   ['RUN', 'starts', Uint32Array],
   ['ANC', 'anchors', Uint32Array],
 ];
+type FingerprintArrays = Omit<FingerprintTable, 'shape'>;
+const FINGERPRINT_SECTIONS: [string, keyof FingerprintArrays, TypedCtor][] = [
+  ['FKY', 'keys', Uint32Array],
+  ['FRN', 'starts', Uint32Array],
+  ['FAN', 'anchors', Uint32Array],
+  ['FCD', 'codes', Uint8Array],
+];
 
 export interface Meta {
   shape: TripleShape;
+  fingerprint: FingerprintShape;
   percussion: boolean;
   pieces: PieceInfo[];
   files: FileFingerprint[];
@@ -107,10 +121,15 @@ const bytesOf = (a: Typed): Uint8Array => new Uint8Array(a.buffer, a.byteOffset,
 export function writeIndexFile(file: string, contents: IndexContents): void {
   checkPlatform();
   const modes = (Object.keys(contents.postings) as PitchMode[]).filter((m) => contents.postings[m]);
-  const meta: Meta = { shape: contents.shape, percussion: contents.percussion, pieces: contents.pieces, files: contents.files, notes: contents.notes.at.length, modes };
+  const meta: Meta = { shape: contents.shape, fingerprint: contents.fingerprint, percussion: contents.percussion, pieces: contents.pieces, files: contents.files, notes: contents.notes.at.length, modes };
   const sections: [string, Uint8Array][] = [['META', new TextEncoder().encode(JSON.stringify(meta))]];
   for (const [tag, field] of NOTE_SECTIONS) sections.push([tag, bytesOf(contents.notes[field])]);
   for (const mode of modes) for (const [tag, field] of POSTING_SECTIONS) sections.push([MODE_LETTER[mode] + tag, bytesOf(contents.postings[mode]![field])]);
+  for (const mode of modes) {
+    const table = contents.fingerprints[mode];
+    if (!table || typeof table === 'function') throw new Error(`writeIndexFile: the ${mode} fingerprint table is missing`);
+    for (const [tag, field] of FINGERPRINT_SECTIONS) sections.push([MODE_LETTER[mode] + tag, bytesOf(table[field])]);
+  }
   if (contents.baselines?.length) sections.push(['BASE', new TextEncoder().encode(JSON.stringify({ version: BASELINE_VERSION, baselines: contents.baselines }))]);
   const table = Buffer.alloc(HEADER_BYTES + ENTRY_BYTES * sections.length);
   let offset = align8(table.length);
@@ -184,7 +203,7 @@ function openIndex(file: string): Opened {
     const head = Buffer.from(readExactly(fd, file, HEADER_BYTES, 0, 'the header'));
     if (!head.subarray(0, SIGNATURE.length).equals(SIGNATURE)) throw new IndexFileError(file, 'not an earwitness corpus index (it does not start with the index signature)');
     const version = head.readUInt32LE(8);
-    if (version !== INDEX_VERSION) throw new IndexFileError(file, `index format version ${version}; this earwitness reads version ${INDEX_VERSION}`);
+    if (version !== INDEX_VERSION) throw new IndexFileError(file, `index format version ${version}${version < INDEX_VERSION ? ', written by an older earwitness' : ''}; this earwitness reads version ${INDEX_VERSION}`);
     const count = head.readUInt32LE(12);
     if (HEADER_BYTES + count * ENTRY_BYTES > size) throw new IndexFileError(file, 'truncated: the section table runs past the end of the file');
     const table = Buffer.from(readExactly(fd, file, count * ENTRY_BYTES, HEADER_BYTES, 'the section table'));
@@ -225,7 +244,7 @@ function readMeta(opened: Opened, file: string): Meta {
   const bytes = section<Uint8Array>(opened, file, 'META', Uint8Array, entry.length);
   try {
     const meta = JSON.parse(new TextDecoder().decode(bytes)) as Meta;
-    if (!Array.isArray(meta.pieces) || !Array.isArray(meta.files) || !Array.isArray(meta.modes) || !Number.isInteger(meta.notes) || !meta.shape) throw new Error('fields missing');
+    if (!Array.isArray(meta.pieces) || !Array.isArray(meta.files) || !Array.isArray(meta.modes) || !Number.isInteger(meta.notes) || !meta.shape || !meta.fingerprint) throw new Error('fields missing');
     return meta;
   } catch (e) {
     throw new IndexFileError(file, `damaged: the META section is not the expected JSON (${(e as Error).message})`);
@@ -316,7 +335,23 @@ export function readIndexFile(file: string, modes: readonly PitchMode[], options
       };
       if (starts[starts.length - 1] !== anchors / 4) throw new IndexFileError(file, `damaged: the ${mode} key runs end at ${starts[starts.length - 1]}, not at the ${anchors / 4} postings`);
     }
-    return { shape: meta.shape, percussion: meta.percussion, pieces: meta.pieces, files: meta.files, notes, postings };
+    const fingerprints: IndexContents['fingerprints'] = {};
+    for (const mode of meta.modes) {
+      // Present and of consistent lengths now; read, and checked, when tempo-free matching first asks.
+      const length = (t: string): number => opened.sections.get(MODE_LETTER[mode] + t)?.length ?? -1;
+      const keys = length('FKY') / 4;
+      const triples = length('FAN') / 4;
+      if (!(keys >= 0 && triples >= 0)) throw new IndexFileError(file, `damaged: the ${mode} fingerprint sections are missing`);
+      const counts: Record<keyof FingerprintArrays, number> = { keys, starts: keys + 1, anchors: triples, codes: triples };
+      for (const [tag, field, ctor] of FINGERPRINT_SECTIONS) entryOf(opened, file, MODE_LETTER[mode] + tag, ctor, counts[field]);
+      fingerprints[mode] = () => {
+        const table = { shape: meta.fingerprint } as FingerprintTable;
+        for (const [tag, field, ctor] of FINGERPRINT_SECTIONS) (table as unknown as Record<string, Typed>)[field] = laterSection(file, opened.table, MODE_LETTER[mode] + tag, ctor, counts[field]);
+        if (table.starts[keys] !== triples) throw new IndexFileError(file, `damaged: the ${mode} fingerprint runs end at ${table.starts[keys]}, not at the ${triples} triples`);
+        return table;
+      };
+    }
+    return { shape: meta.shape, fingerprint: meta.fingerprint, percussion: meta.percussion, pieces: meta.pieces, files: meta.files, notes, postings, fingerprints };
   });
 }
 

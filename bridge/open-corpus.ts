@@ -8,20 +8,25 @@
  * asked (an excerpt, say), and point sets come straight from its arrays, so
  * a corpus of millions of notes opens in about a second.
  *
+ * Either way, `matcher` is the one entry point to matching (core/pipeline.ts):
+ * a folder builds in memory the triple index and fingerprint table that
+ * `corpus build` stores, so a folder and its index give the same numbers.
+ *
  * @example
  *   const opened = openCorpus('songs', { pitch: 'chromatic' });
- *   const view = opened.view('chromatic');
- *   const matcher = opened.matcher(view, 16, false);   // the index's matcher when there is one
- *   new StreamingMatch(opened.index('chromatic'), { windowBeats: 16 })   // live matching
+ *   const matcher = opened.matcher({ pitch: 'chromatic', window: 16, mode: { tolerance: 0.1, tempoFree: false } });
+ *   matcher.best({ points, startGrains: 0 })
+ *   new LiveMatcher(opened.matchCorpus('chromatic'), { windowBeats: 16, mode })   // live matching
  */
 import { readdirSync, statSync } from 'node:fs';
 import { join, relative, sep } from 'node:path';
 import { type Corpus, type CorpusPoints, type Piece, corpusPoints } from '../core/corpus.js';
 import type { PitchMode, Point } from '../core/note.js';
-import { type WindowMatcher, exactMatcher } from '../core/match.js';
+import type { WindowMatcher } from '../core/match.js';
 import { notePoints, pieceNotes } from '../core/flat-notes.js';
 import { type CorpusIndex, type FlatPoints, buildTriples, corpusIndex, flattenPoints, piecePoints } from '../core/triple-index.js';
-import { indexMatcher } from '../core/index-match.js';
+import { type FingerprintTable, buildFingerprints } from '../core/fingerprint.js';
+import { type MatchCorpus, type MatchMode, candidatesFor, windowMatcher } from '../core/pipeline.js';
 import { type Skipped, findMidiFiles, loadCorpusFolder } from './corpus-files.js';
 import { type IndexContents, type Meta, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta } from './index-file.js';
 import { progressBar } from './progress.js';
@@ -35,12 +40,34 @@ export interface OpenedCorpus {
   indexFile: string | null;
   /** The point sets of one pitch dimension. */
   view(mode: PitchMode): CorpusPoints;
-  /** The exact-mode matcher for a view: the index's, unless `exact` or there is no index. */
-  matcher(view: CorpusPoints, windowBeats: number, exact?: boolean): WindowMatcher;
-  /** The corpus index of a pitch dimension, for StreamingMatch: the file's, or built in memory for a folder read file by file. */
-  index(mode: PitchMode): CorpusIndex;
-  /** The index file's index of a pitch dimension, or undefined for a corpus read from its MIDI files. */
-  storedIndex(mode: PitchMode): CorpusIndex | undefined;
+  /** What matching reads for a pitch dimension: the points, the triple index and the fingerprint table (the file's, or built in memory for a folder). */
+  matchCorpus(mode: PitchMode): MatchCorpus & { index: CorpusIndex };
+  /**
+   * The matcher every batch command scores with: candidates from the triple
+   * index, or every translation with `exact` or on a corpus small enough
+   * (core/pipeline.ts candidatesFor); verified in the mode; distinctiveness counted.
+   */
+  matcher(request: MatcherRequest): WindowMatcher;
+}
+
+export interface MatcherRequest {
+  pitch: PitchMode;
+  window: number;
+  mode: MatchMode;
+  /** Verify every translation: the reference, slow on a large corpus. */
+  exact?: boolean;
+}
+
+/** The one entry point: a corpus's matcher for a pitch dimension, window and mode. */
+function matcherOf(opened: Pick<OpenedCorpus, 'matchCorpus'>, request: MatcherRequest): WindowMatcher {
+  const corpus = opened.matchCorpus(request.pitch);
+  return windowMatcher(corpus, { windowBeats: request.window, mode: request.mode, candidates: candidatesFor(corpus.flat.at.length, request.exact ?? false) });
+}
+
+/** A value made by `make` the first time it is asked for, per pitch dimension. */
+function perMode<T>(make: (mode: PitchMode) => T): (mode: PitchMode) => T {
+  const made = new Map<PitchMode, T>();
+  return (mode) => made.get(mode) ?? made.set(mode, make(mode)).get(mode)!;
 }
 
 export interface OpenOptions {
@@ -105,25 +132,22 @@ function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
     throw new UsageError(`--corpus ${file}: the index was built ${contents.percussion ? 'with' : 'without'} --percussion; rebuild it with the same choice, or leave the option ${contents.percussion ? 'on' : 'off'}`);
   }
   const pieces = lazyPieces(contents);
-  const indexes = new Map<PitchMode, CorpusIndex>();
-  const points = new Map<PitchMode, FlatPoints>();
-  const pointsOf = (mode: PitchMode): FlatPoints => points.get(mode) ?? points.set(mode, fromFile(() => notePoints(contents.notes, mode))).get(mode)!;
-  const indexOf = (mode: PitchMode): CorpusIndex => {
-    const known = indexes.get(mode);
-    if (known) return known;
+  const pointsOf = perMode((mode) => fromFile(() => notePoints(contents.notes, mode)));
+  const matchCorpus = perMode((mode) => {
     const postings = contents.postings[mode] ?? fromFile(() => readIndexFile(file, [mode], { deferNotes })).postings[mode]!;
-    return indexes.set(mode, corpusIndex({ ...postings, points: pointsOf(mode), shape: contents.shape })).get(mode)!;
-  };
-  return {
+    const read = contents.fingerprints[mode] as () => FingerprintTable;
+    let table: FingerprintTable | null = null;
+    return { flat: pointsOf(mode), index: corpusIndex({ ...postings, points: pointsOf(mode), shape: contents.shape }), fingerprints: () => (table ??= fromFile(read)) };
+  });
+  const opened = {
     source: file,
     corpus: { pieces },
     skipped: contents.files.filter((f) => f.error !== null).map((f) => ({ file: f.path, error: f.error! })),
     indexFile: file,
-    view: (mode) => flatView(mode, pieces, pointsOf(mode)),
-    matcher: (view, windowBeats, exact) => (exact ? exactMatcher(view, windowBeats) : indexMatcher(indexOf(view.mode), windowBeats)),
-    index: indexOf,
-    storedIndex: indexOf,
+    view: (mode: PitchMode) => flatView(mode, pieces, pointsOf(mode)),
+    matchCorpus,
   };
+  return { ...opened, matcher: (request) => matcherOf(opened, request) };
 }
 
 function fromFolder(dir: string, options: OpenOptions): OpenedCorpus {
@@ -132,17 +156,13 @@ function fromFolder(dir: string, options: OpenOptions): OpenedCorpus {
   bar.stop();
   for (const s of skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
   if (corpus.pieces.length === 0) throw new UsageError(`--corpus ${dir}: holds no readable MIDI file with notes`);
-  const built = new Map<PitchMode, CorpusIndex>();
-  return {
-    source: dir,
-    corpus,
-    skipped,
-    indexFile: null,
-    view: (mode) => corpusPoints(corpus, mode),
-    matcher: (view, windowBeats) => exactMatcher(view, windowBeats),
-    index: (mode) => built.get(mode) ?? built.set(mode, corpusIndex(buildTriples(flattenPoints(corpusPoints(corpus, mode))))).get(mode)!,
-    storedIndex: () => undefined,
-  };
+  const matchCorpus = perMode((mode) => {
+    const flat = flattenPoints(corpusPoints(corpus, mode));
+    let table: FingerprintTable | null = null;
+    return { flat, index: corpusIndex(buildTriples(flat)), fingerprints: () => (table ??= buildFingerprints(flat)) };
+  });
+  const opened = { source: dir, corpus, skipped, indexFile: null, view: (mode: PitchMode) => corpusPoints(corpus, mode), matchCorpus };
+  return { ...opened, matcher: (request) => matcherOf(opened, request) };
 }
 
 export function openCorpus(path: string, options: OpenOptions = {}): OpenedCorpus {

@@ -49,6 +49,7 @@ const ALLOWED = {
   warn: 'true or false',
   grid: `a whole number of divisions per beat that divides 3840, from 0 (off) to ${MAX_GRID}`,
   tolerance: 'a number of beats from 0 (exact) up to, not including, 1',
+  tempoFree: 'true (also find passages played at 0.5–2 times the corpus tempo) or false',
   minDistinctiveness: 'a number from 0 (warn however common the matched material) to 1 (only material found in one corpus place)',
 } as const;
 
@@ -66,6 +67,7 @@ export const FLAG_OF: Record<Exclude<PresetField, 'name' | 'description'>, strin
   warn: '--warn / --no-warn',
   grid: '--grid',
   tolerance: '--tolerance',
+  tempoFree: '--tempo-free / --no-tempo-free',
   minDistinctiveness: '--min-distinctiveness',
 };
 
@@ -86,6 +88,8 @@ export const presetSchema = z
     grid: z.number().int().min(0).max(MAX_GRID).refine((g) => g === 0 || 3840 % g === 0),
     /** Played timing a match allows, beats (DEVELOPERS.md says how the default was measured). */
     tolerance: z.number().min(0).lt(1).default(LIVE_TOLERANCE),
+    /** Also match passages played at another tempo (fingerprint candidates; costs a little more per scoring pass). */
+    tempoFree: z.boolean().default(false),
     /** Matches less distinctive than this never warn. */
     minDistinctiveness: unit.default(0),
   })

@@ -1,36 +1,46 @@
 /**
  * Finding quotations played at another tempo, by symbolic fingerprinting
  * (Arzt, Böck & Widmer 2012, "Fast identification of piece and score position
- * via symbolic fingerprinting", ISMIR).
+ * via symbolic fingerprinting", ISMIR): the tempo-free candidate source of
+ * the matching pipeline (core/pipeline.ts).
  *
  * Every note a is paired with each of the next few notes b after it, and b
  * with each of the next few notes c after b. The triple's key is (pitch of b −
  * a, pitch of c − b, ratio of the inter-onset intervals (t_c − t_b) / (t_b −
  * t_a) on a logarithmic grid): transposing or changing the tempo leaves it
- * unchanged. A window's triples look their keys up in the corpus's table;
- * each hit votes for a (piece, position, time scale, transposition) cell; the
+ * unchanged. The corpus's triples are stored by key (`buildFingerprints`,
+ * written into the index file by `corpus build`). A window's triples look
+ * their keys up, rarest first until a budget of postings is read; each hit
+ * votes for a (piece, position, time scale, transposition) cell; the
  * best-voted cells are verified by rescaling the window's time to the corpus
- * passage's and matching with a tolerance, then the time scale is refitted by
- * least squares over the matched notes and verified once more.
+ * passage's and matching within a tolerance, then the time scale is refitted
+ * by least squares over the matched notes and verified once more.
  *
  * `timeScale` is played duration / corpus duration: 1.5 means the passage
  * was played half as long again as written (slower), 0.5 twice as fast.
  *
  * @example
- *   const m = tempoFreeMatcher(view, exactMatcher(view, 16));
- *   m.best(playedSlower, toGrains(0))
+ *   const table = buildFingerprints(flatPoints);
+ *   const source = fingerprintCandidates(flatPoints, table);
+ *   source.best({ points: playedSlower, startGrains: 0 }, verifier(flatPoints, 0.05), toGrains(16))
  *   // → { piece: 2, pieceStart: 4, transposition: 0, matched: 30, excerptNotes: 30, score: 1, timeScale: 1.5 }
  */
-import { type Point, GRAINS_PER_BEAT, comparePoints, lowerBound, toGrains } from './note.js';
-import type { CorpusPoints } from './corpus.js';
-import { type WindowMatch, type WindowMatcher, betterMatch } from './match.js';
-import { type PitchLines, bestInPiece, checkTolerance, pitchLines, toleranceMatching } from './tolerance.js';
+import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains } from './note.js';
+import { type MatchWindow, type WindowMatch, better, betterMatch } from './match.js';
+import { type FlatPoints, lowerBoundAt, radixPass } from './triple-index.js';
+import { toleranceMatching } from './tolerance.js';
+import { type Span, type Verifier, excerptOf } from './verify.js';
+import type { CandidateSource } from './index-match.js';
 
-export interface FingerprintSettings {
-  /** Each note pairs with this many later notes, and each of those with as many after it. */
+/** Which triples the table holds: stored with it, since a query must make its triples the same way. */
+export interface FingerprintShape {
+  /** Each note pairs with this many later notes, and each of those with as many after it (at most 16). */
   fanOut: number;
   /** Onsets closer than this many beats (in the passage's own time) are not a step in time. */
   minGap: number;
+}
+
+export interface FingerprintSettings {
   /** Slowest and fastest tempo ratios searched (played / corpus duration). */
   minScale: number;
   maxScale: number;
@@ -38,9 +48,27 @@ export interface FingerprintSettings {
   candidates: number;
   /** Tolerance in corpus beats of the verifying match; a time scale estimated from notes is never exact. */
   tolerance: number;
+  /** Postings read per window, rarest key first… */
+  voteBudget: number;
+  /** …but at least this many keys looked up, so a window of common figures still votes. */
+  minTriples: number;
 }
 
-export const DEFAULT_FINGERPRINT: FingerprintSettings = { fanOut: 4, minGap: 0.125, minScale: 0.5, maxScale: 2, candidates: 4, tolerance: 0.05 };
+export const FINGERPRINT_SHAPE: FingerprintShape = { fanOut: 4, minGap: 0.125 };
+export const DEFAULT_FINGERPRINT: FingerprintSettings = { minScale: 0.5, maxScale: 2, candidates: 4, tolerance: 0.05, voteBudget: 6_000, minTriples: 12 };
+
+/** The corpus's triples by key, as the index file stores them. */
+export interface FingerprintTable {
+  shape: FingerprintShape;
+  /** Distinct keys, ascending. */
+  keys: Uint32Array;
+  /** Key k's triples are entries starts[k] … starts[k + 1] − 1. */
+  starts: Uint32Array;
+  /** Each triple's first note, as an index into the points of all pieces end to end. */
+  anchors: Uint32Array;
+  /** Where its other two notes are: (b − first b) × 16 + (c − first c), the firsts being the earliest notes minGap or more after a and after b. */
+  codes: Uint8Array;
+}
 
 /** Width of a ratio bin, in natural-log units: simple ratios (1, 2, 3/2, 4/3, 3) fall well inside their bins. */
 const RATIO_STEP = 0.1;
@@ -50,38 +78,98 @@ const SCALE_CELL = 0.04;
 /** How far (grains) verification looks from a cell's estimated position. */
 const NEAR_WITHIN = 2 * GRAINS_PER_BEAT;
 
-/** Packs a triple's key: pitch intervals within ±127, ratio bins within ±127. */
-const tripleKey = (a: Point, b: Point, c: Point): number => {
-  const r = Math.max(-127, Math.min(127, Math.round(Math.log((c.at - b.at) / (b.at - a.at)) / RATIO_STEP)));
-  return ((b.pitch - a.pitch + 128) * 256 + (c.pitch - b.pitch + 128)) * 256 + (r + 128);
-};
+const clampInterval = (d: number): number => Math.max(-127, Math.min(127, d));
 
-/** Calls `emit` with the indices of every triple of a sorted point set. */
-function eachTriple(points: readonly Point[], fanOut: number, gapGrains: number, emit: (a: number, b: number, c: number) => void): void {
-  for (let a = 0; a < points.length; a++) {
-    const b0 = lowerBound(points, points[a].at + gapGrains);
-    for (let b = b0; b < Math.min(points.length, b0 + fanOut); b++) {
-      const c0 = lowerBound(points, points[b].at + gapGrains);
-      for (let c = c0; c < Math.min(points.length, c0 + fanOut); c++) emit(a, b, c);
+/** A triple's key from its onsets and pitches: pitch intervals within ±127, ratio bins within ±127; under 2^24. */
+function fingerprintKey(ta: number, tb: number, tc: number, pa: number, pb: number, pc: number): number {
+  const r = Math.max(-127, Math.min(127, Math.round(Math.log((tc - tb) / (tb - ta)) / RATIO_STEP)));
+  return ((clampInterval(pb - pa) + 128) * 256 + (clampInterval(pc - pb) + 128)) * 256 + (r + 128);
+}
+
+/** Throws unless a fingerprint shape is usable. */
+export function checkFingerprintShape(shape: FingerprintShape): void {
+  if (!(Number.isInteger(shape.fanOut) && shape.fanOut >= 1 && shape.fanOut <= 16)) throw new RangeError(`fingerprint fanOut must be a whole number from 1 to 16, got ${shape.fanOut}`);
+  if (!(shape.minGap > 0 && Number.isFinite(shape.minGap))) throw new RangeError(`fingerprint minGap must be a positive number of beats, got ${shape.minGap}`);
+}
+
+/**
+ * Calls `emit(a, i, j)` for every triple of a sorted run of onsets
+ * [from, to): b is the i-th note from the first minGap or more after a, c
+ * the j-th from the first minGap or more after b.
+ */
+function eachTriple(at: ArrayLike<number>, from: number, to: number, shape: FingerprintShape, emit: (a: number, b: number, c: number, code: number) => void): void {
+  const gap = toGrains(shape.minGap);
+  for (let a = from; a < to; a++) {
+    const b0 = lowerBoundAt(at, at[a] + gap, a + 1, to);
+    for (let b = b0; b < Math.min(to, b0 + shape.fanOut); b++) {
+      const c0 = lowerBoundAt(at, at[b] + gap, b + 1, to);
+      for (let c = c0; c < Math.min(to, c0 + shape.fanOut); c++) emit(a, b, c, (b - b0) * 16 + (c - c0));
     }
   }
 }
 
-/** The corpus's triples by key; each entry is four numbers: piece, then the indices of a, b, c. */
-export type FingerprintTable = Map<number, number[]>;
+/** The fingerprint table of every piece's points, radix-sorted by key: no object per triple. */
+export function buildFingerprints(points: FlatPoints, shape: FingerprintShape = FINGERPRINT_SHAPE): FingerprintTable {
+  checkFingerprintShape(shape);
+  const { at, pitch, offsets } = points;
+  const pieces = offsets.length - 1;
+  const each = (emit: (a: number, b: number, c: number, code: number) => void): void => {
+    for (let p = 0; p < pieces; p++) eachTriple(at, offsets[p], offsets[p + 1], shape, emit);
+  };
+  let total = 0;
+  each(() => total++);
+  let key = new Uint32Array(total);
+  let anchor = new Uint32Array(total);
+  let code = new Uint32Array(total);
+  let n = 0;
+  each((a, b, c, cd) => {
+    key[n] = fingerprintKey(at[a], at[b], at[c], pitch[a], pitch[b], pitch[c]);
+    anchor[n] = a;
+    code[n++] = cd;
+  });
+  let spare = [new Uint32Array(total), new Uint32Array(total), new Uint32Array(total)];
+  for (const shift of [0, 12]) {
+    const arrays = [key, anchor, code];
+    radixPass(key, shift, arrays, spare);
+    [key, anchor, code] = spare;
+    spare = arrays;
+  }
+  let distinct = 0;
+  for (let i = 0; i < total; i++) if (i === 0 || key[i] !== key[i - 1]) distinct++;
+  const keys = new Uint32Array(distinct);
+  const starts = new Uint32Array(distinct + 1);
+  for (let i = 0, d = 0; i < total; i++) {
+    if (i === 0 || key[i] !== key[i - 1]) {
+      keys[d] = key[i];
+      starts[d++] = i;
+    }
+  }
+  starts[distinct] = total;
+  return { shape, keys, starts, anchors: anchor, codes: Uint8Array.from(code) };
+}
 
-export function fingerprintTable(corpus: CorpusPoints, settings: FingerprintSettings = DEFAULT_FINGERPRINT): FingerprintTable {
-  const table: FingerprintTable = new Map();
-  const gap = toGrains(settings.minGap);
-  corpus.points.forEach((points, piece) =>
-    eachTriple(points, settings.fanOut, gap, (a, b, c) => {
-      const k = tripleKey(points[a], points[b], points[c]);
-      const list = table.get(k);
-      if (list) list.push(piece, a, b, c);
-      else table.set(k, [piece, a, b, c]);
-    }),
-  );
-  return table;
+/** Position of `key` in the table's keys, or −1. */
+function findKey(keys: Uint32Array, key: number): number {
+  let lo = 0;
+  let hi = keys.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (keys[mid] < key) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo < keys.length && keys[lo] === key ? lo : -1;
+}
+
+/** The piece holding global point `i`. */
+function pieceOf(offsets: Uint32Array, i: number): number {
+  let lo = 0;
+  let hi = offsets.length - 1;
+  while (hi - lo > 1) {
+    const mid = (lo + hi) >>> 1;
+    if (offsets[mid] <= i) lo = mid;
+    else hi = mid;
+  }
+  return lo;
 }
 
 /** A window's points on the corpus's time: offsets from the window start divided by `scale`. */
@@ -103,33 +191,47 @@ interface Cell {
 const cellKey = (piece: number, position: number, scale: number, pitch: number): number =>
   ((piece * 2 ** 22 + (position + 2 ** 21)) * 64 + (scale + 32)) * 256 + (pitch + 128);
 
-/** Votes of the window's triples: cells keyed by (piece, corpus position of the window start, time scale, transposition). */
-function vote(table: FingerprintTable, corpus: CorpusPoints, window: readonly Point[], startGrains: number, settings: FingerprintSettings, exclude?: number): Map<number, Cell> {
+/** Votes of the window's triples, rarest key first: cells keyed by (piece, corpus position of the window start, time scale, transposition). */
+function vote(flat: FlatPoints, table: FingerprintTable, settings: FingerprintSettings, window: MatchWindow): Map<number, Cell> {
+  const { at, pitch, offsets } = flat;
+  const points = window.points;
+  const qa = points.map((p) => p.at);
+  const found: { k: number; a: number; c: number; size: number }[] = [];
+  eachTriple(qa, 0, points.length, table.shape, (a, b, c) => {
+    const k = findKey(table.keys, fingerprintKey(qa[a], qa[b], qa[c], points[a].pitch, points[b].pitch, points[c].pitch));
+    if (k >= 0) found.push({ k, a, c, size: table.starts[k + 1] - table.starts[k] });
+  });
+  found.sort((x, y) => x.size - y.size);
+  const gap = toGrains(table.shape.minGap);
   const cells = new Map<number, Cell>();
-  eachTriple(window, settings.fanOut, toGrains(settings.minGap), (a, b, c) => {
-    const qa = window[a];
-    const qc = window[c];
-    const hits = table.get(tripleKey(qa, window[b], qc));
-    if (!hits) return;
-    for (let h = 0; h < hits.length; h += 4) {
-      const piece = hits[h];
-      if (piece === exclude) continue;
-      const points = corpus.points[piece];
-      const ca = points[hits[h + 1]];
-      const scale = (qc.at - qa.at) / (points[hits[h + 3]].at - ca.at);
+  let spent = 0;
+  for (let r = 0; r < found.length; r++) {
+    const { k, a, c, size } = found[r];
+    if (r >= settings.minTriples && spent + size > settings.voteBudget) break;
+    spent += size;
+    const q0 = points[a];
+    const span = points[c].at - q0.at;
+    for (let s = table.starts[k]; s < table.starts[k + 1]; s++) {
+      const ca = table.anchors[s];
+      const piece = pieceOf(offsets, ca);
+      if (piece === window.exclude) continue;
+      const end = offsets[piece + 1];
+      const cb = lowerBoundAt(at, at[ca] + gap, ca + 1, end) + (table.codes[s] >> 4);
+      const cc = lowerBoundAt(at, at[cb] + gap, cb + 1, end) + (table.codes[s] & 15);
+      const scale = span / (at[cc] - at[ca]);
       if (scale < settings.minScale || scale > settings.maxScale) continue;
-      const start = ca.at - (qa.at - startGrains) / scale;
+      const start = at[ca] - (q0.at - window.startGrains) / scale;
       const position = Math.floor(start / POSITION_CELL);
       const scaleBin = Math.round(Math.log(scale) / SCALE_CELL);
-      const pitch = qa.pitch - ca.pitch;
-      const k = cellKey(piece, position, scaleBin, pitch);
-      const cell = cells.get(k) ?? { piece, position, scale: scaleBin, pitch, votes: 0, logScale: 0, start: 0 };
+      const dp = q0.pitch - pitch[ca];
+      const key = cellKey(piece, position, scaleBin, dp);
+      const cell = cells.get(key) ?? { piece, position, scale: scaleBin, pitch: dp, votes: 0, logScale: 0, start: 0 };
       cell.votes++;
       cell.logScale += Math.log(scale);
       cell.start += start;
-      cells.set(k, cell);
+      cells.set(key, cell);
     }
-  });
+  }
   return cells;
 }
 
@@ -178,31 +280,12 @@ function bestAlignments(cells: Map<number, Cell>, count: number): Alignment[] {
   return out;
 }
 
-interface Verifier {
-  corpus: CorpusPoints;
-  lines: PitchLines[];
-  windowGrains: number;
-  tolGrains: number;
-}
-
-/** Rescales the window to the alignment's time scale and matches it near the estimated place. */
-function verify(v: Verifier, window: readonly Point[], startGrains: number, a: Alignment): { match: WindowMatch; scaled: Point[] } | null {
-  const scaled = scaleTime(window, startGrains, a.scale);
-  const m = bestInPiece(
-    {
-      piece: a.piece,
-      points: v.corpus.points[a.piece],
-      lines: v.lines[a.piece],
-      window: scaled,
-      startGrains,
-      spanGrains: Math.round(v.windowGrains / a.scale),
-      tolGrains: v.tolGrains,
-      near: { translation: { at: Math.round(startGrains - a.start), pitch: a.pitch }, within: NEAR_WITHIN },
-    },
-    null,
-  );
+/** The window rescaled to an alignment's time scale, verified near the estimated place. */
+function verifyAt(verify: Verifier, window: MatchWindow, spanGrains: number, a: Alignment): { match: WindowMatch; span: Span } | null {
+  const span: Span = { points: scaleTime(window.points, window.startGrains, a.scale), startGrains: window.startGrains, spanGrains: Math.round(spanGrains / a.scale) };
+  const m = verify.near(span, { piece: a.piece, shift: Math.round(window.startGrains - a.start), dp: a.pitch, within: NEAR_WITHIN });
   // Four decimals: finer than any tempo difference a player could mean.
-  return m ? { match: { ...m, timeScale: Math.round(a.scale * 1e4) / 1e4 }, scaled } : null;
+  return m ? { match: { ...m, timeScale: Math.round(a.scale * 1e4) / 1e4 }, span } : null;
 }
 
 /**
@@ -210,11 +293,14 @@ function verify(v: Verifier, window: readonly Point[], startGrains: number, a: A
  * (in the window's own time): its slope is the time scale, and it places the
  * window start in the corpus. Null with fewer than 3 pairs or a flat fit.
  */
-function refit(v: Verifier, found: { match: WindowMatch; scaled: Point[] }, startGrains: number): Alignment | null {
-  const { match, scaled } = found;
+function refit(flat: FlatPoints, tolGrains: number, found: { match: WindowMatch; span: Span }): Alignment | null {
+  const { match, span } = found;
   const scale = match.timeScale!;
-  const shift = startGrains - Math.round(match.pieceStart * GRAINS_PER_BEAT);
-  const pairs = toleranceMatching(v.lines[match.piece], scaled, { at: shift, pitch: match.transposition }, v.tolGrains);
+  const startGrains = span.startGrains;
+  const from = Math.round(match.pieceStart * GRAINS_PER_BEAT);
+  const shift = startGrains - from;
+  const { lines } = excerptOf(flat, match.piece, from - tolGrains, from + span.spanGrains + tolGrains);
+  const pairs = toleranceMatching(lines, span.points, { at: shift, pitch: match.transposition }, tolGrains);
   if (pairs.length < 3) return null;
   const xs = pairs.map((p) => p.corpus.at);
   const ys = pairs.map((p) => startGrains + (p.query.at - startGrains) * scale);
@@ -232,34 +318,37 @@ function refit(v: Verifier, found: { match: WindowMatch; scaled: Point[] }, star
   return { piece: match.piece, start: mx - (my - startGrains) / fitted, scale: fitted, pitch: match.transposition };
 }
 
-/**
- * Wraps a matcher so each window is also searched at other tempi. The
- * wrapped matcher's answer stands (with time scale 1) unless a verified
- * fingerprint candidate beats it.
- */
-export function tempoFreeMatcher(corpus: CorpusPoints, base: WindowMatcher, options: Partial<FingerprintSettings> = {}): WindowMatcher {
-  const settings = { ...DEFAULT_FINGERPRINT, ...options };
-  checkTolerance(settings.tolerance);
+/** Throws unless fingerprint settings are usable. */
+export function checkFingerprintSettings(settings: FingerprintSettings): void {
   if (!(settings.minScale > 0 && settings.minScale <= 1 && settings.maxScale >= 1 && Number.isFinite(settings.maxScale))) {
     throw new RangeError(`time scales must satisfy 0 < minScale ≤ 1 ≤ maxScale, got ${settings.minScale}…${settings.maxScale}`);
   }
-  if (!(Number.isInteger(settings.fanOut) && settings.fanOut >= 1)) throw new RangeError(`fanOut must be a whole number ≥ 1, got ${settings.fanOut}`);
   if (!(Number.isInteger(settings.candidates) && settings.candidates >= 1)) throw new RangeError(`candidates must be a whole number ≥ 1, got ${settings.candidates}`);
-  const table = fingerprintTable(corpus, settings);
-  const v: Verifier = { corpus, lines: corpus.points.map(pitchLines), windowGrains: toGrains(base.windowBeats), tolGrains: toGrains(settings.tolerance) };
+  if (!(Number.isFinite(settings.tolerance) && settings.tolerance > 0 && settings.tolerance < 1)) throw new RangeError(`a tempo-free match needs a tolerance above 0 and under 1 beat, got ${settings.tolerance}`);
+}
+
+/**
+ * The tempo-free candidate source: places voted by the stored fingerprint
+ * table, each verified (by a verifier within a tolerance) at its estimated
+ * time scale and again at the refitted one. Its matches carry `timeScale`.
+ */
+export function fingerprintCandidates(flat: FlatPoints, table: FingerprintTable, options: Partial<FingerprintSettings> = {}): CandidateSource {
+  const settings = { ...DEFAULT_FINGERPRINT, ...options };
+  checkFingerprintSettings(settings);
   const inRange = (a: Alignment | null): a is Alignment => a !== null && a.scale >= settings.minScale && a.scale <= settings.maxScale;
   return {
-    windowBeats: base.windowBeats,
-    best(window, startGrains, options = {}) {
-      const plain = base.best(window, startGrains, options);
-      let best: WindowMatch | null = plain && { ...plain, timeScale: 1 };
-      for (const a of bestAlignments(vote(table, corpus, window, startGrains, settings, options.exclude), settings.candidates)) {
-        const found = verify(v, window, startGrains, a);
+    name: 'fingerprints',
+    best(window, verify, spanGrains) {
+      if (window.points.length < 3) return null;
+      const tolGrains = toGrains(verify.toleranceBeats);
+      let best: WindowMatch | null = null;
+      for (const a of bestAlignments(vote(flat, table, settings, window), settings.candidates)) {
+        const found = verifyAt(verify, window, spanGrains, a);
         if (!found) continue;
-        const again = refit(v, found, startGrains);
-        const refined = inRange(again) ? verify(v, window, startGrains, again) : null;
+        const again = refit(flat, tolGrains, found);
+        const refined = inRange(again) ? verifyAt(verify, window, spanGrains, again) : null;
         const pick = refined && !betterMatch(found.match, refined.match) ? refined.match : found.match;
-        if (betterMatch(pick, best)) best = pick;
+        best = better(pick, best);
       }
       return best;
     },

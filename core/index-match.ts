@@ -1,27 +1,34 @@
 /**
- * Matching with the corpus index: filter, then verify.
+ * The stored triple index as a candidate source of the matching pipeline
+ * (core/pipeline.ts): filter, then verify.
  *
  * A window's triples (core/triple-index.ts) look up their postings, rarest
  * key first, until a vote budget is spent. Each posting votes for the
  * translation taking its corpus anchor onto the window's anchor: (window
- * anchor time − corpus anchor time, window pitch − corpus pitch). The most-voted translations are then scored exactly as
- * core/match.ts scores them, so a score found here is the brute-force score
- * of that translation, never more than the window's exact best, and equal to
- * it whenever the best translation was among those verified. A window that
- * finds no match of 0.5 so reads a little further and verifies more of the
+ * anchor time − corpus anchor time, window pitch − corpus pitch). The
+ * most-voted translations are then scored by the pipeline's verifier
+ * (core/verify.ts), so a score found here is the score of a real
+ * translation, never more than the reference's. A window that finds no
+ * match of 0.5 so reads a little further and verifies more of the
  * translations voted for more than twice (FilterSettings.widenBelow).
+ *
+ * Within a tolerance, the window votes twice, with its onsets snapped to
+ * each of the VOTE_GRIDS (triple keys compare exact time differences, and a
+ * note played a little early would share no key with the corpus), and each
+ * run of nearby voted shifts is verified as one search around them.
  *
  * Windows of at most eight points are scanned instead (scanBest): a match of
  * 0.5 there needs only two to four points in common, too few for triples.
  *
  * @example
- *   const m = indexMatcher(corpusIndex(postings), 16);
- *   m.best(windowPoints, toGrains(32), { exclude: 3 })
+ *   const source = indexCandidates(corpusIndex(postings));
+ *   source.best({ points: windowPoints, startGrains: toGrains(32), exclude: 3 }, verifier(flat, 0), toGrains(16))
  *   // → { piece: 7, pieceStart: 8, transposition: 5, matched: 24, excerptNotes: 24, score: 1 }
  */
-import { type Point, GRAINS_PER_BEAT, toGrains } from './note.js';
-import { type MatchOptions, type WindowMatch, type WindowMatcher, betterMatch } from './match.js';
-import { type CorpusIndex, lowerBoundAt, tripleKey, triplesEndingAt } from './triple-index.js';
+import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains } from './note.js';
+import { type MatchWindow, type WindowMatch, better, betterMatch } from './match.js';
+import { type CorpusIndex, tripleKey, triplesEndingAt } from './triple-index.js';
+import { type Candidate, type Span, type Verifier, verifyShift } from './verify.js';
 import { VoteTable } from './votes.js';
 
 export interface FilterSettings {
@@ -70,35 +77,70 @@ export const SCAN_POINTS = 8;
 export const keyOf = (points: readonly Point[], a: number, b: number, c: number): number =>
   tripleKey(points[b].at - points[a].at, points[b].pitch - points[a].pitch, points[c].at - points[a].at, points[c].pitch - points[a].pitch);
 
-/**
- * The exact score of one translation of a piece: `shift` grains and `dp`
- * steps from the corpus to the window, the same numbers core/match.ts gives.
- */
-export function verifyShift(index: CorpusIndex, window: readonly Point[], startGrains: number, windowGrains: number, piece: number, shift: number, dp: number): WindowMatch {
-  const { at, pitch, offsets } = index.points;
-  const from = startGrains - shift;
-  const lo = lowerBoundAt(at, from, offsets[piece], offsets[piece + 1]);
-  const hi = lowerBoundAt(at, from + windowGrains, lo, offsets[piece + 1]);
-  let matched = 0;
-  let c = lo;
-  for (const w of window) {
-    const t = w.at - shift;
-    const p = w.pitch - dp;
-    while (c < hi && (at[c] < t || (at[c] === t && pitch[c] < p))) c++;
-    if (c === hi) break;
-    if (at[c] === t && pitch[c] === p) matched++;
-  }
-  const excerptNotes = hi - lo;
-  return { piece, pieceStart: from / GRAINS_PER_BEAT, transposition: dp, matched, excerptNotes, score: matched / Math.max(window.length, excerptNotes) };
+/** A voted translation: `shift` grains and `dp` steps from the corpus piece to the voting points. */
+export interface VotedTranslation {
+  piece: number;
+  shift: number;
+  dp: number;
+  votes: number;
 }
 
-/** Scores the most-voted translations (those with at least `atLeast` votes) exactly; the best under `betterMatch`. */
-export function verifyTop(index: CorpusIndex, votes: VoteTable, window: readonly Point[], startGrains: number, windowGrains: number, candidates: number, atLeast = 1): WindowMatch | null {
-  let best: WindowMatch | null = null;
-  for (const slot of votes.top(candidates, atLeast)) {
-    const m = verifyShift(index, window, startGrains, windowGrains, votes.pieceAt(slot), votes.shiftAt(slot), votes.dpAt(slot));
-    if (betterMatch(m, best)) best = m;
+/** The `n` most-voted translations with at least `atLeast` votes, most first. */
+export function topVoted(votes: VoteTable, n: number, atLeast = 1): VotedTranslation[] {
+  return votes.top(n, atLeast).map((e) => ({ piece: votes.pieceAt(e), shift: votes.shiftAt(e), dp: votes.dpAt(e), votes: votes.countAt(e) }));
+}
+
+/**
+ * Divisions of a beat onsets snap to before voting within a tolerance, each
+ * grid a vote of its own: 12 holds sixteenths and triplets, and brings back
+ * a note played up to 1/24 beat off; 4 brings back a sixteenth played up to
+ * ⅛ beat off, which 12 would snap to a neighbour. Exactly, a window votes
+ * with its onsets as they are: a note off the corpus's grid cannot match.
+ */
+export const VOTE_GRIDS = { fine: 12, coarse: 4 };
+export const FINE_GRAINS = GRAINS_PER_BEAT / VOTE_GRIDS.fine;
+export const COARSE_GRAINS = GRAINS_PER_BEAT / VOTE_GRIDS.coarse;
+
+/** Snaps an ontime to a grid step of `grains`. */
+export const snapTo = (at: number, grains: number): number => Math.round(at / grains) * grains;
+
+/** Points snapped to a grid step, sorted, one per ontime and pitch. */
+export function snapPoints(points: readonly Point[], grains: number): Point[] {
+  const out: Point[] = [];
+  for (const p of points.map((q) => ({ at: snapTo(q.at, grains), pitch: q.pitch })).sort(comparePoints)) {
+    const last = out[out.length - 1];
+    if (!last || comparePoints(last, p) !== 0) out.push(p);
   }
+  return out;
+}
+
+/**
+ * The candidates voted translations give the verifier. Exactly, each is
+ * itself. Within a tolerance, voted translations of one piece and
+ * transposition lie close together when a passage's notes snapped a little
+ * differently (a voted shift is off the played one by up to half a grid
+ * step): each run of shifts no more than `within` apart is one search,
+ * around its middle, reaching `within` past its ends.
+ */
+export function candidatesOf(voted: readonly VotedTranslation[], toleranceGrains: number): Candidate[] {
+  if (toleranceGrains === 0) return voted.map((t) => ({ piece: t.piece, shift: t.shift, dp: t.dp, within: 0 }));
+  const within = toleranceGrains + COARSE_GRAINS / 2;
+  const sorted = [...voted].sort((a, b) => a.piece - b.piece || a.dp - b.dp || a.shift - b.shift);
+  const groups: { piece: number; dp: number; lo: number; hi: number }[] = [];
+  for (const t of sorted) {
+    const last = groups[groups.length - 1];
+    if (last && last.piece === t.piece && last.dp === t.dp && t.shift - last.hi <= within) last.hi = t.shift;
+    else groups.push({ piece: t.piece, dp: t.dp, lo: t.shift, hi: t.shift });
+  }
+  return groups.map((g) => {
+    const shift = Math.floor((g.lo + g.hi) / 2);
+    return { piece: g.piece, dp: g.dp, shift, within: within + Math.max(shift - g.lo, g.hi - shift) };
+  });
+}
+
+/** The best of the candidates, each scored by the verifier. */
+export function verifyAll(span: Span, candidates: readonly Candidate[], verify: Verifier, best: WindowMatch | null = null): WindowMatch | null {
+  for (const c of candidates) best = better(verify.near(span, c), best);
   return best;
 }
 
@@ -111,10 +153,11 @@ export function verifyTop(index: CorpusIndex, votes: VoteTable, window: readonly
  * left (near the ends of pieces, in sparse passages) are verified with each
  * window point on them. Below 0.5 the answer may fall short of the exact one.
  */
-export function scanBest(index: CorpusIndex, window: readonly Point[], startGrains: number, windowGrains: number, exclude?: number): WindowMatch | null {
+export function scanBest(index: CorpusIndex, span: Span, exclude?: number): WindowMatch | null {
   const { at, pitch, offsets } = index.points;
+  const window = span.points;
   const most = 2 * window.length;
-  const half = Math.floor(windowGrains / 2);
+  const half = Math.floor(span.spanGrains / 2);
   let best: WindowMatch | null = null;
   for (let piece = 0; piece < index.pieces; piece++) {
     if (piece === exclude) continue;
@@ -132,7 +175,7 @@ export function scanBest(index: CorpusIndex, window: readonly Point[], startGrai
       while (to < end && at[to] <= at[c] + half) to++;
       if (Math.min(groupEnd - from, to - groupStart) > most) continue;
       for (const w of window) {
-        const m = verifyShift(index, window, startGrains, windowGrains, piece, w.at - at[c], w.pitch - pitch[c]);
+        const m = verifyShift(index.points, span, piece, w.at - at[c], w.pitch - pitch[c]);
         if (betterMatch(m, best)) best = m;
       }
     }
@@ -244,33 +287,60 @@ export function voteRarest(index: CorpusIndex, votes: VoteTable, lookups: Triple
 /** The second look's budget for a corpus of `notes` notes (FilterSettings.wideBudget). */
 export const wideBudgetFor = (settings: FilterSettings, notes: number): number => Math.round(settings.wideBudget * Math.max(1, Math.sqrt(notes / 1_000_000)));
 
-/** The batch matcher over an index; `report` and `baseline` use it like the exact one. */
-export function indexMatcher(index: CorpusIndex, windowBeats: number, settings: FilterSettings = DEFAULT_FILTER): WindowMatcher {
-  const windowGrains = toGrains(windowBeats);
+/** What a candidate source gives the pipeline: a window's best match among its candidates, each scored by the verifier. */
+export interface CandidateSource {
+  /** For benchmarks and reports: where the candidates come from. */
+  readonly name: string;
+  best(window: MatchWindow, verify: Verifier, spanGrains: number): WindowMatch | null;
+}
+
+/**
+ * Candidates voted by the stored triple index for a whole window at once:
+ * the batch commands' source. Within a tolerance a window of at most
+ * SCAN_POINTS points is scanned exactly, and the scan's best translation is
+ * verified within the tolerance together with the voted ones.
+ */
+export function indexCandidates(index: CorpusIndex, settings: FilterSettings = DEFAULT_FILTER): CandidateSource {
   const horizon = toGrains(index.shape.horizonBeats);
-  const votes = new VoteTable();
-  const lookups = new TripleLookups();
   const { offsets } = index.points;
   const wideBudget = wideBudgetFor(settings, index.points.at.length);
+  // One vote table and lookup buffer per view of the window, reused: fresh ones would grow to the same size each time.
+  const pool = [0, 1].map(() => ({ votes: new VoteTable(), lookups: new TripleLookups() }));
+  /** The votes of one view of the window (as played, or snapped to a grid), read on as far as `budget` on each call. */
+  const voter = (slot: number, points: readonly Point[], skipFrom: number, skipTo: number) => {
+    const { votes, lookups } = pool[slot];
+    votes.clear();
+    lookups.clear();
+    const at = points.map((w) => w.at);
+    for (let c = 2; c < points.length; c++) lookups.collect(index, points, at, 0, c, settings.queryPartners, horizon);
+    lookups.sort();
+    const read: RarestRead = { next: 0, spent: 0 };
+    return (budget: number, n: number, atLeast: number): VotedTranslation[] => {
+      voteRarest(index, votes, lookups, points, read, budget, settings.minTriples, skipFrom, skipTo);
+      return topVoted(votes, n, atLeast);
+    };
+  };
   return {
-    windowBeats,
-    best(window: readonly Point[], startGrains: number, options: MatchOptions = {}) {
-      if (window.length === 0) return null;
-      if (window.length <= SCAN_POINTS) return scanBest(index, window, startGrains, windowGrains, options.exclude);
-      lookups.clear();
-      const at = window.map((w) => w.at);
-      for (let c = 2; c < window.length; c++) lookups.collect(index, window, at, 0, c, settings.queryPartners, horizon);
-      const skipFrom = options.exclude === undefined ? 0 : offsets[options.exclude];
-      const skipTo = options.exclude === undefined ? 0 : offsets[options.exclude + 1];
-      votes.clear();
-      lookups.sort();
-      const read: RarestRead = { next: 0, spent: 0 };
-      voteRarest(index, votes, lookups, window, read, settings.voteBudget, settings.minTriples, skipFrom, skipTo);
-      const first = verifyTop(index, votes, window, startGrains, windowGrains, settings.candidates);
+    name: 'index',
+    best(window, verify, spanGrains) {
+      const points = window.points;
+      if (points.length === 0) return null;
+      const span: Span = { points, startGrains: window.startGrains, spanGrains };
+      const tolGrains = toGrains(verify.toleranceBeats);
+      if (points.length <= SCAN_POINTS) {
+        const scanned = scanBest(index, span, window.exclude);
+        if (tolGrains === 0 || !scanned) return scanned;
+        const shift = window.startGrains - Math.round(scanned.pieceStart * GRAINS_PER_BEAT);
+        return verifyAll(span, [{ piece: scanned.piece, shift, dp: scanned.transposition, within: tolGrains }], verify);
+      }
+      const skipFrom = window.exclude === undefined ? 0 : offsets[window.exclude];
+      const skipTo = window.exclude === undefined ? 0 : offsets[window.exclude + 1];
+      const views = tolGrains === 0 ? [points] : [snapPoints(points, FINE_GRAINS), snapPoints(points, COARSE_GRAINS)];
+      const voters = views.map((view, slot) => voter(slot, view, skipFrom, skipTo));
+      // Within a tolerance one shared triple (three notes in common) is not worth a search of its own.
+      const first = verifyAll(span, candidatesOf(voters.flatMap((v) => v(settings.voteBudget, settings.candidates, tolGrains === 0 ? 1 : 2)), tolGrains), verify);
       if ((first?.score ?? 0) >= settings.widenBelow) return first;
-      voteRarest(index, votes, lookups, window, read, wideBudget, settings.minTriples, skipFrom, skipTo);
-      const wide = verifyTop(index, votes, window, startGrains, windowGrains, settings.wideCandidates, settings.wideVotes);
-      return wide && betterMatch(wide, first) ? wide : first;
+      return verifyAll(span, candidatesOf(voters.flatMap((v) => v(wideBudget, settings.wideCandidates, settings.wideVotes)), tolGrains), verify, first);
     },
   };
 }

@@ -1,5 +1,5 @@
 /**
- * Matching a query window against a corpus, exactly.
+ * What matching a window means, whichever way it is done (core/pipeline.ts).
  *
  * A window's score is its best over every piece and every translation t
  * (from the corpus to the query) of |(C + t) ∩ window| / max(|window|,
@@ -9,13 +9,21 @@
  * has transposition +5.
  *
  * @example
- *   const m = exactMatcher(corpusPoints(corpus, 'chromatic'), 16);
- *   m.best(windowPoints, toGrains(32))
+ *   const m = windowMatcher(matchCorpus(view), { windowBeats: 16, mode: EXACT_MODE, candidates: 'every' });
+ *   m.best({ points: windowPoints, startGrains: toGrains(32) })
  *   // → { piece: 3, pieceStart: 8, transposition: 5, matched: 24, excerptNotes: 24, score: 1 }
  */
-import { type Point, GRAINS_PER_BEAT, countInSpan, toGrains } from './note.js';
-import { keyTranslation, translationCounts } from './cardinality.js';
-import type { CorpusPoints } from './corpus.js';
+import type { Point } from './note.js';
+
+/** One window to match: its points and where it starts. */
+export interface MatchWindow {
+  /** The query's points with ontime in [startGrains, startGrains + W), sorted (core/note.ts toPoints). */
+  points: readonly Point[];
+  /** Where the window starts, in grains. */
+  startGrains: number;
+  /** Index of a corpus piece to leave out (the human baseline scores a piece against the rest). */
+  exclude?: number;
+}
 
 export interface WindowMatch {
   /** Index of the piece in the corpus. */
@@ -31,26 +39,20 @@ export interface WindowMatch {
   score: number;
   /** Played duration / corpus duration of the passage (1.5 = slower), from tempo-free matching. */
   timeScale?: number;
-  /** In [0, 1]: 1 when the matched material is found in one corpus place only (core/distinctiveness.ts). */
+  /** In [0, 1]: 1 when the matched material is found in one corpus piece only (core/distinctiveness.ts). */
   distinctiveness?: number;
-}
-
-export interface MatchOptions {
-  /** Piece index to leave out (the human baseline scores a piece against the rest). */
-  exclude?: number;
 }
 
 /** Finds a query window's best match in a corpus. */
 export interface WindowMatcher {
   readonly windowBeats: number;
-  /** `window` holds the query's points with ontime in [start, start + W), sorted. */
-  best(window: readonly Point[], startGrains: number, options?: MatchOptions): WindowMatch | null;
+  best(window: MatchWindow): WindowMatch | null;
 }
 
 /**
  * Total order on matches: higher score, more matched notes, earlier piece,
- * earlier excerpt, smaller then lower transposition. Every matcher breaks
- * ties this way, so the indexed and exact paths agree to the letter.
+ * earlier excerpt, smaller then lower transposition. Every candidate source
+ * breaks ties this way, so their answers agree to the letter.
  */
 export function betterMatch(a: WindowMatch, b: WindowMatch | null): boolean {
   if (!b) return true;
@@ -64,64 +66,5 @@ export function betterMatch(a: WindowMatch, b: WindowMatch | null): boolean {
   );
 }
 
-/**
- * Scores the translations of one piece given their coincidence counts, best
- * first: a translation's score can be no more than count / |window|, so the
- * scan stops once that bound falls below the best found.
- */
-export function bestOfCounts(
-  piece: number,
-  points: readonly Point[],
-  counts: Map<number, number>,
-  window: readonly Point[],
-  startGrains: number,
-  windowGrains: number,
-  incumbent: WindowMatch | null,
-): WindowMatch | null {
-  let most = 0;
-  for (const c of counts.values()) if (c > most) most = c;
-  if (incumbent && most / window.length < incumbent.score) return incumbent;
-  const ranked = [...counts].sort((x, y) => y[1] - x[1]);
-  let best = incumbent;
-  for (const [key, matched] of ranked) {
-    if (best && matched / window.length < best.score) break;
-    const t = keyTranslation(key);
-    const from = startGrains - t.at;
-    const excerptNotes = countInSpan(points, from, from + windowGrains);
-    const candidate: WindowMatch = {
-      piece,
-      pieceStart: from / GRAINS_PER_BEAT,
-      transposition: t.pitch,
-      matched,
-      excerptNotes,
-      score: matched / Math.max(window.length, excerptNotes),
-    };
-    if (betterMatch(candidate, best)) best = candidate;
-  }
-  return best;
-}
-
-/** Folds every piece a search may look in (not left out, not empty) into the best match so far. */
-export function bestOverPieces(
-  corpus: CorpusPoints,
-  options: MatchOptions,
-  step: (piece: number, points: readonly Point[], best: WindowMatch | null) => WindowMatch | null,
-): WindowMatch | null {
-  let best: WindowMatch | null = null;
-  corpus.points.forEach((points, piece) => {
-    if (piece !== options.exclude && points.length > 0) best = step(piece, points, best);
-  });
-  return best;
-}
-
-/** Brute force over every pair of query and corpus points: the reference every faster path must equal. */
-export function exactMatcher(corpus: CorpusPoints, windowBeats: number): WindowMatcher {
-  const windowGrains = toGrains(windowBeats);
-  return {
-    windowBeats,
-    best(window, startGrains, options = {}) {
-      if (window.length === 0) return null;
-      return bestOverPieces(corpus, options, (piece, points, best) => bestOfCounts(piece, points, translationCounts(points, window), window, startGrains, windowGrains, best));
-    },
-  };
-}
+/** The better of two matches under `betterMatch`. */
+export const better = (a: WindowMatch | null, b: WindowMatch | null): WindowMatch | null => (a && betterMatch(a, b) ? a : b);

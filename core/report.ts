@@ -2,13 +2,16 @@
  * The originality report and the human baseline.
  *
  * A query is cut into windows; each window takes its best score against the
- * corpus; originality = 1 − the mean window score. The human baseline is the
+ * corpus; originality = 1 − the mean window score. A window holding fewer
+ * than `minNotes` notes (a query's last window often holds a note or two,
+ * and any two notes match somewhere) is listed, marked `tooShort`, and left
+ * out of the mean, the interval and the gate. The human baseline is the
  * same analysis of sampled corpus pieces against the rest of the corpus, the
  * yardstick for how much the corpus's own composers borrow from each other.
  *
  * @example
- *   const matcher = exactMatcher(view, 16);
- *   originalityReport([{ file: 'take1.mid', notes }], view, matcher, { window: 16, hop: 8 })
+ *   const matcher = windowMatcher(corpus, { windowBeats: 16, mode: EXACT_MODE, candidates: 'index' });
+ *   originalityReport([{ file: 'take1.mid', notes }], view, matcher, { window: 16, hop: 8, minNotes: 8 })
  *   // → { originality: 0.82, ci95: null, queries: [{ file: 'take1.mid', originality: 0.82, windows: [...] }], ... }
  */
 import { type Note, type PitchMode, type Point, toGrains, toPoints } from './note.js';
@@ -41,8 +44,28 @@ export interface WindowResult {
   end: number;
   notes: number;
   score: number;
+  /** Fewer notes than the report's minNotes: listed, but left out of originality, its interval and the gate. */
+  tooShort: boolean;
   match: MatchSummary | null;
 }
+
+/**
+ * Windows with fewer notes than this are too short to judge, in a batch
+ * report, baseline, review or gate unless told otherwise. On the human
+ * baselines of the demo corpus and of the chorales, windows of 16 beats
+ * under 8 notes are the ends of pieces (under 2% of windows), and they
+ * score far above the rest: any few notes match somewhere. 8 is also where
+ * the index stops voting and scans (SCAN_POINTS).
+ */
+export const DEFAULT_MIN_NOTES = 8;
+
+/** Throws unless `minNotes` is a whole number ≥ 1. */
+export function checkMinNotes(minNotes: number): void {
+  if (!(Number.isInteger(minNotes) && minNotes >= 1)) throw new RangeError(`minNotes must be a whole number of at least 1, got ${minNotes}`);
+}
+
+/** The scores of the windows long enough to judge. */
+export const judgedScores = (windows: readonly WindowResult[]): number[] => windows.filter((w) => !w.tooShort).map((w) => w.score);
 
 export interface QueryInput {
   file: string;
@@ -60,12 +83,17 @@ export interface QueryReport {
 export interface ReportSettings extends WindowShape {
   pitch: PitchMode;
   seed: number;
+  /** Windows with fewer notes are too short to judge. */
+  minNotes: number;
 }
 
 export interface OriginalityReport {
   originality: number | null;
   ci95: [number, number] | null;
+  /** Windows judged (long enough), across queries. */
   windows: number;
+  /** Windows listed but too short to judge. */
+  tooShort: number;
   queries: QueryReport[];
   settings: ReportSettings;
   caution: string;
@@ -76,14 +104,16 @@ export interface Progress {
 }
 
 /** Scores every window of a point set. `exclude` leaves one corpus piece out. */
-export function scoreWindows(points: readonly Point[], corpus: CorpusPoints, matcher: WindowMatcher, shape: WindowShape, exclude?: number): WindowResult[] {
+export function scoreWindows(points: readonly Point[], corpus: CorpusPoints, matcher: WindowMatcher, shape: WindowShape & { minNotes: number }, exclude?: number): WindowResult[] {
+  checkMinNotes(shape.minNotes);
   return windows(points, shape).map((w) => {
-    const m = matcher.best(w.points, toGrains(w.start), { exclude });
+    const m = matcher.best({ points: w.points, startGrains: toGrains(w.start), exclude });
     return {
       start: w.start,
       end: w.end,
       notes: w.points.length,
       score: m ? m.score : 0,
+      tooShort: w.points.length < shape.minNotes,
       match: m && m.matched > 0 ? {
         piece: corpus.pieces[m.piece].path,
         title: pieceName(corpus.pieces[m.piece]),
@@ -111,23 +141,24 @@ export function originalityReport(
   queries: readonly QueryInput[],
   corpus: CorpusPoints,
   matcher: WindowMatcher,
-  settings: Omit<ReportSettings, 'pitch'> & { seed?: number },
+  settings: WindowShape & { seed?: number; minNotes?: number },
   progress?: Progress,
 ): OriginalityReport {
   const seed = settings.seed ?? 1;
-  const shape = { window: settings.window, hop: settings.hop };
+  const shape = { window: settings.window, hop: settings.hop, minNotes: settings.minNotes ?? DEFAULT_MIN_NOTES };
   const reports = queries.map((q, i) => {
     const windowsOf = scoreWindows(toPoints(q.notes, corpus.mode), corpus, matcher, shape);
     progress?.(i + 1, queries.length);
-    return { file: q.file, notes: q.notes.length, originality: originalityOf(windowsOf.map((w) => w.score)), windows: windowsOf };
+    return { file: q.file, notes: q.notes.length, originality: originalityOf(judgedScores(windowsOf)), windows: windowsOf };
   });
-  const groups = reports.map((r) => r.windows.map((w) => w.score));
+  const groups = reports.map((r) => judgedScores(r.windows));
   return {
     originality: originalityOf(groups.flat()),
     ci95: originalityCi(groups, seed),
     windows: groups.flat().length,
+    tooShort: reports.reduce((n, r) => n + r.windows.filter((w) => w.tooShort).length, 0),
     queries: reports,
-    settings: { ...shape, pitch: corpus.mode, seed },
+    settings: { window: shape.window, hop: shape.hop, pitch: corpus.mode, seed, minNotes: shape.minNotes },
     caution: CAUTION,
   };
 }
@@ -153,16 +184,17 @@ export interface Baseline {
 export interface BaselineOptions extends WindowShape {
   samples: number;
   seed: number;
+  minNotes?: number;
 }
 
 /** Each sampled piece's windows scored against the corpus with the piece itself left out. */
 export function humanBaseline(corpus: CorpusPoints, matcher: WindowMatcher, options: BaselineOptions, progress?: Progress): Baseline {
   if (corpus.pieces.length < 2) throw new RangeError(`a baseline needs at least 2 corpus pieces, the corpus has ${corpus.pieces.length}`);
   if (!(Number.isInteger(options.samples) && options.samples > 0)) throw new RangeError(`samples must be a positive whole number, got ${options.samples}`);
-  const shape = { window: options.window, hop: options.hop };
+  const shape = { window: options.window, hop: options.hop, minNotes: options.minNotes ?? DEFAULT_MIN_NOTES };
   const picked = sampleIndices(corpus.pieces.length, options.samples, seededRandom(options.seed));
   const groups = picked.map((piece, i) => {
-    const scores = scoreWindows(corpus.points[piece], corpus, matcher, shape, piece).map((w) => w.score);
+    const scores = judgedScores(scoreWindows(corpus.points[piece], corpus, matcher, shape, piece));
     progress?.(i + 1, picked.length);
     return scores;
   });
@@ -173,7 +205,7 @@ export function humanBaseline(corpus: CorpusPoints, matcher: WindowMatcher, opti
     samples: picked.map((i) => corpus.pieces[i].path),
     windows: all.length,
     percentiles: { p50: percentile(all, 50), p90: percentile(all, 90), p95: percentile(all, 95), p99: percentile(all, 99) },
-    settings: { ...shape, pitch: corpus.mode, seed: options.seed },
+    settings: { window: shape.window, hop: shape.hop, pitch: corpus.mode, seed: options.seed, minNotes: shape.minNotes },
     caution: CAUTION,
   };
 }

@@ -13,7 +13,7 @@
 import { type Note, type PitchMode, type Point, comparePoints, toGrains } from './note.js';
 import { type PitchLines, firstAtLeast, pitchLines } from './tolerance.js';
 import type { CorpusPoints, Piece } from './corpus.js';
-import { type MatchSummary, type QueryReport, type WindowResult, originalityCi, originalityOf } from './report.js';
+import { type MatchSummary, type QueryReport, type WindowResult, judgedScores, originalityCi, originalityOf } from './report.js';
 
 /** How many worst windows a review shows when not told otherwise. */
 export const DEFAULT_WORST = 3;
@@ -170,7 +170,7 @@ export function folderSeries(queries: readonly QueryReport[], folders: readonly 
     if (f !== null) groups.set(f, [...(groups.get(f) ?? []), q]);
   });
   return [...groups].map(([folder, qs]) => {
-    const scores = qs.map((q) => q.windows.map((w) => w.score));
+    const scores = qs.map((q) => judgedScores(q.windows));
     return { folder, queries: qs.length, windows: scores.flat().length, originality: originalityOf(scores.flat()), ci95: originalityCi(scores, seed) };
   });
 }

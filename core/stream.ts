@@ -1,5 +1,6 @@
 /**
- * Live matching against the corpus index, one note at a time.
+ * The streaming index: the live candidate source of the matching pipeline
+ * (core/pipeline.ts), one note at a time.
  *
  * The stream keeps the window's points and running vote counts per
  * translation. A new point completes triples with the few points before it
@@ -9,14 +10,13 @@
  * about the postings of its own triples, however long the window, and never
  * more than `noteCap` of them: in a large corpus even a note's rarest triple
  * can be a figure thousands of passages share, and such a note is left to
- * its neighbours' votes. `best()` scores the most-voted translations exactly,
- * as core/match.ts would score them.
+ * its neighbours' votes. `translations()` names the most-voted, for the
+ * pipeline's verifier to score (core/live-match.ts).
  *
  * Points must come in time order (equal ontimes in any order; a point
  * already in the window is ignored, as in a point set). Choosing a point's
  * triples when it arrives means a window reached by streaming can vote a little
- * differently from the same window scored afresh; both only ever report
- * exact scores of real translations.
+ * differently from the same window scored afresh.
  *
  * @example
  *   const stream = new StreamingMatch(index, { windowBeats: 16 });
@@ -24,13 +24,12 @@
  *   for (const p of played) {            // p = { at: grains since the session began, pitch }
  *     stream.add(p);
  *     stream.expire(p.at - W + 1);       // the window is now the last 16 beats, ending with p
- *     stream.best();                     // → { piece: 7, pieceStart: 8, transposition: 5, matched: 24, excerptNotes: 24, score: 1 } or null
+ *     stream.translations(16, 2);        // → [{ piece: 7, shift: 30720, dp: 5, votes: 61 }, ...]
  *   }
  */
-import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains } from './note.js';
-import type { WindowMatch } from './match.js';
+import { type Point, comparePoints, toGrains } from './note.js';
 import { type CorpusIndex, MAX_GRAIN, MAX_PITCH } from './triple-index.js';
-import { DEFAULT_FILTER, SCAN_POINTS, TripleLookups, castVotes, scanBest, verifyTop } from './index-match.js';
+import { DEFAULT_FILTER, type VotedTranslation, TripleLookups, castVotes, topVoted } from './index-match.js';
 import { VoteTable } from './votes.js';
 
 export interface StreamSettings {
@@ -45,15 +44,12 @@ export interface StreamSettings {
    * million notes hardly any reaches 2,000).
    */
   noteCap: number;
-  /** Most-voted translations `best()` scores exactly. */
-  candidates: number;
 }
 
-export const DEFAULT_STREAM: StreamSettings = { queryPartners: DEFAULT_FILTER.queryPartners, noteBudget: 64, noteCap: 2_000, candidates: DEFAULT_FILTER.candidates };
+export const DEFAULT_STREAM: StreamSettings = { queryPartners: DEFAULT_FILTER.queryPartners, noteBudget: 64, noteCap: 2_000 };
 
 export class StreamingMatch {
   readonly windowBeats: number;
-  private readonly windowGrains: number;
   private readonly horizon: number;
   private readonly settings: StreamSettings;
   /** The window's points, sorted, and for each the keys it anchored votes for. */
@@ -67,7 +63,6 @@ export class StreamingMatch {
   constructor(private readonly index: CorpusIndex, options: { windowBeats: number; settings?: StreamSettings }) {
     if (!(Number.isFinite(options.windowBeats) && options.windowBeats > 0)) throw new RangeError(`windowBeats must be a positive number of beats, got ${options.windowBeats}`);
     this.windowBeats = options.windowBeats;
-    this.windowGrains = toGrains(options.windowBeats);
     this.horizon = toGrains(index.shape.horizonBeats);
     this.settings = options.settings ?? DEFAULT_STREAM;
   }
@@ -119,18 +114,6 @@ export class StreamingMatch {
     this.start = beforeGrains;
   }
 
-  /** The window's best match, scored exactly; null for an empty window. */
-  best(): WindowMatch | null {
-    const n = this.points.length;
-    if (n === 0) return null;
-    const span = this.points[n - 1].at - this.start;
-    if (span >= this.windowGrains) {
-      throw new RangeError(`the window starts at ${this.start / GRAINS_PER_BEAT} beats but holds a note ${span / GRAINS_PER_BEAT} beats later, more than its ${this.windowBeats} beats: expire() the older notes first`);
-    }
-    if (n <= SCAN_POINTS) return scanBest(this.index, this.points, this.start, this.windowGrains);
-    return verifyTop(this.index, this.votes, this.points, this.start, this.windowGrains, this.settings.candidates);
-  }
-
   /**
    * The `n` most-voted translations so far with at least `atLeast` votes,
    * most first, for a caller that verifies them its own way (within a
@@ -138,13 +121,6 @@ export class StreamingMatch {
    * played points.
    */
   translations(n: number, atLeast = 1): VotedTranslation[] {
-    return this.votes.top(n, atLeast).map((e) => ({ piece: this.votes.pieceAt(e), shift: this.votes.shiftAt(e), dp: this.votes.dpAt(e), votes: this.votes.countAt(e) }));
+    return topVoted(this.votes, n, atLeast);
   }
-}
-
-export interface VotedTranslation {
-  piece: number;
-  shift: number;
-  dp: number;
-  votes: number;
 }

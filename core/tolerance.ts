@@ -8,20 +8,20 @@
  * splits by pitch into matchings of points on a line where a pair is allowed
  * when the two lie within ± tolerance; two sorted lists matched greedily from
  * the left give the maximum. Candidate translations come from a histogram of
- * (time difference in bins of one tolerance, pitch difference) over all pairs:
- * every pair a translation in bin b can match lies in bins b−1…b+1, so their
- * sum bounds the bin's matching and lets the scan stop early, as the exact
- * path does. Each bin is refined to the densest span of its time differences.
+ * (time difference in bins of one tolerance, pitch difference) over all pairs.
+ * Each bin is refined to shifts within one bin of it, the densest span of
+ * its time differences; every pair such a shift can match lies in bins
+ * b−2…b+2, so their sum bounds the bin's matching and lets the scan stop
+ * early, as the exact search does. The pipeline's verifier (core/verify.ts)
+ * runs this search on a whole piece (the reference) or near a candidate.
  *
  * @example
- *   const m = toleranceMatcher(corpusPoints(corpus, 'chromatic'), 16, 0.1);
- *   m.best(playedWindow, toGrains(32))
- *   // → { piece: 3, pieceStart: 8, transposition: 5, matched: 22, excerptNotes: 24, score: 0.917 }
+ *   toleranceMatching(pitchLines(corpusExcerpt), playedWindow, { at: 7680, pitch: 5 }, toGrains(0.1)).length
+ *   // → 22   corpus notes matched one to one by played notes within ±0.1 beat
  */
-import { type Point, GRAINS_PER_BEAT, countInSpan, toGrains } from './note.js';
+import { type Point, GRAINS_PER_BEAT, countInSpan } from './note.js';
 import { type Translation, keyTranslation, translationKey } from './cardinality.js';
-import type { CorpusPoints } from './corpus.js';
-import { type WindowMatch, type WindowMatcher, bestOverPieces, betterMatch } from './match.js';
+import { type WindowMatch, betterMatch } from './match.js';
 
 /** A piece's ontimes grouped by pitch, each list ascending: the lines one-to-one matching runs along. */
 export type PitchLines = Map<number, number[]>;
@@ -158,7 +158,8 @@ export function bestInPiece(s: PieceSearch, incumbent: WindowMatch | null): Wind
   const counts = binCounts(s.points, s.lines, s.window, bin, s.near);
   const bound = (k: number): number => {
     const { at, pitch } = keyTranslation(k);
-    const around = (counts.get(translationKey(at - 1, pitch)) ?? 0) + counts.get(k)! + (counts.get(translationKey(at + 1, pitch)) ?? 0);
+    let around = 0;
+    for (let d = -2; d <= 2; d++) around += counts.get(translationKey(at + d, pitch)) ?? 0;
     return Math.min(around, s.window.length);
   };
   const ranked = [...counts.keys()].map((k) => ({ k, bound: bound(k) })).sort((x, y) => y.bound - x.bound || x.k - y.k);
@@ -189,19 +190,3 @@ export function bestInPiece(s: PieceSearch, incumbent: WindowMatch | null): Wind
 export function checkTolerance(beats: number): void {
   if (!(Number.isFinite(beats) && beats >= 0 && beats < 1)) throw new RangeError(`tolerance must be at least 0 and under 1 beat, got ${beats}`);
 }
-
-/** Matches windows with ontimes allowed to stray ± `toleranceBeats` from the corpus's. */
-export function toleranceMatcher(corpus: CorpusPoints, windowBeats: number, toleranceBeats: number): WindowMatcher {
-  checkTolerance(toleranceBeats);
-  const windowGrains = toGrains(windowBeats);
-  const tolGrains = toGrains(toleranceBeats);
-  const lines = corpus.points.map(pitchLines);
-  return {
-    windowBeats,
-    best(window, startGrains, options = {}) {
-      if (window.length === 0) return null;
-      return bestOverPieces(corpus, options, (piece, points, best) => bestInPiece({ piece, points, lines: lines[piece], window, startGrains, spanGrains: windowGrains, tolGrains }, best));
-    },
-  };
-}
-

@@ -117,7 +117,7 @@ export function triplesEndingAt(at: ArrayLike<number>, from: number, c: number, 
 }
 
 /** Stable counting-sort pass on a 12-bit digit of `digits`, carrying the other arrays along. */
-function radixPass(digits: Uint32Array, shift: number, arrays: Uint32Array[], out: Uint32Array[]): void {
+export function radixPass(digits: Uint32Array, shift: number, arrays: Uint32Array[], out: Uint32Array[]): void {
   const counts = new Uint32Array(4097);
   const n = digits.length;
   for (let i = 0; i < n; i++) counts[((digits[i] >>> shift) & 4095) + 1]++;
@@ -223,7 +223,7 @@ export function corpusIndex(postings: TriplePostings): CorpusIndex {
 }
 
 /** Index of the first point in [from, to) with ontime at or after `t` grains. */
-export function lowerBoundAt(at: Int32Array, t: number, from: number, to: number): number {
+export function lowerBoundAt(at: ArrayLike<number>, t: number, from: number, to: number): number {
   let lo = from;
   let hi = to;
   while (lo < hi) {

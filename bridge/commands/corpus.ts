@@ -17,6 +17,8 @@ import type { Command } from 'commander';
 import { PITCH_MODES } from '../../core/note.js';
 import { type FlatNotes, joinNotes, notePoints } from '../../core/flat-notes.js';
 import { CORPUS_TRIPLES, buildTriples } from '../../core/triple-index.js';
+import { FINGERPRINT_SHAPE, buildFingerprints } from '../../core/fingerprint.js';
+import { EXACT_MODE } from '../../core/pipeline.js';
 import { findMidiFiles } from '../corpus-files.js';
 import { type FileFingerprint, type IndexContents, type PieceInfo, INDEX_NAME, IndexFileError, readIndexFile, writeIndexFile } from '../index-file.js';
 import { type ParseTask, type ParsedFile, fileHash } from '../build-worker.js';
@@ -67,7 +69,7 @@ function baselinesOf(out: string, percussion: boolean, request: BaselineRequest)
   const view = opened.view('chromatic');
   const bar = progressBar('baseline');
   const made = request.windows.map((window, i) => {
-    const b = humanBaseline(view, opened.matcher(view, window), { window, hop: window / 2, samples: request.samples, seed: 1 });
+    const b = humanBaseline(view, opened.matcher({ pitch: 'chromatic', window, mode: EXACT_MODE }), { window, hop: window / 2, samples: request.samples, seed: 1 });
     bar.tick(i + 1, request.windows.length);
     return b;
   });
@@ -176,8 +178,10 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
     throw new UsageError(`corpus build ${dir}: no readable MIDI file with notes under it${skipped.length ? ` (${skipped.length} skipped)` : ''}`);
   }
   const notes = joinNotes(parts);
-  const postings = Object.fromEntries(PITCH_MODES.map((mode) => [mode, buildTriples(notePoints(notes, mode), CORPUS_TRIPLES)]));
-  const contents = { shape: CORPUS_TRIPLES, percussion, pieces, files, notes, postings };
+  const points = PITCH_MODES.map((mode) => [mode, notePoints(notes, mode)] as const);
+  const postings = Object.fromEntries(points.map(([mode, flat]) => [mode, buildTriples(flat, CORPUS_TRIPLES)]));
+  const fingerprints = Object.fromEntries(points.map(([mode, flat]) => [mode, buildFingerprints(flat, FINGERPRINT_SHAPE)]));
+  const contents = { shape: CORPUS_TRIPLES, fingerprint: FINGERPRINT_SHAPE, percussion, pieces, files, notes, postings, fingerprints };
   writeIndexFile(out, contents);
   const baselines = options.baseline ? baselinesOf(out, percussion, options.baseline) : [];
   if (baselines.length) writeIndexFile(out, { ...contents, baselines });

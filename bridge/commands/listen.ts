@@ -80,6 +80,8 @@ export function registerListen(cli: Command): void {
     .option('--hysteresis <score>', 'a warning clears only below threshold minus this (overrides the preset)')
     .option('--grid <n>', 'onsets snap to 1/n beat before scoring, 0 = as played (overrides the preset)')
     .option('--tolerance <beats>', 'beats a played onset may stray from the corpus\'s and still match, 0 = exact (overrides the preset)')
+    .option('--tempo-free', 'also find passages played at 0.5–2 times the corpus tempo (overrides the preset)')
+    .option('--no-tempo-free', 'match at the corpus tempo only (overrides the preset)')
     .option('--min-distinctiveness <d>', 'matches less distinctive than this (0–1) never warn (overrides the preset)')
     .option('--warn', 'raise warnings (overrides the preset)')
     .option('--no-warn', 'log and score only, no warnings (overrides the preset)')
@@ -97,7 +99,7 @@ export function registerListen(cli: Command): void {
       const chosen = withOverrides(loadPreset(o.preset), {
         input: o.input, window: o.window, bpm: o.bpm, threshold: o.threshold, minNotes: o.minNotes,
         consecutive: o.consecutive, hysteresis: o.hysteresis, grid: o.grid, warn: o.warn,
-        tolerance: o.tolerance, minDistinctiveness: o.minDistinctiveness,
+        tolerance: o.tolerance, tempoFree: o.tempoFree, minDistinctiveness: o.minDistinctiveness,
       });
       const preset = resolveThreshold(chosen, o.corpus);
       const log = o.log ?? defaultLogFile();
@@ -121,7 +123,7 @@ export function registerListen(cli: Command): void {
       const lines = [
         `earwitness listen — ${CAUTION}`,
         `corpus: ${s.corpus.source} (${s.corpus.pieces} pieces, ${s.corpus.notes} notes)`,
-        `preset: ${preset.name} — ${preset.description} (window ${preset.window} beats, threshold ${preset.threshold}${chosen.threshold === 'auto' ? ' (auto: the corpus baseline\'s p99)' : ''}, tolerance ${preset.tolerance} beat, min distinctiveness ${preset.minDistinctiveness}, ${preset.minNotes} notes, ${preset.consecutive} in a row, hysteresis ${preset.hysteresis}, ${preset.warn ? 'warnings on' : 'no warnings'})`,
+        `preset: ${preset.name} — ${preset.description} (window ${preset.window} beats, threshold ${preset.threshold}${chosen.threshold === 'auto' ? ' (auto: the corpus baseline\'s p99)' : ''}, tolerance ${preset.tolerance} beat${preset.tempoFree ? ', tempo-free' : ''}, min distinctiveness ${preset.minDistinctiveness}, ${preset.minNotes} notes, ${preset.consecutive} in a row, hysteresis ${preset.hysteresis}, ${preset.warn ? 'warnings on' : 'no warnings'})`,
         midiLine,
         s.osc ? `OSC: udp 127.0.0.1:${s.osc.port} (/ew/note, /ew/on, /ew/off, /ew/tempo, /ew/beat, /ew/reset)` : 'OSC: not listening (the preset listens to MIDI only)',
         `overlay: ${s.http.url}${o.token ? `?token=${o.token}` : ''}${isWildcard(o.host) ? ' (and on every other address of this machine)' : ''}`,

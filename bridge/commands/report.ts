@@ -1,7 +1,7 @@
 import { writeFileSync } from 'node:fs';
 import type { Command } from 'commander';
 import type { PitchMode } from '../../core/note.js';
-import { type MatchMode, modeMatcher } from '../../core/match-mode.js';
+import type { MatchMode } from '../../core/pipeline.js';
 import { type Baseline, type OriginalityReport, type QueryInput, humanBaseline, originalityReport } from '../../core/report.js';
 import type { CorpusPoints } from '../../core/corpus.js';
 import type { WindowMatcher } from '../../core/match.js';
@@ -9,7 +9,7 @@ import { loadQueries } from '../corpus-files.js';
 import { type OpenedCorpus, openCorpus } from '../open-corpus.js';
 import { type BaselineFile, checkBaselineFits, readBaselineFile } from '../baseline-file.js';
 import { writeReportHtml } from '../html/report-page.js';
-import { hopOption, pitchOption, printJson, tempoFreeOption, toleranceOption, windowOption } from '../options.js';
+import { hopOption, minNotesOption, pitchOption, printJson, tempoFreeOption, toleranceOption, windowOption } from '../options.js';
 import { progressBar } from '../progress.js';
 import { baselineText, reportCsv, reportText } from '../report-text.js';
 import { UsageError, wholeNumber } from '../usage.js';
@@ -26,6 +26,7 @@ export interface CorpusFlags {
   tolerance: number;
   tempoFree?: boolean;
   exact?: boolean;
+  minNotes: number;
 }
 
 export const modeOf = (o: CorpusFlags): MatchMode => ({ tolerance: o.tolerance, tempoFree: o.tempoFree ?? false });
@@ -41,16 +42,12 @@ export const corpusCommand = (cli: Command, name: string, description: string): 
     .addOption(pitchOption())
     .addOption(toleranceOption())
     .addOption(tempoFreeOption())
+    .addOption(minNotesOption())
     .option('--percussion', 'keep channel 10 (percussion)')
     .option('--json', 'print JSON');
 
-/**
- * The matcher the batch commands score with: the corpus's own (its index's
- * unless --exact), in the chosen matching mode, counting distinctiveness
- * through the index too when it matches through it.
- */
-const matcherOf = (opened: OpenedCorpus, view: CorpusPoints, o: CorpusFlags): WindowMatcher =>
-  modeMatcher(view, o.window, modeOf(o), opened.matcher(view, o.window, o.exact), o.exact ? undefined : opened.storedIndex(view.mode));
+/** The matcher the batch commands score with: the corpus's one entry point, in the chosen matching mode. */
+const matcherOf = (opened: OpenedCorpus, o: CorpusFlags): WindowMatcher => opened.matcher({ pitch: o.pitch, window: o.window, mode: modeOf(o), exact: o.exact });
 
 /** Reads the query files: each unreadable one is named on stderr and listed; none readable at all is an error. */
 export function readQueries(paths: string[], o: CorpusFlags): ReturnType<typeof loadQueries> {
@@ -64,7 +61,7 @@ export function readQueries(paths: string[], o: CorpusFlags): ReturnType<typeof 
 export function scoreQueries(opened: OpenedCorpus, queries: QueryInput[], o: CorpusFlags): { view: CorpusPoints; report: OriginalityReport } {
   const view = opened.view(o.pitch);
   const bar = progressBar('scoring');
-  const report = originalityReport(queries, view, matcherOf(opened, view, o), o, bar.tick);
+  const report = originalityReport(queries, view, matcherOf(opened, o), o, bar.tick);
   bar.stop();
   return { view, report };
 }
@@ -74,7 +71,7 @@ export function computeBaseline(opened: OpenedCorpus, o: CorpusFlags & { samples
   if (o.samples < 1) throw new UsageError('--samples must be at least 1');
   const view = opened.view(o.pitch);
   const bar = progressBar('baseline');
-  const b = humanBaseline(view, matcherOf(opened, view, o), o, bar.tick);
+  const b = humanBaseline(view, matcherOf(opened, o), o, bar.tick);
   bar.stop();
   return b;
 }

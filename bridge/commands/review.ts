@@ -17,7 +17,7 @@ import type { Command } from 'commander';
 import { z } from 'zod';
 import { GRAINS_PER_BEAT, PITCH_MODES, type PitchMode } from '../../core/note.js';
 import { notesLength } from '../../core/corpus.js';
-import { EXACT_MODE, modeMatcher } from '../../core/match-mode.js';
+import { EXACT_MODE } from '../../core/pipeline.js';
 import { CAUTION, originalityReport } from '../../core/report.js';
 import { DEFAULT_WORST, type MarkedNote, snapOnsets, worstPairs } from '../../core/review.js';
 import { spellNotes } from '../../core/spelling.js';
@@ -28,7 +28,7 @@ import { describeWindow } from '../html/charts.js';
 import { type ReviewSettings, type SessionReview, clock, reviewHtml } from '../html/review-page.js';
 import { midiBytes, tracksByChannel } from '../midi-write.js';
 import { type OpenedCorpus, openCorpus } from '../open-corpus.js';
-import { printJson } from '../options.js';
+import { minNotesOption, printJson } from '../options.js';
 import { writeOutputFile } from '../output-file.js';
 import { defaultLogFile } from '../paths.js';
 import { beat, pct } from '../report-text.js';
@@ -106,7 +106,7 @@ const settingsSchema = z.object({
 });
 
 /** The session's settings as the daemon stored them; ones it did not store take the batch report's defaults. */
-function sessionSettings(file: string, summary: SessionSummary): ReviewSettings {
+function sessionSettings(file: string, summary: SessionSummary, minNotes: number): ReviewSettings {
   const parsed = settingsSchema.safeParse(summary.settings);
   if (!parsed.success) {
     const issue = parsed.error.issues[0];
@@ -121,6 +121,7 @@ function sessionSettings(file: string, summary: SessionSummary): ReviewSettings 
     threshold: s.threshold ?? null,
     bpm: s.bpm ?? DEFAULT_BPM,
     grid: s.grid ?? 0,
+    minNotes,
   };
 }
 
@@ -140,13 +141,15 @@ function durationSeconds(s: LoggedSession): number | null {
   return Number.isFinite(start) && Number.isFinite(end) ? Math.max(0, (end - start) / 1000) : null;
 }
 
-function buildReview(s: LoggedSession, settings: ReviewSettings, opened: OpenedCorpus, worst: number): SessionReview {
+function buildReview(s: LoggedSession, settings: ReviewSettings, opened: OpenedCorpus, options: { worst: number; exact: boolean }): SessionReview {
   const view = opened.view(settings.pitch);
   // The log keeps notes as played, in MIDI numbers: snap them as the live scorer did, and for
   // morphetic scoring spell them in the key they suggest.
   const snapped = snapOnsets(s.notes, settings.grid);
   const notes = settings.pitch === 'morphetic' ? spellNotes(snapped) : snapped;
-  const report = originalityReport([{ file: `session ${s.summary.id}`, notes }], view, modeMatcher(view, settings.window, settings.mode, opened.matcher(view, settings.window), opened.storedIndex(view.mode)), { ...settings, seed: 1 });
+  // The mode the session was heard with, through the corpus's one entry point (its index unless --exact).
+  const matcher = opened.matcher({ pitch: settings.pitch, window: settings.window, mode: settings.mode, exact: options.exact });
+  const report = originalityReport([{ file: `session ${s.summary.id}`, notes }], view, matcher, { ...settings, seed: 1 });
   const q = report.queries[0];
   const start = Date.parse(s.summary.start);
   const { id, end, corpus: corpusPath, preset } = s.summary;
@@ -163,7 +166,7 @@ function buildReview(s: LoggedSession, settings: ReviewSettings, opened: OpenedC
     originality: q.originality,
     warnings: s.warnings.map((w) => ({ ...w, elapsed: Number.isFinite(start) ? (w.raisedAt - start) / 1000 : null })),
     windows: q.windows,
-    worst: worstPairs([{ notes, windows: q.windows }], view, worst, settings.mode.tolerance),
+    worst: worstPairs([{ notes, windows: q.windows }], view, options.worst, settings.mode.tolerance),
     caution: CAUTION,
   };
 }
@@ -215,6 +218,8 @@ interface ReviewFlags {
   pairs?: string;
   baseline?: BaselineFile;
   worst: number;
+  exact?: boolean;
+  minNotes: number;
   json?: boolean;
 }
 
@@ -247,13 +252,15 @@ export function registerReview(cli: Command): void {
     .option('--pairs <dir>', 'write each worst window and its corpus excerpt as pair-N-session.mid and pair-N-corpus.mid')
     .option('--baseline <file>', 'human baseline JSON (from "earwitness baseline --json") to draw beside the scores', readBaselineFile)
     .option('--worst <n>', 'how many worst windows to show and pair', wholeNumber('--worst'), DEFAULT_WORST)
+    .option('--exact', 'match by brute force even where the corpus has an index (slow: the reference the index is checked against)')
+    .addOption(minNotesOption())
     .option('--json', 'print the review as JSON')
     .action((id: string, o: ReviewFlags) => {
       const file = o.log ?? defaultLogFile();
       const s = readSession(file, sessionId(id));
-      const settings = sessionSettings(file, s.summary);
+      const settings = sessionSettings(file, s.summary, o.minNotes);
       if (o.baseline) checkBaselineFits(o.baseline, settings);
-      const review = buildReview(s, settings, openSessionCorpus(s.summary, o.corpus, settings.pitch), o.worst);
+      const review = buildReview(s, settings, openSessionCorpus(s.summary, o.corpus, settings.pitch), { worst: o.worst, exact: o.exact ?? false });
       const protect = [file];
       const written: string[] = [];
       if (o.html) {

@@ -169,7 +169,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
   let scorer: Scorer;
   let corpus: CorpusSummary;
   try {
-    ({ scorer, corpus } = await startScorer({ corpus: options.corpus, windowBeats: preset.window, grid: preset.grid, tolerance: preset.tolerance }, onVerdict, {
+    ({ scorer, corpus } = await startScorer({ corpus: options.corpus, windowBeats: preset.window, grid: preset.grid, tolerance: preset.tolerance, tempoFree: preset.tempoFree }, onVerdict, {
       workerUrl: options.workerUrl,
       onCrash: (message) => notice(`earwitness: the scoring worker failed (${message}); started a fresh one, the window starts empty`),
     }));
@@ -285,7 +285,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
       type: 'hello',
       version: packageVersion(),
       corpus,
-      preset: { name: preset.name, window: preset.window, threshold: preset.threshold, minNotes: preset.minNotes, consecutive: preset.consecutive, warn: preset.warn, pitch: 'chromatic', tolerance: preset.tolerance, minDistinctiveness: preset.minDistinctiveness },
+      preset: { name: preset.name, window: preset.window, threshold: preset.threshold, minNotes: preset.minNotes, consecutive: preset.consecutive, warn: preset.warn, pitch: 'chromatic', tolerance: preset.tolerance, tempoFree: preset.tempoFree, minDistinctiveness: preset.minDistinctiveness },
       midi,
       osc: { port: osc?.port ?? 0 },
       history: recent,

@@ -23,6 +23,8 @@
 import { type Note, GRAINS_PER_BEAT, toGrains, toPoints } from '../../core/note.js';
 import { type Corpus, corpusPoints, pieceName } from '../../core/corpus.js';
 import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
+import { buildFingerprints } from '../../core/fingerprint.js';
+import type { MatchCorpus } from '../../core/pipeline.js';
 import { LiveMatcher } from '../../core/live-match.js';
 import { LiveWindow } from '../../core/live-window.js';
 import { excerptPair, snapOnsets } from '../../core/review.js';
@@ -73,6 +75,8 @@ export interface LiveScorerOptions {
   grid: number;
   /** Beats a played onset may stray from the corpus's and still match (core/tolerance.ts); absent = 0, exact. */
   tolerance?: number;
+  /** Also find passages played at 0.5–2 times the corpus tempo (core/fingerprint.ts); absent = false. */
+  tempoFree?: boolean;
 }
 
 /** Most notes in the live window: a bound on one evaluation's work whatever a sender floods in. */
@@ -80,12 +84,19 @@ export const MAX_WINDOW_NOTES = 1024;
 /** Most corpus notes sent with a verdict for the piano roll. */
 export const MAX_EXCERPT_NOTES = 512;
 
+/** What live matching reads of a corpus in memory: its chromatic points, triple index and fingerprint table. */
+export function liveCorpus(corpus: Corpus): MatchCorpus & { index: CorpusIndex } {
+  const flat = flattenPoints(corpusPoints(corpus, 'chromatic'));
+  const table = buildFingerprints(flat);
+  return { flat, index: corpusIndex(buildTriples(flat)), fingerprints: () => table };
+}
+
 /**
- * The live scorer over a corpus and its chromatic index (built here when not
- * given: `openCorpus(...).index('chromatic')` is the daemon's).
+ * The live scorer over a corpus and what matching reads of it (built here
+ * when not given: `openCorpus(...).matchCorpus('chromatic')` is the daemon's).
  */
-export function liveScorer(corpus: Corpus, options: LiveScorerOptions, index: CorpusIndex = corpusIndex(buildTriples(flattenPoints(corpusPoints(corpus, 'chromatic'))))): LiveScorer {
-  const live = new LiveMatcher(index, { windowBeats: options.windowBeats, tolerance: options.tolerance ?? 0 });
+export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching: MatchCorpus & { index: CorpusIndex } = liveCorpus(corpus)): LiveScorer {
+  const live = new LiveMatcher(matching, { windowBeats: options.windowBeats, mode: { tolerance: options.tolerance ?? 0, tempoFree: options.tempoFree ?? false } });
   const window = new LiveWindow<Note & { seq: number }>({ beats: options.windowBeats, maxNotes: MAX_WINDOW_NOTES });
   let lastSeq = 0;
   return {
@@ -108,7 +119,7 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, index: Co
       const startGrains = window.startGrains;
       const windowStart = startGrains / GRAINS_PER_BEAT;
       const windowEnd = windowStart + options.windowBeats;
-      const m = live.best(points, startGrains);
+      const m = live.best({ points, startGrains });
       const base = { seq: lastSeq, windowNotes: points.length, windowStart, windowEnd, dropped: window.dropped, restarts: window.restarts };
       if (!m || m.matched === 0) return { ...base, score: 0, match: null, timeShift: null, excerpt: null };
       const piece = corpus.pieces[m.piece];
@@ -123,7 +134,7 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, index: Co
         distinctiveness: m.distinctiveness!,
       };
       const summary = { ...match, score: m.score };
-      const { corpus: excerpt } = excerptPair(notes, { start: windowStart, end: windowEnd, notes: points.length, score: m.score, match: summary }, piece, 'chromatic', options.tolerance ?? 0);
+      const { corpus: excerpt } = excerptPair(notes, { start: windowStart, end: windowEnd, notes: points.length, score: m.score, tooShort: false, match: summary }, piece, 'chromatic', options.tolerance ?? 0);
       return {
         ...base,
         score: m.score,

@@ -21,6 +21,8 @@ export interface WorkerSetup {
   grid: number;
   /** Beats of played timing a match allows (0 = exact). */
   tolerance: number;
+  /** Also match passages played at another tempo. */
+  tempoFree: boolean;
 }
 
 export interface CorpusSummary {

@@ -25,7 +25,9 @@ try {
   // Everything read now: the index file may be rebuilt or deleted while the daemon listens.
   const opened = openCorpus(setup.corpus, { deferNotes: false });
   const { source, corpus } = opened;
-  scorer = liveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance }, opened.index('chromatic'));
+  const matching = opened.matchCorpus('chromatic');
+  if (setup.tempoFree) matching.fingerprints?.();
+  scorer = liveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance, tempoFree: setup.tempoFree }, matching);
   post({ type: 'ready', corpus: { source, pieces: corpus.pieces.length, notes: corpus.pieces.reduce((s, p) => s + p.notes.length, 0) } });
 } catch (e) {
   post({ type: 'failed', message: (e as Error).message });

@@ -8,7 +8,7 @@
  * @example
  *   page({ title: 'session 4', heading: 'Session 4', lede: 'played …', figures: [{ label: 'notes', value: '412' }], sections: [section('Warnings', table)] })
  */
-import type { MatchMode } from '../../core/match-mode.js';
+import type { MatchMode } from '../../core/pipeline.js';
 import type { PitchMode } from '../../core/note.js';
 import { CAUTION } from '../../core/report.js';
 import type { WindowShape } from '../../core/windows.js';

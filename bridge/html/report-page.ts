@@ -10,7 +10,7 @@
  */
 import type { Note } from '../../core/note.js';
 import type { CorpusPoints } from '../../core/corpus.js';
-import type { MatchMode } from '../../core/match-mode.js';
+import type { MatchMode } from '../../core/pipeline.js';
 import { notesLength } from '../../core/corpus.js';
 import type { OriginalityReport } from '../../core/report.js';
 import { DEFAULT_WORST, folderSeries, worstPairs } from '../../core/review.js';

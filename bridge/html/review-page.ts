@@ -8,7 +8,7 @@
  *   writeFileSync('review.html', reviewHtml(review, baseline));
  */
 import type { PitchMode } from '../../core/note.js';
-import type { MatchMode } from '../../core/match-mode.js';
+import type { MatchMode } from '../../core/pipeline.js';
 import type { Baseline, WindowResult } from '../../core/report.js';
 import type { ExcerptPair } from '../../core/review.js';
 import type { LoggedNote, LoggedWarning } from '../session-log.js';
@@ -28,6 +28,8 @@ export interface ReviewSettings {
   bpm: number;
   /** Divisions per beat the live scorer snapped onsets to (0 = as played); the review snaps the same. */
   grid: number;
+  /** Windows with fewer notes are too short to judge. */
+  minNotes: number;
 }
 
 export interface SessionReview {

@@ -1,0 +1,153 @@
+/**
+ * The verifier of the matching pipeline (core/pipeline.ts): it scores a
+ * candidate translation on the corpus's own points, exactly or within a
+ * tolerance, so that whatever proposed the candidate, a score is the score
+ * of a real translation. It also runs the reference search, every
+ * translation of a piece, that every faster candidate source is measured
+ * against.
+ *
+ * Exact: a candidate (piece, shift, dp) scores the points of the window that
+ * land on corpus points. Within a tolerance (core/tolerance.ts): the search
+ * looks at shifts within `within` grains of the candidate's and matches one
+ * to one, each corpus point with a window point of the same pitch within ±
+ * tolerance of it; it reads only the corpus points the excerpt can reach.
+ *
+ * @example
+ *   const v = verifier(flatPoints, 0.1);
+ *   v.near({ points: window, startGrains: 0, spanGrains: toGrains(16) }, { piece: 3, shift: -7680, dp: 5, within: 480 })
+ *   // → { piece: 3, pieceStart: 2, transposition: 5, matched: 22, excerptNotes: 24, score: 0.917 }
+ */
+import { type Point, GRAINS_PER_BEAT, toGrains } from './note.js';
+import { keyTranslation, translationKey } from './cardinality.js';
+import { type WindowMatch, betterMatch } from './match.js';
+import { type FlatPoints, lowerBoundAt } from './triple-index.js';
+import { type PitchLines, bestInPiece, checkTolerance, pitchLines } from './tolerance.js';
+
+/** The points a verifier scores: a window, or a window rescaled to the corpus's tempo. */
+export interface Span {
+  /** Sorted points. */
+  points: readonly Point[];
+  startGrains: number;
+  /** Length in grains of the corpus excerpt the span covers (the window's, over the time scale). */
+  spanGrains: number;
+}
+
+/** A translation to verify: `shift` grains and `dp` steps from the corpus piece to the window. */
+export interface Candidate {
+  piece: number;
+  shift: number;
+  dp: number;
+  /** Within a tolerance: how far from `shift`, in grains, the search may look. Exact verification ignores it. */
+  within: number;
+}
+
+export interface Verifier {
+  /** Beats an onset may stray; 0 = exact. */
+  readonly toleranceBeats: number;
+  /** The best match at the candidate's translation (within a tolerance: near it). */
+  near(span: Span, c: Candidate): WindowMatch | null;
+  /** The best match over every translation of `piece` that can beat `best` (else `best`): the reference search. */
+  every(span: Span, piece: number, best: WindowMatch | null): WindowMatch | null;
+}
+
+/** The exact score of one translation of a piece, reading its points from the flat arrays. */
+export function verifyShift(flat: FlatPoints, span: Span, piece: number, shift: number, dp: number): WindowMatch {
+  const { at, pitch, offsets } = flat;
+  const from = span.startGrains - shift;
+  const lo = lowerBoundAt(at, from, offsets[piece], offsets[piece + 1]);
+  const hi = lowerBoundAt(at, from + span.spanGrains, lo, offsets[piece + 1]);
+  let matched = 0;
+  let c = lo;
+  for (const w of span.points) {
+    const t = w.at - shift;
+    const p = w.pitch - dp;
+    while (c < hi && (at[c] < t || (at[c] === t && pitch[c] < p))) c++;
+    if (c === hi) break;
+    if (at[c] === t && pitch[c] === p) matched++;
+  }
+  const excerptNotes = hi - lo;
+  return { piece, pieceStart: from / GRAINS_PER_BEAT, transposition: dp, matched, excerptNotes, score: matched / Math.max(span.points.length, excerptNotes) };
+}
+
+/** For every translation t of the piece's points onto the span's, |(piece + t) ∩ span|. */
+function pieceCounts(flat: FlatPoints, piece: number, span: Span): Map<number, number> {
+  const { at, pitch, offsets } = flat;
+  const counts = new Map<number, number>();
+  const lo = offsets[piece];
+  const hi = offsets[piece + 1];
+  for (const q of span.points) {
+    for (let c = lo; c < hi; c++) {
+      const k = translationKey(q.at - at[c], q.pitch - pitch[c]);
+      counts.set(k, (counts.get(k) ?? 0) + 1);
+    }
+  }
+  return counts;
+}
+
+/**
+ * Every translation of a piece, best count first: a translation's score is
+ * at most count / |window|, so the scan stops once that falls below the best.
+ */
+function exactEvery(flat: FlatPoints, span: Span, piece: number, incumbent: WindowMatch | null): WindowMatch | null {
+  const n = span.points.length;
+  const counts = pieceCounts(flat, piece, span);
+  let most = 0;
+  for (const c of counts.values()) if (c > most) most = c;
+  if (incumbent && most / n < incumbent.score) return incumbent;
+  const { at, offsets } = flat;
+  let best = incumbent;
+  for (const [key, matched] of [...counts].sort((x, y) => y[1] - x[1])) {
+    if (best && matched / n < best.score) break;
+    const t = keyTranslation(key);
+    const from = span.startGrains - t.at;
+    const lo = lowerBoundAt(at, from, offsets[piece], offsets[piece + 1]);
+    const excerptNotes = lowerBoundAt(at, from + span.spanGrains, lo, offsets[piece + 1]) - lo;
+    const m: WindowMatch = { piece, pieceStart: from / GRAINS_PER_BEAT, transposition: t.pitch, matched, excerptNotes, score: matched / Math.max(n, excerptNotes) };
+    if (betterMatch(m, best)) best = m;
+  }
+  return best;
+}
+
+/** Points of one piece as objects, with their pitch lines. */
+export interface PieceExcerpt {
+  points: Point[];
+  lines: PitchLines;
+}
+
+/** The piece's points with ontime in [from, to) grains, with their pitch lines. */
+export function excerptOf(flat: FlatPoints, piece: number, from: number, to: number): PieceExcerpt {
+  const { at, pitch, offsets } = flat;
+  const lo = lowerBoundAt(at, from, offsets[piece], offsets[piece + 1]);
+  const hi = lowerBoundAt(at, to, lo, offsets[piece + 1]);
+  const points: Point[] = [];
+  for (let i = lo; i < hi; i++) points.push({ at: at[i], pitch: pitch[i] });
+  return { points, lines: pitchLines(points) };
+}
+
+/** The verifier for a corpus's flat points, exact (`toleranceBeats` 0) or within a tolerance. */
+export function verifier(flat: FlatPoints, toleranceBeats: number): Verifier {
+  checkTolerance(toleranceBeats);
+  const tolGrains = toGrains(toleranceBeats);
+  if (tolGrains === 0) {
+    return {
+      toleranceBeats,
+      near: (span, c) => verifyShift(flat, span, c.piece, c.shift, c.dp),
+      every: (span, piece, best) => exactEvery(flat, span, piece, best),
+    };
+  }
+  // Whole pieces' points and lines for the reference search, made the first time it looks in a piece.
+  const pieces = new Map<number, PieceExcerpt>();
+  const whole = (piece: number): PieceExcerpt => pieces.get(piece) ?? pieces.set(piece, excerptOf(flat, piece, -Infinity, Infinity)).get(piece)!;
+  return {
+    toleranceBeats,
+    near(span, c) {
+      // A refined shift lies up to two tolerances past the searched ones, and matches a tolerance further.
+      const margin = c.within + 3 * tolGrains;
+      const from = span.startGrains - c.shift;
+      const around = excerptOf(flat, c.piece, from - margin, from + span.spanGrains + margin);
+      const near = { translation: { at: c.shift, pitch: c.dp }, within: c.within };
+      return bestInPiece({ piece: c.piece, ...around, window: span.points, startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains, near }, null);
+    },
+    every: (span, piece, best) => bestInPiece({ piece, ...whole(piece), window: span.points, startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains }, best),
+  };
+}
