@@ -24,7 +24,7 @@
 import { toGrains } from './note.js';
 import { type MatchWindow, type WindowMatch, type WindowMatcher, better } from './match.js';
 import type { CorpusIndex, FlatPoints } from './triple-index.js';
-import { type CandidateSource, indexCandidates } from './index-match.js';
+import { type CandidateSource, type FilterSettings, indexCandidates } from './index-match.js';
 import { type FingerprintTable, DEFAULT_FINGERPRINT, fingerprintCandidates } from './fingerprint.js';
 import { type Verifier, verifier } from './verify.js';
 import { type PieceCount, matchDistinctiveness } from './distinctiveness.js';
@@ -67,6 +67,8 @@ export interface MatcherOptions {
   candidates: CandidateKind;
   /** Count each match's distinctiveness (default true). */
   distinctiveness?: boolean;
+  /** How the index candidates filter (default DEFAULT_FILTER). */
+  filter?: FilterSettings;
 }
 
 /** The tolerance tempo-free candidates are verified with: a time scale estimated from notes is never exact. */
@@ -133,7 +135,7 @@ export const pieceCountOf = (corpus: MatchCorpus, mode: MatchMode, throughIndex:
 export function windowMatcher(corpus: MatchCorpus, options: MatcherOptions): WindowMatcher {
   const { windowBeats, mode } = options;
   if (options.candidates === 'index' && !corpus.index) throw new RangeError('index candidates need the corpus index');
-  const plain = options.candidates === 'index' ? indexCandidates(corpus.index!) : everyCandidates(corpus.flat);
+  const plain = options.candidates === 'index' ? indexCandidates(corpus.index!, options.filter) : everyCandidates(corpus.flat);
   const stages = stagesOf(corpus, plain, mode);
   const spanGrains = toGrains(windowBeats);
   const count = options.distinctiveness === false ? undefined : pieceCountOf(corpus, mode, options.candidates === 'index');

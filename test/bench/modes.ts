@@ -55,7 +55,7 @@ export function modeCosts(view: CorpusPoints, probes: readonly Probe[], windowBe
     const t0 = performance.now();
     const matcher = match ? modeMatcher(view, windowBeats, match, exact, index) : exact;
     const t1 = performance.now();
-    for (const p of probes) matcher.best(p.points, p.start);
+    for (const p of probes) matcher.best({ points: p.points, startGrains: p.start });
     const t2 = performance.now();
     return { mode, setupMs: t1 - t0, windows: probes.length, msPerWindow: (t2 - t1) / probes.length };
   });

@@ -191,17 +191,17 @@ function benchCorpus(name: string, make: () => Point[][], options: { perKind: nu
     const matcher = indexMatcher(index, W);
     const timed = (m: WindowMatcher, p: Probe): { ms: number; score: number } => {
       const t = performance.now();
-      const r = m.best(p.points, p.start);
+      const r = m.best({ points: p.points, startGrains: p.start });
       return { ms: ms(t), score: r?.score ?? 0 };
     };
-    for (const p of probes.slice(0, 20)) matcher.best(p.points, p.start); // warm up the JIT
+    for (const p of probes.slice(0, 20)) matcher.best({ points: p.points, startGrains: p.start }); // warm up the JIT
     const indexed = probes.map((p) => timed(matcher, p));
     // Throughput: whole passes over the windows until a second has gone by.
     let passes = 0;
     t0 = performance.now();
     const cpu0 = cpuMs();
     while (ms(t0) < 1000 || passes === 0) {
-      for (const p of probes) matcher.best(p.points, p.start);
+      for (const p of probes) matcher.best({ points: p.points, startGrains: p.start });
       passes++;
     }
     const batchWindowsPerSecond = (passes * probes.length) / (ms(t0) / 1000);

@@ -55,7 +55,7 @@ interface Probe {
 const probesOf = (points: readonly Point[], shape: WindowShape): Probe[] => windows(points, shape).map((w) => ({ points: w.points, start: toGrains(w.start) }));
 
 function measure(matcher: WindowMatcher, probes: readonly Probe[]): Measured {
-  const results = probes.map((p) => matcher.best(p.points, p.start));
+  const results = probes.map((p) => matcher.best({ points: p.points, startGrains: p.start }));
   return { scores: results.map((m) => m?.score ?? 0), distinctiveness: results.map((m) => m?.distinctiveness ?? 0) };
 }
 
@@ -102,7 +102,7 @@ export function calibrate(shape: WindowShape, options: CalibrationOptions): Cali
     ...(options.live ?? []).map((tolerance) => ({
       mode: `live (streaming index), ${tolerance === 0 ? 'exact' : `tolerance ${tolerance}`}`,
       // A fresh live matcher builds its votes from the window it is given: what the stream holds after playing it.
-      matcher: (): WindowMatcher => ({ windowBeats: shape.window, best: (w, start) => new LiveMatcher(index!, { windowBeats: shape.window, tolerance }).best(w, start) }),
+      matcher: (): WindowMatcher => ({ windowBeats: shape.window, best: (w, start) => new LiveMatcher(index!, { windowBeats: shape.window, tolerance }).best({ points: w, startGrains: start }) }),
     })),
   ];
   return {

@@ -1,9 +1,10 @@
 /**
  * Distinctiveness: stock figures that many corpus pieces share score low; a
- * copied chorale phrase scores high. Each is counted both ways — by brute
- * force over the corpus, and through the corpus index — and the two must
- * agree here; on held-out chorale windows the index may only find fewer
- * places, never more. Stock figures are our own invented data
+ * copied chorale phrase scores high; a piece's own repeats are one source,
+ * versions of a tune in other pieces are more. Each is counted both ways — by
+ * brute force over the corpus, and through the corpus index — and the two
+ * must agree here; on held-out chorale windows the index may only find fewer
+ * pieces, never more. Stock figures are our own invented data
  * (a scale run and a cadence formula planted in seeded random walks); the
  * phrases are JSB chorales (source: test/fixtures/jsb/README.md; train 0–39 as the corpus).
  */
@@ -11,9 +12,9 @@ import { describe, expect, test } from 'vitest';
 import type { Note, PitchMode } from '../../core/note.js';
 import { toPoints } from '../../core/note.js';
 import { type Corpus, corpusPoints } from '../../core/corpus.js';
-import { exactMatcher } from '../../core/match.js';
-import { MIN_FIGURE_NOTES, indexedPlacesHolding, lazyPitchLines, matchedMaterial, placesHolding, withDistinctiveness } from '../../core/distinctiveness.js';
-import { buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
+import { type PieceCount, MIN_FIGURE_NOTES, indexedPiecesHolding, matchedMaterial, piecesHolding, withDistinctiveness } from '../../core/distinctiveness.js';
+import type { CorpusPoints } from '../../core/corpus.js';
+import { exactMatcher, matchCorpusOf } from '../helpers/matchers.js';
 import { windows } from '../../core/windows.js';
 import { toGrains } from '../../core/note.js';
 import { chorales, passage, randomWalk } from './material.js';
@@ -41,11 +42,16 @@ const stockCorpus = (): Corpus => ({
 /** The best match with its distinctiveness, counted by brute force and through the index, which must agree. */
 const distinctivenessOf = (c: Corpus, query: Note[], window: number, mode: PitchMode = 'chromatic') => {
   const view = corpusPoints(c, mode);
-  const brute = withDistinctiveness(exactMatcher(view, window), view, 0).best(toPoints(query, mode), 0)!;
-  const indexed = withDistinctiveness(exactMatcher(view, window), view, 0, corpusIndex(buildTriples(flattenPoints(view)))).best(toPoints(query, mode), 0)!;
+  const [brute, indexed] = bothWays(view).map((count) => withDistinctiveness(exactMatcher(view, window), count).best({ points: toPoints(query, mode), startGrains: 0 })!);
   expect(indexed).toEqual(brute);
   return brute;
 };
+
+/** Counting pieces by brute force, and through the index. */
+function bothWays(view: CorpusPoints): PieceCount[] {
+  const { flat, index } = matchCorpusOf(view);
+  return [{ flat, tolerance: 0 }, { flat, index, tolerance: 0 }];
+}
 
 describe('stock figures', () => {
   const corpus = stockCorpus();
@@ -67,7 +73,7 @@ describe('stock figures', () => {
     expect(m.distinctiveness).toBeLessThanOrEqual(1 / 16);
   });
 
-  test('a run overlapping itself a step later is one place, not two (morphetic pitch)', () => {
+  test('a run overlapping itself a step later is one source, not two (morphetic pitch)', () => {
     // In diatonic steps the run shifted by one note and one step keeps 7 of its 8 notes.
     const one: Corpus = { pieces: [pieceOf('run.mid', scaleRun(0, 60))] };
     expect(distinctivenessOf(one, pieceOf('q.mid', scaleRun(0, 60)).notes, 4, 'morphetic').distinctiveness).toBe(1);
@@ -77,11 +83,11 @@ describe('stock figures', () => {
 describe('copied chorale phrases', () => {
   const { corpus } = chorales();
 
-  test('a copied phrase is found in its own place only: distinctiveness 1 for 9 of 10 chorales, never below 0.5', () => {
+  test('a copied phrase is found in its own piece only: distinctiveness 1 for 9 of 10 chorales, never below 0.5', () => {
     const view = corpusPoints(corpus, 'chromatic');
-    const matcher = withDistinctiveness(exactMatcher(view, 16), view, 0);
+    const matcher = withDistinctiveness(exactMatcher(view, 16), bothWays(view)[0]);
     const found = [2, 6, 10, 14, 18, 22, 26, 30, 34, 38].map((piece) => {
-      const m = matcher.best(toPoints(passage(corpus.pieces[piece].notes, 16, 32)), 0)!;
+      const m = matcher.best({ points: toPoints(passage(corpus.pieces[piece].notes, 16, 32)), startGrains: 0 })!;
       expect(m).toMatchObject({ piece, score: 1 });
       return m.distinctiveness!;
     });
@@ -97,11 +103,20 @@ describe('copied chorale phrases', () => {
     expect(distinctivenessOf(twice, phrase, 16).distinctiveness).toBe(0.5);
   });
 
+  test("a piece's own repeats are one source; three versions of a tune are three", () => {
+    // Each version plays the phrase twice, 16 beats apart, as a tune plays its first strain twice.
+    const repeated = (n: Note[]): Note[] => [...n, ...n.map((x) => ({ ...x, onset: x.onset + 16 }))];
+    const version = (path: string): ReturnType<typeof pieceOf> => pieceOf(path, repeated(phrase.map((x) => ({ ...x }))));
+    const one: Corpus = { pieces: [...corpus.pieces.slice(0, 7), version('tune.mid')] };
+    expect(distinctivenessOf(one, phrase, 16).distinctiveness).toBe(1 / 2); // the tune and chorale 6 it came from
+    const three: Corpus = { pieces: [...corpus.pieces.slice(0, 7), version('tune.mid'), version('tune-b.mid'), version('tune-c.mid')] };
+    expect(distinctivenessOf(three, phrase, 16).distinctiveness).toBe(1 / 4);
+  });
+
   test('the piece left out of the search is left out of the count', () => {
     const view = corpusPoints(twice, 'chromatic');
-    const index = corpusIndex(buildTriples(flattenPoints(view)));
-    for (const m of [withDistinctiveness(exactMatcher(view, 16), view, 0), withDistinctiveness(exactMatcher(view, 16), view, 0, index)]) {
-      expect(m.best(toPoints(phrase), 0, { exclude: 10 })).toMatchObject({ piece: 6, distinctiveness: 1 });
+    for (const m of bothWays(view).map((count) => withDistinctiveness(exactMatcher(view, 16), count))) {
+      expect(m.best({ points: toPoints(phrase), startGrains: 0, exclude: 10 })).toMatchObject({ piece: 6, distinctiveness: 1 });
     }
   });
 });
@@ -109,22 +124,21 @@ describe('copied chorale phrases', () => {
 describe('counting through the index', () => {
   const { corpus, heldOut } = chorales();
   const view = corpusPoints(corpus, 'chromatic');
-  const index = corpusIndex(buildTriples(flattenPoints(view)));
+  const { flat, index } = matchCorpusOf(view);
   const exact = exactMatcher(view, 16);
-  const lines = lazyPitchLines((piece) => view.points[piece]);
 
-  test('on every window of 20 held-out chorales: never more places than the brute force, the same in at least 90%', () => {
+  test('on every window of 20 held-out chorales: never more pieces than the brute force, the same in at least 90%', () => {
     let same = 0;
     let counted = 0;
     for (const piece of heldOut) {
       for (const w of windows(toPoints(piece.notes), { window: 16, hop: 8 })) {
         const start = toGrains(w.start);
-        const m = exact.best(w.points, start);
+        const m = exact.best({ points: w.points, startGrains: start });
         if (!m) continue;
-        const material = matchedMaterial(lines(m.piece), w.points, start, m, 0);
+        const material = matchedMaterial(flat, { points: w.points, startGrains: start }, toGrains(16), m, 0);
         if (material.length < MIN_FIGURE_NOTES) continue;
-        const indexed = indexedPlacesHolding(index, m.piece, material);
-        const brute = placesHolding(material, view);
+        const indexed = indexedPiecesHolding(index, m.piece, material);
+        const brute = piecesHolding(material, flat);
         expect(indexed).toBeGreaterThanOrEqual(1);
         expect(indexed).toBeLessThanOrEqual(brute);
         counted++;
@@ -138,8 +152,8 @@ describe('counting through the index', () => {
   test('material of fewer than three notes is no figure: distinctiveness 0 both ways', () => {
     const view2 = corpusPoints({ pieces: corpus.pieces.slice(0, 4) }, 'chromatic');
     const pair = view2.points[1].slice(0, 2);
-    for (const m of [withDistinctiveness(exactMatcher(view2, 4), view2, 0), withDistinctiveness(exactMatcher(view2, 4), view2, 0, corpusIndex(buildTriples(flattenPoints(view2))))]) {
-      expect(m.best(pair, pair[0].at)).toMatchObject({ matched: 2, distinctiveness: 0 });
+    for (const m of bothWays(view2).map((count) => withDistinctiveness(exactMatcher(view2, 4), count))) {
+      expect(m.best({ points: pair, startGrains: pair[0].at })).toMatchObject({ matched: 2, distinctiveness: 0 });
     }
   });
 });

@@ -7,10 +7,14 @@ import { describe, expect, test } from 'vitest';
 import fc from 'fast-check';
 import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains, toPoints } from '../../core/note.js';
 import { corpusPoints } from '../../core/corpus.js';
-import { exactMatcher } from '../../core/match.js';
-import { pitchLines, toleranceMatcher, toleranceMatching } from '../../core/tolerance.js';
-import { modeMatcher } from '../../core/match-mode.js';
+import { pitchLines, toleranceMatching } from '../../core/tolerance.js';
+import { verifier } from '../../core/verify.js';
+import { flattenPoints } from '../../core/triple-index.js';
 import { originalityReport } from '../../core/report.js';
+import { exactMatcher, indexedMatcher } from '../helpers/matchers.js';
+
+/** The reference within a tolerance: every translation verified. */
+const toleranceMatcher = (view: Parameters<typeof exactMatcher>[0], windowBeats: number, tolerance: number) => exactMatcher(view, windowBeats, { mode: { tolerance, tempoFree: false } });
 import { chorales, passage, played } from './material.js';
 import { pieceOf } from '../helpers/corpus.js';
 
@@ -68,8 +72,8 @@ describe('the tolerance matcher', () => {
         const asNotes = (ns: { step: number; pitch: number }[]) => ns.map((n) => ({ onset: n.step * 0.25, duration: 0.25, pitch: n.pitch, morph: n.pitch, velocity: 80, channel: 1 }));
         const view = corpusPoints({ pieces: pieces.map((p, i) => pieceOf(`p${i}.mid`, asNotes(p))) }, 'chromatic');
         const window = toPoints(asNotes(query));
-        const exact = exactMatcher(view, 16).best(window, 0);
-        const tolerant = toleranceMatcher(view, 16, 1 / GRAINS_PER_BEAT).best(window, 0);
+        const exact = exactMatcher(view, 16).best({ points: window, startGrains: 0 });
+        const tolerant = toleranceMatcher(view, 16, 1 / GRAINS_PER_BEAT).best({ points: window, startGrains: 0 });
         expect(tolerant?.score).toBe(exact?.score);
         expect(tolerant?.matched).toBe(exact?.matched);
       }),
@@ -78,8 +82,8 @@ describe('the tolerance matcher', () => {
   });
 
   test('refuses a tolerance outside [0, 1) beat, naming it', () => {
-    const view = corpusPoints({ pieces: [] }, 'chromatic');
-    for (const bad of [-0.1, 1, Number.NaN]) expect(() => toleranceMatcher(view, 16, bad)).toThrow(/tolerance must be at least 0 and under 1 beat/);
+    const flat = flattenPoints(corpusPoints({ pieces: [] }, 'chromatic'));
+    for (const bad of [-0.1, 1, Number.NaN]) expect(() => verifier(flat, bad)).toThrow(/tolerance must be at least 0 and under 1 beat/);
   });
 });
 
@@ -96,8 +100,8 @@ describe('JSB chorale copies played with human timing', () => {
 
   test('score ≥ 0.7 with a tolerance of 0.1 beat, and lower on the exact path', () => {
     const figures = copies.map(({ piece, window }) => {
-      const t = tolerant.best(window, 0)!;
-      const e = exact.best(window, 0)!;
+      const t = tolerant.best({ points: window, startGrains: 0 })!;
+      const e = exact.best({ points: window, startGrains: 0 })!;
       expect(t.piece).toBe(piece);
       expect(Math.abs(t.pieceStart - 7)).toBeLessThan(0.1);
       expect(t.score).toBeGreaterThanOrEqual(0.7);
@@ -112,7 +116,7 @@ describe('JSB chorale copies played with human timing', () => {
 
   test('a report in tolerance mode carries each window’s distinctiveness', () => {
     const take = played(passage(corpus.pieces[5].notes, 0, 32), { jitter: 0.06, drop: 0.1, seed: 9 });
-    const r = originalityReport([{ file: 'take.mid', notes: take }], view, modeMatcher(view, 16, { tolerance: 0.1, tempoFree: false }), { window: 16, hop: 8 });
+    const r = originalityReport([{ file: 'take.mid', notes: take }], view, indexedMatcher(view, 16, { mode: { tolerance: 0.1, tempoFree: false }, distinctiveness: true }), { window: 16, hop: 8 });
     const matched = r.queries[0].windows.filter((w) => w.match);
     expect(matched.length).toBeGreaterThan(0);
     for (const w of matched) {

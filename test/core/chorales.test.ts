@@ -11,7 +11,7 @@ import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { type CorpusPoints, corpusPoints } from '../../core/corpus.js';
-import { exactMatcher } from '../../core/match.js';
+import { exactMatcher } from '../helpers/matchers.js';
 import { type Baseline, CAUTION, humanBaseline, originalityReport } from '../../core/report.js';
 import { corpusOf, pieceOf } from '../helpers/corpus.js';
 import { moveNotes } from '../helpers/points.js';

@@ -12,7 +12,8 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { type Point, toGrains } from '../../core/note.js';
 import { corpusPoints } from '../../core/corpus.js';
-import { type WindowMatch, betterMatch, exactMatcher } from '../../core/match.js';
+import { type WindowMatch, betterMatch } from '../../core/match.js';
+import { exactMatcher } from '../helpers/matchers.js';
 import { windows } from '../../core/windows.js';
 import { corpusOf, pieceOf } from '../helpers/corpus.js';
 import { notesOf, pointSet, pts, shift } from '../helpers/points.js';
@@ -66,13 +67,13 @@ describe('exactMatcher: worked examples', () => {
     // Query: the tune's notes in [8, 24) moved to [16, 32) and up a fourth; the window [16, 32) holds all 32 of them.
     const query = shift(inSpan(view.points[1], toGrains(8), 16), 8, 5);
     expect(query).toHaveLength(32);
-    const m = exactMatcher(view, 16).best(query, toGrains(16));
+    const m = exactMatcher(view, 16).best({ points: query, startGrains: toGrains(16) });
     expect(m).toEqual({ piece: 1, pieceStart: 8, transposition: 5, matched: 32, excerptNotes: 32, score: 1 });
   });
 
   it('transposition is measured from the corpus to the query: 3 semitones lower is −3', () => {
     const query = shift(inSpan(view.points[1], toGrains(4), 8), -4, -3);
-    expect(exactMatcher(view, 8).best(query, 0)).toMatchObject({ piece: 1, pieceStart: 4, transposition: -3, score: 1 });
+    expect(exactMatcher(view, 8).best({ points: query, startGrains: 0 })).toMatchObject({ piece: 1, pieceStart: 4, transposition: -3, score: 1 });
   });
 
   it('the denominator is the larger of the window and the excerpt', () => {
@@ -81,22 +82,22 @@ describe('exactMatcher: worked examples', () => {
     const four: [number, number][] = [[0, 60], [1, 62], [2, 64], [3, 65]];
     const dense = corpusPoints(corpusOf([pieceOf('dense.mid', notesOf([...four, [0.5, 90], [1.5, 91], [2.5, 92], [3.5, 93]]))]), 'chromatic');
     const window = pts(...four.map(([b, p]): [number, number] => [b, p + 7]));
-    expect(exactMatcher(dense, 4).best(window, 0)).toEqual({ piece: 0, pieceStart: 0, transposition: 7, matched: 4, excerptNotes: 8, score: 0.5 });
+    expect(exactMatcher(dense, 4).best({ points: window, startGrains: 0 })).toEqual({ piece: 0, pieceStart: 0, transposition: 7, matched: 4, excerptNotes: 8, score: 0.5 });
     // And the other way: a window of those 8 notes against a corpus holding only the 4 → 4 / 8 again.
     const sparse = corpusPoints(corpusOf([pieceOf('sparse.mid', notesOf(four))]), 'chromatic');
-    expect(exactMatcher(sparse, 4).best(dense.points[0], 0)).toMatchObject({ matched: 4, excerptNotes: 4, score: 0.5, transposition: 0 });
+    expect(exactMatcher(sparse, 4).best({ points: dense.points[0], startGrains: 0 })).toMatchObject({ matched: 4, excerptNotes: 4, score: 0.5, transposition: 0 });
   });
 
   it('leaves out the excluded piece (the human baseline scores a piece against the rest)', () => {
     const window = inSpan(view.points[1], 0, 16);
-    expect(exactMatcher(view, 16).best(window, 0)).toMatchObject({ piece: 1, score: 1 });
-    const without = exactMatcher(view, 16).best(window, 0, { exclude: 1 })!;
+    expect(exactMatcher(view, 16).best({ points: window, startGrains: 0 })).toMatchObject({ piece: 1, score: 1 });
+    const without = exactMatcher(view, 16).best({ points: window, startGrains: 0, exclude: 1 })!;
     expect(without.piece).toBe(0);
     expect(without.score).toBeLessThan(1);
   });
 
   it('an empty window has no match', () => {
-    expect(exactMatcher(view, 16).best([], 0)).toBeNull();
+    expect(exactMatcher(view, 16).best({ points: [], startGrains: 0 })).toBeNull();
   });
 
   it('betterMatch orders by score, then matched notes, then earlier piece and excerpt, then smaller transposition', () => {
@@ -123,7 +124,7 @@ describe('exactMatcher: properties (fast-check)', () => {
         const matcher = exactMatcher(view, beats);
         for (const w of windows(query, { window: beats, hop: beats / 2 })) {
           const start = toGrains(w.start);
-          const m = matcher.best(w.points, start, { exclude });
+          const m = matcher.best({ points: w.points, startGrains: start, exclude });
           const ref = bruteForce(view.points, w.points, start, beats, exclude);
           if (!m) {
             expect(pieces.filter((_, i) => i !== exclude)).toHaveLength(0);
@@ -146,7 +147,7 @@ describe('exactMatcher: properties (fast-check)', () => {
         // The query window starts a whole number of hops (4 beats) from the excerpt, anywhere the window fits.
         const start = Math.max(0, from + 4 * hops);
         const window = shift(inSpan(view.points[piece], toGrains(from), 8), start - from, transposition);
-        expect(matcher.best(window, toGrains(start))).toEqual({ piece, pieceStart: from, transposition, matched: 16, excerptNotes: 16, score: 1 });
+        expect(matcher.best({ points: window, startGrains: toGrains(start) })).toEqual({ piece, pieceStart: from, transposition, matched: 16, excerptNotes: 16, score: 1 });
       }),
     );
   });

@@ -9,16 +9,18 @@
 import { describe, expect, it } from 'vitest';
 import { type Point, comparePoints, toGrains, toPoints } from '../../core/note.js';
 import { type CorpusPoints, corpusPoints } from '../../core/corpus.js';
-import { exactMatcher } from '../../core/match.js';
 import { seededRandom } from '../../core/stats.js';
 import { buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
-import { SCAN_POINTS } from '../../core/index-match.js';
-import { LiveMatcher, nearbyGroups } from '../../core/live-match.js';
-import { toleranceMatcher } from '../../core/tolerance.js';
+import { SCAN_POINTS, candidatesOf } from '../../core/index-match.js';
+import { LiveMatcher } from '../../core/live-match.js';
+import { exactMatcher, matchCorpusOf } from '../helpers/matchers.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';
 import { pieceOf } from '../helpers/corpus.js';
 import { chorales, passage, played } from '../beyond/material.js';
-import { W, exact, index, session } from './session.js';
+import { W, exact, session, view } from './session.js';
+
+const sessionCorpus = matchCorpusOf(view);
+const mode = (tolerance: number) => ({ tolerance, tempoFree: false });
 
 
 /** Plays `points` into a matcher one at a time, the window being the last W beats; calls `look` with each window. */
@@ -36,11 +38,11 @@ function play(live: LiveMatcher, points: readonly Point[], look: (window: Point[
 describe('exact (tolerance 0)', () => {
   it('after every note of a session: never above the brute force, equal to it wherever it is ≥ 0.5 on more than eight points', () => {
     let strong = 0;
-    play(new LiveMatcher(index, { windowBeats: W, tolerance: 0 }), session(), (window, start, n) => {
+    play(new LiveMatcher(sessionCorpus, { windowBeats: W, mode: mode(0) }), session(), (window, start, n) => {
       if (n % 5 !== 0) return; // the brute force is slow; every fifth note is plenty
-      const e = exact.best(window, start);
-      const m = new LiveMatcher(index, { windowBeats: W, tolerance: 0 });
-      const live = m.best(window, start); // a fresh matcher rebuilds its votes from the window
+      const e = exact.best({ points: window, startGrains: start });
+      const m = new LiveMatcher(sessionCorpus, { windowBeats: W, mode: mode(0) });
+      const live = m.best({ points: window, startGrains: start }); // a fresh matcher rebuilds its votes from the window
       expect(live?.score ?? 0).toBeLessThanOrEqual(e?.score ?? 0);
       if ((e?.score ?? 0) >= 0.5 && window.length > SCAN_POINTS) {
         strong++;
@@ -52,39 +54,39 @@ describe('exact (tolerance 0)', () => {
   });
 
   it('streamed votes and votes rebuilt from the window give the same answer', () => {
-    const streamed = new LiveMatcher(index, { windowBeats: W, tolerance: 0 });
+    const streamed = new LiveMatcher(sessionCorpus, { windowBeats: W, mode: mode(0) });
     play(streamed, session(), (window, start, n) => {
-      if (n % 7 === 0) expect(streamed.best(window, start)).toEqual(new LiveMatcher(index, { windowBeats: W, tolerance: 0 }).best(window, start));
+      if (n % 7 === 0) expect(streamed.best({ points: window, startGrains: start })).toEqual(new LiveMatcher(sessionCorpus, { windowBeats: W, mode: mode(0) }).best({ points: window, startGrains: start }));
     });
   });
 
   it('a note arriving late (before the newest) is put in its place: the answer is the in-order one', () => {
     const window = session().filter((p) => p.at >= toGrains(100) && p.at < toGrains(116));
     const start = window[0].at;
-    const inOrder = new LiveMatcher(index, { windowBeats: W, tolerance: 0 });
+    const inOrder = new LiveMatcher(sessionCorpus, { windowBeats: W, mode: mode(0) });
     for (const p of window) inOrder.add(p);
-    const late = new LiveMatcher(index, { windowBeats: W, tolerance: 0 });
+    const late = new LiveMatcher(sessionCorpus, { windowBeats: W, mode: mode(0) });
     const held = window[5];
     for (const p of window) if (p !== held) late.add(p);
     late.add(held);
     late.expire(start);
-    expect(late.best(window, start)).toEqual(inOrder.best(window, start));
-    expect(late.best(window, start)!.score).toBe(1);
+    expect(late.best({ points: window, startGrains: start })).toEqual(inOrder.best({ points: window, startGrains: start }));
+    expect(late.best({ points: window, startGrains: start })!.score).toBe(1);
   });
 
   it('reset forgets the passage; a session days long still matches (times kept relative to an origin)', () => {
-    const live = new LiveMatcher(index, { windowBeats: W, tolerance: 0 });
+    const live = new LiveMatcher(sessionCorpus, { windowBeats: W, mode: mode(0) });
     const passage = session().filter((p) => p.at >= toGrains(100) && p.at < toGrains(116));
     for (const p of passage) live.add(p);
     live.reset();
-    expect(live.best([{ at: 0, pitch: 60 }], 0)).toBeNull();
+    expect(live.best({ points: [{ at: 0, pitch: 60 }], startGrains: 0 })).toBeNull();
     // 600,000 beats in: past what 32-bit grains can hold.
     const far = toGrains(600_000);
     const later = passage.map((p) => ({ at: p.at + far, pitch: p.pitch }));
     for (const p of later) live.add(p);
     live.expire(later[0].at);
-    const m = live.best(later, later[0].at)!;
-    const e = exact.best(passage, passage[0].at)!;
+    const m = live.best({ points: later, startGrains: later[0].at })!;
+    const e = exact.best({ points: passage, startGrains: passage[0].at })!;
     expect(m).toMatchObject({ piece: e.piece, pieceStart: e.pieceStart, transposition: e.transposition, score: 1 });
   });
 
@@ -92,34 +94,34 @@ describe('exact (tolerance 0)', () => {
     const passage = session().filter((p) => p.at >= toGrains(100) && p.at < toGrains(116));
     const start = passage[0].at;
     const early = [{ at: start - toGrains(0.05), pitch: 40 }, ...passage];
-    expect(new LiveMatcher(index, { windowBeats: W, tolerance: 0.1 }).best(early, start)).toMatchObject({ score: expect.any(Number) });
-    const live = new LiveMatcher(index, { windowBeats: W, tolerance: 0 });
-    live.best(passage.slice(5), passage[5].at);
+    expect(new LiveMatcher(sessionCorpus, { windowBeats: W, mode: mode(0.1) }).best({ points: early, startGrains: start })).toMatchObject({ score: expect.any(Number) });
+    const live = new LiveMatcher(sessionCorpus, { windowBeats: W, mode: mode(0) });
+    live.best({ points: passage.slice(5), startGrains: passage[5].at });
     live.add(passage[0]);
-    expect(live.best(passage, start)!.score).toBe(1);
+    expect(live.best({ points: passage, startGrains: start })!.score).toBe(1);
   });
 
   it('refuses a tolerance it cannot use', () => {
-    expect(() => new LiveMatcher(index, { windowBeats: W, tolerance: 1 })).toThrow(/tolerance must be at least 0 and under 1 beat/);
+    expect(() => new LiveMatcher(sessionCorpus, { windowBeats: W, mode: mode(1) })).toThrow(/tolerance must be at least 0 and under 1 beat/);
   });
 });
 
 describe('within a tolerance, on chorales played with human timing', () => {
   const { corpus: choraleCorpus } = chorales();
   const choraleView = corpusPoints(choraleCorpus, 'chromatic');
-  const choraleIndex = corpusIndex(buildTriples(flattenPoints(choraleView)));
-  const brute = toleranceMatcher(choraleView, 8, 0.1);
+  const choraleCorpusMatch = matchCorpusOf(choraleView);
+  const brute = exactMatcher(choraleView, 8, { mode: mode(0.1) });
 
   it.each([0.06, 0.1])('a phrase played ±%s beat, 10% dropped, not snapped: found in its piece, never above the brute force', (jitter) => {
     let found = 0;
     const pieces = [3, 9, 15, 21, 27, 33];
     for (const piece of pieces) {
       const take = toPoints(played(passage(choraleCorpus.pieces[piece].notes, 8, 16, 1), { jitter, drop: 0.1, seed: piece }));
-      const live = new LiveMatcher(choraleIndex, { windowBeats: 8, tolerance: 0.1 });
+      const live = new LiveMatcher(choraleCorpusMatch, { windowBeats: 8, mode: mode(0.1) });
       for (const p of take) live.add(p);
       const start = take[0].at;
-      const m = live.best(take, start)!;
-      const b = brute.best(take, start)!;
+      const m = live.best({ points: take, startGrains: start })!;
+      const b = brute.best({ points: take, startGrains: start })!;
       expect(m.score).toBeLessThanOrEqual(b.score);
       if (m.piece === piece && m.score >= 0.7) found++;
     }
@@ -127,16 +129,24 @@ describe('within a tolerance, on chorales played with human timing', () => {
   });
 });
 
-describe('nearbyGroups', () => {
+describe('candidatesOf', () => {
   const t = (piece: number, shift: number, dp: number) => ({ piece, shift, dp, votes: 1 });
 
-  it('one search for shifts of one piece and transposition no more than `within` apart, reaching past both ends', () => {
-    const groups = nearbyGroups([t(2, 1000, 5), t(2, 1300, 5), t(2, 1500, 5), t(2, 2000, 5), t(2, 1300, 4), t(1, 1300, 5)], 320);
+  it('within a tolerance: one search for voted shifts of one piece and transposition close together, reaching past both ends', () => {
+    // 0.1 beat = 384 grains; a voted shift may be off by half a coarse grid step (480 grains): runs no more than 864 apart join.
+    const groups = candidatesOf([t(2, 1000, 5), t(2, 1500, 5), t(2, 3000, 5), t(2, 1500, 4), t(1, 1500, 5)], 384);
     expect(groups).toEqual([
-      { piece: 1, dp: 5, shift: 1300, within: 320 },
-      { piece: 2, dp: 4, shift: 1300, within: 320 },
-      { piece: 2, dp: 5, shift: 1250, within: 570 },
-      { piece: 2, dp: 5, shift: 2000, within: 320 },
+      { piece: 1, dp: 5, shift: 1500, within: 864 },
+      { piece: 2, dp: 4, shift: 1500, within: 864 },
+      { piece: 2, dp: 5, shift: 1250, within: 1114 },
+      { piece: 2, dp: 5, shift: 3000, within: 864 },
+    ]);
+  });
+
+  it('exactly: every voted translation is a candidate of its own', () => {
+    expect(candidatesOf([t(2, 1000, 5), t(2, 1001, 5)], 0)).toEqual([
+      { piece: 2, shift: 1000, dp: 5, within: 0 },
+      { piece: 2, shift: 1001, dp: 5, within: 0 },
     ]);
   });
 });

@@ -13,11 +13,12 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { type Point, comparePoints, toGrains } from '../../core/note.js';
 import { type CorpusPoints, corpusPoints } from '../../core/corpus.js';
-import { type WindowMatch, type WindowMatcher, exactMatcher } from '../../core/match.js';
+import type { WindowMatch, WindowMatcher } from '../../core/match.js';
+import { exactMatcher, indexedMatcher } from '../helpers/matchers.js';
 import { windows } from '../../core/windows.js';
 import { seededRandom } from '../../core/stats.js';
 import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
-import { DEFAULT_FILTER, indexMatcher, scanBest, wideBudgetFor } from '../../core/index-match.js';
+import { DEFAULT_FILTER, scanBest, wideBudgetFor } from '../../core/index-match.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';
 import { corpusOf, pieceOf } from '../helpers/corpus.js';
 import { loadChorales } from '../helpers/jsb.js';
@@ -52,7 +53,7 @@ function compare(queries: readonly Point[][], exact: WindowMatcher, indexed: Win
   return queries.flatMap((q) =>
     windows(q, { window: W, hop: 8 }).map((w) => {
       const start = toGrains(w.start);
-      return { window: w.points, start, exact: exact.best(w.points, start, { exclude }), indexed: indexed.best(w.points, start, { exclude }) };
+      return { window: w.points, start, exact: exact.best({ points: w.points, startGrains: start, exclude }), indexed: indexed.best({ points: w.points, startGrains: start, exclude }) };
     }),
   );
 }
@@ -76,7 +77,7 @@ describe('indexed matching equals exact matching wherever the exact score is ≥
   const corpus = synthCorpus({ notes: 6_000, seed: 11 });
   const view = viewOf(corpus);
   const exact = exactMatcher(view, W);
-  const indexed = indexMatcher(indexOf(view), W);
+  const indexed = indexedMatcher(view, W);
 
   it('on verbatim, transposed and 20%-altered copies of a seeded synthetic corpus, and on unrelated material', () => {
     const queries = [
@@ -95,13 +96,13 @@ describe('indexed matching equals exact matching wherever the exact score is ≥
   it('on random point sets, down to windows of a single point', () => {
     const small = viewOf(synthCorpus({ notes: 1_500, seed: 5 }));
     const ex = exactMatcher(small, W);
-    const ix = indexMatcher(indexOf(small), W);
+    const ix = indexedMatcher(small, W);
     fc.assert(
       fc.property(pointSet({ min: 1, max: 30 }), fc.integer({ min: 0, max: 40 }), (points, startBeat) => {
         const window = shift(points, startBeat, 0);
         const start = toGrains(startBeat);
-        const e = ex.best(window, start);
-        const i = ix.best(window, start);
+        const e = ex.best({ points: window, startGrains: start });
+        const i = ix.best({ points: window, startGrains: start });
         expect(i?.score ?? 0).toBeLessThanOrEqual(e?.score ?? 0);
         if ((e?.score ?? 0) >= 0.5) expect(i?.score).toBe(e!.score);
       }),
@@ -118,8 +119,8 @@ describe('indexed matching equals exact matching wherever the exact score is ≥
     const edges = pieces.flatMap((p) => [1, 2, 3, 4, 6, 8].flatMap((k) => [p.slice(0, k), p.slice(-k)]).map((pts) => shift(pts, 8 - pts[0].at / toGrains(1), 3)));
     let strong = 0;
     const check = (window: Point[], startBeat: number): void => {
-      const e = ex.best(window, toGrains(startBeat));
-      const s = scanBest(index, window, toGrains(startBeat), toGrains(W));
+      const e = ex.best({ points: window, startGrains: toGrains(startBeat) });
+      const s = scanBest(index, { points: window, startGrains: toGrains(startBeat), spanGrains: toGrains(W) });
       expect(s?.score ?? 0).toBeLessThanOrEqual(e?.score ?? 0);
       if ((e?.score ?? 0) >= 0.5) {
         strong++;
@@ -143,8 +144,8 @@ describe('indexed matching equals exact matching wherever the exact score is ≥
     ];
     // A first look too narrow to be sure (few postings, one candidate), so the second has something to find.
     const narrow = { ...DEFAULT_FILTER, voteBudget: 0, minTriples: 1, candidates: 1 };
-    const once = compare(queries, exact, indexMatcher(indexOf(view), W, { ...narrow, widenBelow: 0 }));
-    const twice = compare(queries, exact, indexMatcher(indexOf(view), W, { ...narrow, wideBudget: 2_000, wideCandidates: 16, wideVotes: 2 }));
+    const once = compare(queries, exact, indexedMatcher(view, W, { filter: { ...narrow, widenBelow: 0 } }));
+    const twice = compare(queries, exact, indexedMatcher(view, W, { filter: { ...narrow, wideBudget: 2_000, wideCandidates: 16, wideVotes: 2 } }));
     let found = [0, 0];
     once.forEach((r, i) => {
       const [a, b] = [r.indexed?.score ?? 0, twice[i].indexed?.score ?? 0];
@@ -174,7 +175,7 @@ describe('on the JSB chorales (open dataset, test/fixtures/jsb)', () => {
   const { train, test } = loadChorales();
   const view = corpusPoints(corpusOf(train.slice(0, 40).map((c) => pieceOf(`${c.path}.mid`, c.notes))), 'chromatic');
   const exact = exactMatcher(view, W);
-  const indexed = indexMatcher(indexOf(view), W);
+  const indexed = indexedMatcher(view, W);
 
   it('chorale passages, transposed or with 20% of pitches altered, and unseen chorales', () => {
     const queries = [

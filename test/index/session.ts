@@ -8,7 +8,7 @@
  */
 import { type Point, comparePoints, toGrains } from '../../core/note.js';
 import type { CorpusPoints } from '../../core/corpus.js';
-import { exactMatcher } from '../../core/match.js';
+import { exactMatcher } from '../helpers/matchers.js';
 import { seededRandom } from '../../core/stats.js';
 import { buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';

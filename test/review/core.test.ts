@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { toPoints } from '../../core/note.js';
 import { corpusPoints } from '../../core/corpus.js';
-import { exactMatcher } from '../../core/match.js';
+import { exactMatcher } from '../helpers/matchers.js';
 import { type WindowResult, originalityReport } from '../../core/report.js';
 import { excerptPair, folderSeries, worstPairs, worstWindows } from '../../core/review.js';
 import { defaultLogFile } from '../../bridge/paths.js';
@@ -14,6 +14,7 @@ const win = (start: number, score: number, matched = Math.round(score * 10)): Wi
   end: start + 16,
   notes: 10,
   score,
+  tooShort: false,
   match: score > 0 ? { piece: 'a.mid', title: 'a', pieceStart: 0, transposition: 0, matched, excerptNotes: 10 } : null,
 });
 
