@@ -55,7 +55,7 @@ export interface FingerprintSettings {
 }
 
 export const FINGERPRINT_SHAPE: FingerprintShape = { fanOut: 4, minGap: 0.125 };
-export const DEFAULT_FINGERPRINT: FingerprintSettings = { minScale: 0.5, maxScale: 2, candidates: 4, tolerance: 0.05, voteBudget: 6_000, minTriples: 12 };
+export const DEFAULT_FINGERPRINT: FingerprintSettings = { minScale: 0.5, maxScale: 2, candidates: 4, tolerance: 0.05, voteBudget: 2_000, minTriples: 12 };
 
 /** The corpus's triples by key, as the index file stores them. */
 export interface FingerprintTable {
@@ -75,6 +75,8 @@ const RATIO_STEP = 0.1;
 /** Vote cells: one beat of corpus position, 4% of time scale. */
 const POSITION_CELL = GRAINS_PER_BEAT;
 const SCALE_CELL = 0.04;
+/** Cells ranked with their neighbours' votes: this many per place verified, the best-voted on their own. */
+const OWN_VOTES_RANKED = 16;
 /** How far (grains) verification looks from a cell's estimated position. */
 const NEAR_WITHIN = 2 * GRAINS_PER_BEAT;
 
@@ -172,41 +174,122 @@ function pieceOf(offsets: Uint32Array, i: number): number {
   return lo;
 }
 
+/** The first point after `i` (before `end`) at least `gap` grains later: a step or two on, so walked, not searched. */
+function firstAfter(at: ArrayLike<number>, i: number, gap: number, end: number): number {
+  const t = at[i] + gap;
+  let j = i + 1;
+  while (j < end && at[j] < t) j++;
+  return j;
+}
+
 /** A window's points on the corpus's time: offsets from the window start divided by `scale`. */
 export function scaleTime(window: readonly Point[], startGrains: number, scale: number): Point[] {
   return window.map((p) => ({ at: startGrains + Math.round((p.at - startGrains) / scale), pitch: p.pitch })).sort(comparePoints);
 }
 
-interface Cell {
-  piece: number;
-  position: number;
-  scale: number;
-  pitch: number;
-  votes: number;
-  /** Sums over the votes, for the cell's mean log scale and mean corpus start. */
-  logScale: number;
-  start: number;
+/**
+ * Vote cells in typed arrays, open addressing on (piece, corpus position of
+ * the window start in beats, time-scale bin, transposition): a window's
+ * thousands of votes allocate nothing. Each cell sums its votes' log time
+ * scales and corpus starts, for the place they agree on.
+ */
+class Cells {
+  private bits = 10;
+  private slots = new Int32Array(1 << this.bits);
+  piece = new Int32Array(1 << (this.bits - 1));
+  position = new Int32Array(this.piece.length);
+  scale = new Int32Array(this.piece.length);
+  pitch = new Int32Array(this.piece.length);
+  votes = new Int32Array(this.piece.length);
+  logScale = new Float64Array(this.piece.length);
+  start = new Float64Array(this.piece.length);
+  size = 0;
+
+  clear(): void {
+    this.slots.fill(0);
+    this.size = 0;
+  }
+
+  /** The cell's entry, or −1. */
+  find(piece: number, position: number, scale: number, pitch: number): number {
+    const s = this.slotOf(piece, position, scale, pitch);
+    return this.slots[s] - 1;
+  }
+
+  add(piece: number, position: number, scale: number, pitch: number, logScale: number, start: number): void {
+    let s = this.slotOf(piece, position, scale, pitch);
+    if (this.slots[s] === 0) {
+      if (this.size === this.piece.length) {
+        this.grow();
+        s = this.slotOf(piece, position, scale, pitch);
+      }
+      const e = this.size++;
+      this.piece[e] = piece;
+      this.position[e] = position;
+      this.scale[e] = scale;
+      this.pitch[e] = pitch;
+      this.votes[e] = 0;
+      this.logScale[e] = 0;
+      this.start[e] = 0;
+      this.slots[s] = e + 1;
+    }
+    const e = this.slots[s] - 1;
+    this.votes[e]++;
+    this.logScale[e] += logScale;
+    this.start[e] += start;
+  }
+
+  private slotOf(piece: number, position: number, scale: number, pitch: number): number {
+    const mask = (1 << this.bits) - 1;
+    let s = (Math.imul(piece, 0x9e3779b1) ^ Math.imul(position, 0x85ebca6b) ^ Math.imul(scale * 512 + pitch, 0xc2b2ae35)) >>> (32 - this.bits);
+    for (let e = this.slots[s] - 1; e >= 0; e = this.slots[s] - 1) {
+      if (this.piece[e] === piece && this.position[e] === position && this.scale[e] === scale && this.pitch[e] === pitch) break;
+      s = (s + 1) & mask;
+    }
+    return s;
+  }
+
+  private grow(): void {
+    const n = this.piece.length * 2;
+    const copy = <T extends Int32Array | Float64Array>(a: T): T => {
+      const b = new (a.constructor as new (n: number) => T)(n);
+      b.set(a);
+      return b;
+    };
+    [this.piece, this.position, this.scale, this.pitch, this.votes] = [this.piece, this.position, this.scale, this.pitch, this.votes].map(copy);
+    [this.logScale, this.start] = [this.logScale, this.start].map(copy);
+    this.bits++;
+    this.slots = new Int32Array(1 << this.bits);
+    for (let e = 0; e < this.size; e++) this.slots[this.slotOf(this.piece[e], this.position[e], this.scale[e], this.pitch[e])] = e + 1;
+  }
 }
 
-const cellKey = (piece: number, position: number, scale: number, pitch: number): number =>
-  ((piece * 2 ** 22 + (position + 2 ** 21)) * 64 + (scale + 32)) * 256 + (pitch + 128);
+/** One table for every window: a fresh one would grow to the same size each time. */
+const cells = new Cells();
 
-/** Votes of the window's triples, rarest key first: cells keyed by (piece, corpus position of the window start, time scale, transposition). */
-function vote(flat: FlatPoints, table: FingerprintTable, settings: FingerprintSettings, window: MatchWindow): Map<number, Cell> {
+/** Votes of the window's triples, rarest key first, into `cells`. */
+function vote(flat: FlatPoints, table: FingerprintTable, settings: FingerprintSettings, window: MatchWindow): void {
   const { at, pitch, offsets } = flat;
   const points = window.points;
   const qa = points.map((p) => p.at);
-  const found: { k: number; a: number; c: number; size: number }[] = [];
+  // Each triple the table has, as one number: its postings, then the order found, sorted rarest first; the key and notes beside it.
+  const order: number[] = [];
+  const found: number[] = [];
   eachTriple(qa, 0, points.length, table.shape, (a, b, c) => {
     const k = findKey(table.keys, fingerprintKey(qa[a], qa[b], qa[c], points[a].pitch, points[b].pitch, points[c].pitch));
-    if (k >= 0) found.push({ k, a, c, size: table.starts[k + 1] - table.starts[k] });
+    if (k < 0) return;
+    order.push((table.starts[k + 1] - table.starts[k]) * 2 ** 21 + found.length / 3);
+    found.push(k, a, c);
   });
-  found.sort((x, y) => x.size - y.size);
+  order.sort((x, y) => x - y);
   const gap = toGrains(table.shape.minGap);
-  const cells = new Map<number, Cell>();
+  const [logMin, logMax] = [Math.log(settings.minScale), Math.log(settings.maxScale)];
+  cells.clear();
   let spent = 0;
-  for (let r = 0; r < found.length; r++) {
-    const { k, a, c, size } = found[r];
+  for (let r = 0; r < order.length; r++) {
+    const size = Math.floor(order[r] / 2 ** 21);
+    const f = 3 * (order[r] % 2 ** 21);
+    const [k, a, c] = [found[f], found[f + 1], found[f + 2]];
     if (r >= settings.minTriples && spent + size > settings.voteBudget) break;
     spent += size;
     const q0 = points[a];
@@ -216,23 +299,15 @@ function vote(flat: FlatPoints, table: FingerprintTable, settings: FingerprintSe
       const piece = pieceOf(offsets, ca);
       if (piece === window.exclude) continue;
       const end = offsets[piece + 1];
-      const cb = lowerBoundAt(at, at[ca] + gap, ca + 1, end) + (table.codes[s] >> 4);
-      const cc = lowerBoundAt(at, at[cb] + gap, cb + 1, end) + (table.codes[s] & 15);
+      const cb = firstAfter(at, ca, gap, end) + (table.codes[s] >> 4);
+      const cc = firstAfter(at, cb, gap, end) + (table.codes[s] & 15);
       const scale = span / (at[cc] - at[ca]);
-      if (scale < settings.minScale || scale > settings.maxScale) continue;
+      const logScale = Math.log(scale);
+      if (logScale < logMin || logScale > logMax) continue;
       const start = at[ca] - (q0.at - window.startGrains) / scale;
-      const position = Math.floor(start / POSITION_CELL);
-      const scaleBin = Math.round(Math.log(scale) / SCALE_CELL);
-      const dp = q0.pitch - pitch[ca];
-      const key = cellKey(piece, position, scaleBin, dp);
-      const cell = cells.get(key) ?? { piece, position, scale: scaleBin, pitch: dp, votes: 0, logScale: 0, start: 0 };
-      cell.votes++;
-      cell.logScale += Math.log(scale);
-      cell.start += start;
-      cells.set(key, cell);
+      cells.add(piece, Math.floor(start / POSITION_CELL), Math.round(logScale / SCALE_CELL), q0.pitch - pitch[ca], logScale, start);
     }
   }
-  return cells;
 }
 
 /** An estimated alignment: corpus piece, corpus start of the window (grains), time scale, transposition. */
@@ -244,38 +319,39 @@ interface Alignment {
 }
 
 /**
- * The best-voted places, counting each cell's votes together with its
- * neighbours' in position and scale (a vote near a cell edge may land either
- * side), and skipping cells next to one already taken.
+ * The best-voted places in `cells`, counting each cell's votes together with
+ * its neighbours' in position and scale (a vote near a cell edge may land
+ * either side), and skipping cells next to one already taken.
  */
-function bestAlignments(cells: Map<number, Cell>, count: number): Alignment[] {
-  const around = (c: Cell): Cell[] => {
-    const out: Cell[] = [];
+function bestAlignments(count: number): Alignment[] {
+  const around = (e: number): number[] => {
+    const out: number[] = [];
     for (let dp = -1; dp <= 1; dp++) {
       for (let ds = -1; ds <= 1; ds++) {
-        const n = cells.get(cellKey(c.piece, c.position + dp, c.scale + ds, c.pitch));
-        if (n) out.push(n);
+        const n = cells.find(cells.piece[e], cells.position[e] + dp, cells.scale[e] + ds, cells.pitch[e]);
+        if (n >= 0) out.push(n);
       }
     }
     return out;
   };
-  const ranked = [...cells.values()]
-    .map((c) => ({ c, votes: around(c).reduce((s, n) => s + n.votes, 0) }))
-    .sort((x, y) => y.votes - x.votes || x.c.piece - y.c.piece || x.c.position - y.c.position || x.c.scale - y.c.scale || x.c.pitch - y.c.pitch);
-  const taken: Cell[] = [];
+  const sum = (es: number[], of: Int32Array | Float64Array): number => es.reduce((t, n) => t + of[n], 0);
+  // Neighbours' votes are summed for the best-voted cells only: a place worth verifying has many votes of its own.
+  const own = Array.from({ length: cells.size }, (_, e) => e)
+    .sort((x, y) => cells.votes[y] - cells.votes[x] || x - y)
+    .slice(0, OWN_VOTES_RANKED * count);
+  const { piece, position, scale, pitch } = cells;
+  const ranked = own
+    .map((e) => ({ e, votes: sum(around(e), cells.votes) }))
+    .sort((x, y) => y.votes - x.votes || piece[x.e] - piece[y.e] || position[x.e] - position[y.e] || scale[x.e] - scale[y.e] || pitch[x.e] - pitch[y.e]);
+  const taken: number[] = [];
   const out: Alignment[] = [];
-  for (const { c } of ranked) {
+  for (const { e } of ranked) {
     if (out.length >= count) break;
-    if (taken.some((t) => t.piece === c.piece && t.pitch === c.pitch && Math.abs(t.position - c.position) <= 1 && Math.abs(t.scale - c.scale) <= 1)) continue;
-    taken.push(c);
-    const group = around(c);
-    const votes = group.reduce((s, n) => s + n.votes, 0);
-    out.push({
-      piece: c.piece,
-      start: group.reduce((s, n) => s + n.start, 0) / votes,
-      scale: Math.exp(group.reduce((s, n) => s + n.logScale, 0) / votes),
-      pitch: c.pitch,
-    });
+    if (taken.some((t) => piece[t] === piece[e] && pitch[t] === pitch[e] && Math.abs(position[t] - position[e]) <= 1 && Math.abs(scale[t] - scale[e]) <= 1)) continue;
+    taken.push(e);
+    const group = around(e);
+    const votes = sum(group, cells.votes);
+    out.push({ piece: piece[e], start: sum(group, cells.start) / votes, scale: Math.exp(sum(group, cells.logScale) / votes), pitch: pitch[e] });
   }
   return out;
 }
@@ -342,7 +418,8 @@ export function fingerprintCandidates(flat: FlatPoints, table: FingerprintTable,
       if (window.points.length < 3) return null;
       const tolGrains = toGrains(verify.toleranceBeats);
       let best: WindowMatch | null = null;
-      for (const a of bestAlignments(vote(flat, table, settings, window), settings.candidates)) {
+      vote(flat, table, settings, window);
+      for (const a of bestAlignments(settings.candidates)) {
         const found = verifyAt(verify, window, spanGrains, a);
         if (!found) continue;
         const again = refit(flat, tolGrains, found);

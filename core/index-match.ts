@@ -12,10 +12,11 @@
  * match of 0.5 so reads a little further and verifies more of the
  * translations voted for more than twice (FilterSettings.widenBelow).
  *
- * Within a tolerance, the window votes twice, with its onsets snapped to
- * each of the VOTE_GRIDS (triple keys compare exact time differences, and a
- * note played a little early would share no key with the corpus), and each
- * run of nearby voted shifts is verified as one search around them.
+ * Within a tolerance, the window votes with its onsets snapped to the fine
+ * one of the VOTE_GRIDS, and when it looks again also to the coarse one
+ * (triple keys compare exact time differences, and a note played a little
+ * early would share no key with the corpus); each run of nearby voted
+ * shifts is verified as one search around them.
  *
  * Windows of at most eight points are scanned instead (scanBest): a match of
  * 0.5 there needs only two to four points in common, too few for triples.
@@ -138,9 +139,18 @@ export function candidatesOf(voted: readonly VotedTranslation[], toleranceGrains
   });
 }
 
-/** The best of the candidates, each scored by the verifier. */
+/**
+ * The best of the candidates, each scored by the verifier, the most
+ * promising first (by the verifier's bound); a candidate whose bound cannot
+ * reach the best score so far is not verified, as it could not beat it.
+ */
 export function verifyAll(span: Span, candidates: readonly Candidate[], verify: Verifier, best: WindowMatch | null = null): WindowMatch | null {
-  for (const c of candidates) best = better(verify.near(span, c), best);
+  const n = span.points.length;
+  const ranked = candidates.map((c) => ({ c, bound: verify.bound(span, c) })).sort((x, y) => y.bound - x.bound);
+  for (const { c, bound } of ranked) {
+    if (best && bound / n < best.score) break;
+    best = better(verify.near(span, c), best);
+  }
   return best;
 }
 
@@ -335,11 +345,13 @@ export function indexCandidates(index: CorpusIndex, settings: FilterSettings = D
       }
       const skipFrom = window.exclude === undefined ? 0 : offsets[window.exclude];
       const skipTo = window.exclude === undefined ? 0 : offsets[window.exclude + 1];
-      const views = tolGrains === 0 ? [points] : [snapPoints(points, FINE_GRAINS), snapPoints(points, COARSE_GRAINS)];
-      const voters = views.map((view, slot) => voter(slot, view, skipFrom, skipTo));
+      // Exactly, the window votes as it is. Within a tolerance it votes snapped to the fine grid, and only
+      // when that finds no match of widenBelow also to the coarse one: reading postings is most of the cost.
+      const fine = voter(0, tolGrains === 0 ? points : snapPoints(points, FINE_GRAINS), skipFrom, skipTo);
       // Within a tolerance one shared triple (three notes in common) is not worth a search of its own.
-      const first = verifyAll(span, candidatesOf(voters.flatMap((v) => v(settings.voteBudget, settings.candidates, tolGrains === 0 ? 1 : 2)), tolGrains), verify);
+      const first = verifyAll(span, candidatesOf(fine(settings.voteBudget, settings.candidates, tolGrains === 0 ? 1 : 2), tolGrains), verify);
       if ((first?.score ?? 0) >= settings.widenBelow) return first;
+      const voters = tolGrains === 0 ? [fine] : [fine, voter(1, snapPoints(points, COARSE_GRAINS), skipFrom, skipTo)];
       return verifyAll(span, candidatesOf(voters.flatMap((v) => v(wideBudget, settings.wideCandidates, settings.wideVotes)), tolGrains), verify, first);
     },
   };

@@ -117,6 +117,8 @@ export function bestOfStages(stages: readonly Stage[], window: MatchWindow, span
   if (window.points.length === 0) return null;
   let best: WindowMatch | null = null;
   for (const { source, verify } of stages) {
+    // Nothing scores above 1: a window matched whole needs no other source's candidates.
+    if (best && best.score >= 1) break;
     const m = source.best(window, verify, spanGrains);
     best = better(m && mode.tempoFree && m.timeScale === undefined ? { ...m, timeScale: 1 } : m, best);
   }

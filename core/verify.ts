@@ -46,6 +46,12 @@ export interface Verifier {
   readonly toleranceBeats: number;
   /** The best match at the candidate's translation (within a tolerance: near it). */
   near(span: Span, c: Candidate): WindowMatch | null;
+  /**
+   * At least the `matched` of `near(span, c)`, cheaply: a caller verifying
+   * many candidates can verify the most promising first and stop where no
+   * bound is left that could beat the best.
+   */
+  bound(span: Span, c: Candidate): number;
   /** The best match over every translation of `piece` that can beat `best` (else `best`): the reference search. */
   every(span: Span, piece: number, best: WindowMatch | null): WindowMatch | null;
 }
@@ -108,6 +114,30 @@ function exactEvery(flat: FlatPoints, span: Span, piece: number, incumbent: Wind
   return best;
 }
 
+/**
+ * How many points of the span have a point of the piece at their pitch
+ * (less dp) within `reach` grains of their ontime (less shift): no
+ * translation within `reach` of (shift, dp) matches more of them.
+ */
+export function reachable(flat: FlatPoints, span: Span, c: Candidate, reach: number): number {
+  const { at, pitch, offsets } = flat;
+  const end = offsets[c.piece + 1];
+  let n = 0;
+  let i = offsets[c.piece];
+  for (const q of span.points) {
+    const t = q.at - c.shift;
+    const p = q.pitch - c.dp;
+    i = lowerBoundAt(at, t - reach, i, end);
+    for (let j = i; j < end && at[j] <= t + reach; j++) {
+      if (pitch[j] === p) {
+        n++;
+        break;
+      }
+    }
+  }
+  return n;
+}
+
 /** Points of one piece as objects, with their pitch lines. */
 export interface PieceExcerpt {
   points: Point[];
@@ -132,6 +162,7 @@ export function verifier(flat: FlatPoints, toleranceBeats: number): Verifier {
     return {
       toleranceBeats,
       near: (span, c) => verifyShift(flat, span, c.piece, c.shift, c.dp),
+      bound: (span) => span.points.length,
       every: (span, piece, best) => exactEvery(flat, span, piece, best),
     };
   }
@@ -148,6 +179,8 @@ export function verifier(flat: FlatPoints, toleranceBeats: number): Verifier {
       const near = { translation: { at: c.shift, pitch: c.dp }, within: c.within };
       return bestInPiece({ piece: c.piece, ...around, window: span.points, startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains, near }, null);
     },
+    // The search's refined shifts lie within two tolerances of those it starts from, and match a tolerance further.
+    bound: (span, c) => reachable(flat, span, c, c.within + 3 * tolGrains),
     every: (span, piece, best) => bestInPiece({ piece, ...whole(piece), window: span.points, startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains }, best),
   };
 }

@@ -1,28 +1,27 @@
 /**
- * The corpus index benchmark: `npm run bench` (all corpora, tens of
- * minutes) or `npm run bench -- --quick` (100k and 1M notes, under a
- * minute). Deterministic corpora and queries; timings are wall-clock on
- * whatever else the machine is doing (the load average is printed beside
- * them). Prints a table per corpus, then as its last line one JSON object
- * with every figure (DEVELOPERS.md, "Benchmark").
+ * The matching benchmark: `npm run bench` (all corpora, tens of minutes) or
+ * `npm run bench -- --quick` (100k and 1M notes, about a minute).
+ * Deterministic corpora and queries; timings are wall-clock on whatever else
+ * the machine is doing (the load average is printed beside them) and CPU
+ * time of this process. Prints a table per corpus, then as its last line one
+ * JSON object with every figure.
  *
- * Each corpus: build the index (both pitch dimensions, as `corpus build`
- * does) and write it to a file, load it back, then score the same 16-beat
- * windows (hop 8) of three kinds of query — verbatim transposed copies of
- * corpus passages, copies with 20% of their notes altered, unrelated
- * material — with the index and with the brute-force reference side by side,
- * the reference on as many windows as its time budget allows. Streaming:
- * all the queries played back to back into one StreamingMatch, one note at
- * a time (add, expire to the last 16 beats, best).
- *
- * Rows are per matching mode (here "exact", the index's), so other modes can
- * add rows of their own; the JSB chorale rows of test/bench/modes.ts follow
- * in the full run.
+ * Each corpus: build the index (triples and fingerprints, both pitch
+ * dimensions, as `corpus build` does) and write it to a file, load it back,
+ * then score 16-beat windows (hop 8) of queries cut from the corpus —
+ * verbatim transposed copies, copies with 20% of notes altered, copies played
+ * ±0.06 beat with 10% dropped, copies at 0.75×, 1.5× and 2× the tempo — and
+ * unrelated material. One row per matching mode (exact, tolerance 0.1,
+ * tempo-free) and candidate source (the index's votes, every translation:
+ * the reference, on as many windows as its time budget allows), with
+ * distinctiveness counted as a report counts it, the speed-up over the
+ * reference and the recall of the reference's strong windows. Then the live
+ * path per note in each mode, and a one-hour session reviewed at 1M notes.
  *
  * @example
  *   npm run bench -- --quick
  *   // …tables…
- *   // {"quick":true,"rows":[{"corpus":"synthetic 100k","mode":"exact","notes":100123,...}, ...]}
+ *   // {"quick":true,"corpora":[{"corpus":"synthetic 100k","notes":100123,...,"modes":[{"mode":"exact","candidates":"index",...}]}]}
  */
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
@@ -30,13 +29,16 @@ import { loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { type Point, comparePoints, toGrains } from '../../core/note.js';
 import type { CorpusPoints } from '../../core/corpus.js';
-import { type WindowMatcher, exactMatcher } from '../../core/match.js';
+import type { MatchWindow, WindowMatch, WindowMatcher } from '../../core/match.js';
 import { windows } from '../../core/windows.js';
 import { percentile, seededRandom } from '../../core/stats.js';
 import { type FlatNotes, notePoints } from '../../core/flat-notes.js';
-import { type FlatPoints, CORPUS_TRIPLES, buildTriples, corpusIndex, flattenPoints, piecePoints } from '../../core/triple-index.js';
-import { DEFAULT_FILTER, indexMatcher } from '../../core/index-match.js';
-import { StreamingMatch } from '../../core/stream.js';
+import { type FlatPoints, CORPUS_TRIPLES, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
+import { FINGERPRINT_SHAPE, buildFingerprints } from '../../core/fingerprint.js';
+import { DEFAULT_FILTER } from '../../core/index-match.js';
+import { type CandidateKind, type MatchCorpus, type MatchMode, windowMatcher } from '../../core/pipeline.js';
+import { LiveMatcher } from '../../core/live-match.js';
+import { originalityReport } from '../../core/report.js';
 import { readIndexFile, writeIndexFile } from '../../bridge/index-file.js';
 import { decodeChorale } from '../helpers/jsb.js';
 import { synthCorpus, unrelated } from './synthetic.js';
@@ -47,13 +49,15 @@ const HOP = 8;
 const QUERY_BEATS = 48;
 const JSB = join(import.meta.dirname, '../../../../shared/data/jsb-chorales/Jsb16thSeparated.json');
 
-type Kind = 'verbatim' | 'altered' | 'unrelated';
-const KINDS: Kind[] = ['verbatim', 'altered', 'unrelated'];
+type Kind = 'verbatim' | 'altered' | 'played' | 'tempo' | 'unrelated';
+const KINDS: Kind[] = ['verbatim', 'altered', 'played', 'tempo', 'unrelated'];
+/** Tempo ratios the tempo kind is played at, in turn. */
+const SCALES = [0.75, 1.5, 2];
 
-interface Probe {
+interface Probe extends MatchWindow {
   kind: Kind;
-  points: Point[];
-  start: number;
+  /** Where the query was cut from, and at what tempo ratio it was played. */
+  source: { piece: number; scale: number } | null;
 }
 
 interface Latency {
@@ -62,27 +66,44 @@ interface Latency {
   windows: number;
 }
 
-export interface BenchRow {
-  corpus: string;
-  /** The matching mode the row measures. */
+const BENCH_MODES: { name: string; mode: MatchMode; kinds: Kind[]; referenceShare: number }[] = [
+  { name: 'exact', mode: { tolerance: 0, tempoFree: false }, kinds: ['verbatim', 'altered', 'unrelated'], referenceShare: 0.5 },
+  { name: 'tolerance 0.1', mode: { tolerance: 0.1, tempoFree: false }, kinds: ['verbatim', 'altered', 'played', 'unrelated'], referenceShare: 0.3 },
+  { name: 'tempo-free', mode: { tolerance: 0, tempoFree: true }, kinds: ['verbatim', 'tempo', 'unrelated'], referenceShare: 0.2 },
+];
+
+/** One (mode × candidate source) row. */
+export interface ModeRow {
   mode: string;
+  candidates: CandidateKind;
+  latency: Latency;
+  /** Windows matched per second of this process's CPU time (what an otherwise idle machine would show)… */
+  windowsPerCpuSecond: number;
+  /** …and with distinctiveness counted, as a report counts it (index rows). */
+  reportWindowsPerCpuSecond: number | null;
+  /** The reference's p50 over this source's p50 on the same windows (1 for the reference). */
+  speedup: number;
+  /** Of the windows the reference scores ≥ 0.5 (≥ 0.3): the share this source scores the same. */
+  recall: { atLeast05: { share: number | null; windows: number }; atLeast03: { share: number | null; windows: number } };
+  /** Windows where this source scored above the reference: must be 0. */
+  aboveReference: number;
+  /** Tempo-free only: copies at another tempo whose piece was found with the time scale within 2%. */
+  tempo?: { found: number; windows: number };
+}
+
+export interface CorpusRow {
+  corpus: string;
   notes: number;
   pieces: number;
   buildSeconds: number;
   loadSeconds: number;
   indexBytesPerNote: number;
   residentMB: number;
-  index: Latency;
-  exact: Latency;
-  speedup: number;
-  batchWindowsPerSecond: number;
-  /** The same per second of this process's CPU time: what an otherwise idle machine would show. */
-  batchWindowsPerCpuSecond: number;
-  /** Per note: add, expire to the last 16 beats, best; wall clock, and this process's CPU time (`cpu`). */
-  stream: { p50Ms: number; p99Ms: number; maxMs: number; cpuP50Ms: number; cpuP99Ms: number; notes: number };
-  recall: { atLeast05: { share: number | null; windows: number }; atLeast03: { share: number | null; windows: number } };
-  /** Windows where the index scored above exact: must be 0. */
-  aboveExact: number;
+  modes: ModeRow[];
+  /** Live path per note (add, expire to the last 16 beats, best with distinctiveness), CPU time, per mode. */
+  live: { mode: string; p50Ms: number; p99Ms: number; maxMs: number; notes: number }[];
+  /** A one-hour session (about 30,000 notes) reviewed through the index at tolerance 0.1, distinctiveness counted. */
+  review?: { notes: number; windows: number; seconds: number; cpuSeconds: number };
 }
 
 const ms = (t0: number): number => performance.now() - t0;
@@ -101,27 +122,38 @@ function sortedUnique(points: Point[]): Point[] {
   return points.filter((p, i) => i === 0 || comparePoints(points[i - 1], p) !== 0);
 }
 
-/** Queries of each kind, passages of QUERY_BEATS beats from beat 0, and their windows. */
+/** Queries of each kind, passages of QUERY_BEATS beats, and their windows. */
 function queries(corpus: readonly Point[][], perKind: number, seed: number): { played: Point[][]; probes: Probe[] } {
   const rand = seededRandom(seed);
-  const passage = (alter: number): Point[] => {
-    const piece = corpus[Math.floor(rand() * corpus.length)];
-    const last = piece[piece.length - 1].at;
-    const from = Math.floor((rand() * Math.max(0, last - toGrains(QUERY_BEATS))) / toGrains(1)) * toGrains(1);
+  const cut = (change: { alter?: number; jitter?: number; drop?: number; scale?: number }): { points: Point[]; source: Probe['source'] } => {
+    const piece = Math.floor(rand() * corpus.length);
+    const points = corpus[piece];
+    const scale = change.scale ?? 1;
+    const beats = QUERY_BEATS / scale;
+    const last = points[points.length - 1].at;
+    const from = Math.floor((rand() * Math.max(0, last - toGrains(beats))) / toGrains(1)) * toGrains(1);
     const transpose = 1 + Math.floor(rand() * 11) - 5;
-    return sortedUnique(
-      piece
-        .filter((p) => p.at >= from && p.at < from + toGrains(QUERY_BEATS))
-        .map((p) => ({ at: p.at - from, pitch: p.pitch + transpose + (rand() < alter ? (rand() < 0.5 ? -1 : 1) * (1 + Math.floor(rand() * 2)) : 0) })),
-    );
+    const kept = points.filter((p) => p.at >= from && p.at < from + toGrains(beats) && rand() >= (change.drop ?? 0));
+    const moved = kept.map((p) => ({
+      at: Math.max(0, Math.round((p.at - from) * scale + (2 * rand() - 1) * toGrains(change.jitter ?? 0))),
+      pitch: p.pitch + transpose + (rand() < (change.alter ?? 0) ? (rand() < 0.5 ? -1 : 1) * (1 + Math.floor(rand() * 2)) : 0),
+    }));
+    return { points: sortedUnique(moved), source: { piece, scale } };
   };
   const played: Point[][] = [];
   const probes: Probe[] = [];
   for (let q = 0; q < perKind; q++) {
-    const made: Record<Kind, Point[]> = { verbatim: passage(0), altered: passage(0.2), unrelated: unrelated(seed * 1000 + q, QUERY_BEATS) };
+    const made: Record<Kind, { points: Point[]; source: Probe['source'] }> = {
+      verbatim: cut({}),
+      altered: cut({ alter: 0.2 }),
+      played: cut({ jitter: 0.06, drop: 0.1 }),
+      tempo: cut({ scale: SCALES[q % SCALES.length] }),
+      unrelated: { points: unrelated(seed * 1000 + q, QUERY_BEATS), source: null },
+    };
     for (const kind of KINDS) {
-      played.push(made[kind]);
-      for (const w of windows(made[kind], { window: W, hop: HOP })) probes.push({ kind, points: w.points, start: toGrains(w.start) });
+      const { points, source } = made[kind];
+      played.push(points);
+      for (const w of windows(points, { window: W, hop: HOP })) probes.push({ kind, source, points: w.points, startGrains: toGrains(w.start) });
     }
   }
   return { played, probes };
@@ -166,110 +198,150 @@ function freshLoadSeconds(file: string): number {
   return Number(r.stdout);
 }
 
-function benchCorpus(name: string, make: () => Point[][], options: { perKind: number; exactSeconds: number }): BenchRow {
+const timed = (m: WindowMatcher, p: Probe): { ms: number; match: WindowMatch | null } => {
+  const t = performance.now();
+  const match = m.best(p);
+  return { ms: ms(t), match };
+};
+
+/** A copy at another tempo counts as found when its piece comes back with the time scale within 2%. */
+const tempoFound = (p: Probe, m: WindowMatch | null): boolean => !!p.source && !!m && m.piece === p.source.piece && Math.abs((m.timeScale ?? 1) / p.source.scale - 1) < 0.02;
+
+/** The index row and the reference row of one mode on its probes. */
+function modeRows(corpus: MatchCorpus, probes: readonly Probe[], mode: MatchMode, name: string, referenceSeconds: number): ModeRow[] {
+  // Matching alone, index and reference side by side (distinctiveness does not change a score)…
+  const index = windowMatcher(corpus, { windowBeats: W, mode, candidates: 'index', distinctiveness: false });
+  for (const p of probes.slice(0, 20)) index.best(p); // warm up the JIT
+  const cpu0 = cpuMs();
+  const indexed = probes.map((p) => timed(index, p));
+  const windowsPerCpuSecond = probes.length / ((cpuMs() - cpu0) / 1000);
+  // …and what a report pays: matching with distinctiveness counted through the index.
+  const report = windowMatcher(corpus, { windowBeats: W, mode, candidates: 'index' });
+  for (const p of probes.slice(0, 20)) report.best(p);
+  const cpu1 = cpuMs();
+  for (const p of probes) report.best(p);
+  const reportPerCpuSecond = probes.length / ((cpuMs() - cpu1) / 1000);
+  // The reference, round-robin over the kinds until its time budget is spent.
+  const reference = windowMatcher(corpus, { windowBeats: W, mode, candidates: 'every', distinctiveness: false });
+  const kinds = [...new Set(probes.map((p) => p.kind))];
+  const byKind = kinds.map((k) => probes.map((p, i) => ({ p, i })).filter(({ p }) => p.kind === k));
+  const sampled: { i: number; ms: number; score: number }[] = [];
+  const t0 = performance.now();
+  const refCpu0 = cpuMs();
+  for (let r = 0; r < probes.length && (sampled.length === 0 || ms(t0) < referenceSeconds * 1000); r++) {
+    for (const xs of byKind) {
+      if (xs[r] && (sampled.length === 0 || ms(t0) < referenceSeconds * 1000)) {
+        const { ms: took, match } = timed(reference, xs[r].p);
+        sampled.push({ i: xs[r].i, ms: took, score: match?.score ?? 0 });
+      }
+    }
+  }
+  const refPerCpuSecond = sampled.length / ((cpuMs() - refCpu0) / 1000);
+  const recallAt = (theta: number) => {
+    const strong = sampled.filter((s) => s.score >= theta);
+    return { share: strong.length ? round(strong.filter((s) => (indexed[s.i].match?.score ?? 0) >= s.score - 1e-12).length / strong.length, 4) : null, windows: strong.length };
+  };
+  const tempo = mode.tempoFree ? probes.map((p, i) => ({ p, i })).filter(({ p }) => p.kind === 'tempo') : [];
+  const sameWindows = latency(sampled.map((s) => indexed[s.i].ms));
+  const refLatency = latency(sampled.map((s) => s.ms));
+  const base = { mode: name };
+  return [
+    {
+      ...base,
+      candidates: 'index',
+      latency: latency(indexed.map((x) => x.ms)),
+      windowsPerCpuSecond: Math.round(windowsPerCpuSecond),
+      reportWindowsPerCpuSecond: Math.round(reportPerCpuSecond),
+      speedup: round(refLatency.p50Ms / sameWindows.p50Ms, 1),
+      recall: { atLeast05: recallAt(0.5), atLeast03: recallAt(0.3) },
+      aboveReference: sampled.filter((s) => (indexed[s.i].match?.score ?? 0) > s.score + 1e-12).length,
+      ...(mode.tempoFree ? { tempo: { found: tempo.filter(({ p, i }) => tempoFound(p, indexed[i].match)).length, windows: tempo.length } } : {}),
+    },
+    { ...base, candidates: 'every', latency: refLatency, windowsPerCpuSecond: Math.round(refPerCpuSecond), reportWindowsPerCpuSecond: null, speedup: 1, recall: { atLeast05: { share: 1, windows: 0 }, atLeast03: { share: 1, windows: 0 } }, aboveReference: 0 },
+  ];
+}
+
+/** Every query played back to back, 4 beats apart, one note at a time into the live matcher: CPU time per note. */
+function liveRow(corpus: MatchCorpus & { index: NonNullable<MatchCorpus['index']> }, played: readonly Point[][], mode: MatchMode, name: string): CorpusRow['live'][number] {
+  const live = new LiveMatcher(corpus, { windowBeats: W, mode });
+  const perNote: number[] = [];
+  const window: Point[] = [];
+  played.forEach((query, q) => {
+    const offset = q * toGrains(QUERY_BEATS + 4);
+    for (const pt of query) {
+      const p = { at: pt.at + offset, pitch: pt.pitch };
+      const c = cpuMs();
+      window.push(p);
+      while (window[0].at <= p.at - toGrains(W)) window.shift();
+      live.add(p);
+      live.expire(window[0].at);
+      live.best({ points: window, startGrains: window[0].at });
+      perNote.push(cpuMs() - c);
+    }
+  });
+  const s = [...perNote].sort((a, b) => a - b);
+  return { mode: name, p50Ms: round(percentile(s, 50)), p99Ms: round(percentile(s, 99)), maxMs: round(s[s.length - 1]), notes: s.length };
+}
+
+/** A one-hour session at 120 beats a minute (7,200 beats, about 30,000 notes): the queries end to end, again and again, reviewed at tolerance 0.1. */
+function reviewRow(corpus: MatchCorpus, pieces: number, played: readonly Point[][]): NonNullable<CorpusRow['review']> {
+  const notes: { onset: number; duration: number; pitch: number; morph: number; velocity: number; channel: number }[] = [];
+  for (let at = 0, q = 0; at < 7_200; q++) {
+    const query = played[q % played.length];
+    for (const p of query) notes.push({ onset: at + p.at / toGrains(1), duration: 0.5, pitch: p.pitch, morph: p.pitch, velocity: 80, channel: 1 });
+    at += QUERY_BEATS + 4;
+  }
+  const matcher = windowMatcher(corpus, { windowBeats: W, mode: { tolerance: 0.1, tempoFree: false }, candidates: 'index' });
+  // The report reads only the pieces' names and the pitch dimension; matching reads `corpus`.
+  const view: CorpusPoints = { mode: 'chromatic', pieces: Array.from({ length: pieces }, (_, i) => pieceInfo(i)), points: [], size: 0 };
+  const t0 = performance.now();
+  const c0 = cpuMs();
+  const r = originalityReport([{ file: 'session', notes }], view, matcher, { window: W, hop: HOP });
+  return { notes: notes.length, windows: r.windows + r.tooShort, seconds: round(ms(t0) / 1000, 2), cpuSeconds: round((cpuMs() - c0) / 1000, 2) };
+}
+
+function benchCorpus(name: string, make: () => Point[][], options: { perKind: number; referenceSeconds: number; review: boolean }): CorpusRow {
   const { notes, pieces, played, probes } = prepare(make, options.perKind);
   const dir = mkdtempSync(join(tmpdir(), 'ew-bench-'));
   const file = join(dir, 'index');
   try {
-    let t0 = performance.now();
+    const t0 = performance.now();
+    const modes = ['chromatic', 'morphetic'] as const;
+    const points = modes.map((m) => notePoints(notes, m));
     writeIndexFile(file, {
       shape: CORPUS_TRIPLES,
+      fingerprint: FINGERPRINT_SHAPE,
       percussion: false,
       pieces: Array.from({ length: pieces }, (_, i) => pieceInfo(i)).map(({ notes: _, ...info }) => info),
       files: [],
       notes,
-      postings: { chromatic: buildTriples(notePoints(notes, 'chromatic')), morphetic: buildTriples(notePoints(notes, 'morphetic')) },
+      postings: { chromatic: buildTriples(points[0]), morphetic: buildTriples(points[1]) },
+      fingerprints: { chromatic: buildFingerprints(points[0]), morphetic: buildFingerprints(points[1]) },
     });
     const buildSeconds = ms(t0) / 1000;
     const bytes = statSync(file).size;
     // The median of three: the first read of a file just written can wait on the disk, as a user's load (long after the build) does not.
     const loadSeconds = [freshLoadSeconds(file), freshLoadSeconds(file), freshLoadSeconds(file)].sort((a, b) => a - b)[1];
     const read = readIndexFile(file, ['chromatic']);
-    const index = corpusIndex({ ...read.postings.chromatic!, points: notePoints(read.notes, 'chromatic'), shape: read.shape });
-    const noteCount = index.points.at.length;
-
-    const matcher = indexMatcher(index, W);
-    const timed = (m: WindowMatcher, p: Probe): { ms: number; score: number } => {
-      const t = performance.now();
-      const r = m.best({ points: p.points, startGrains: p.start });
-      return { ms: ms(t), score: r?.score ?? 0 };
-    };
-    for (const p of probes.slice(0, 20)) matcher.best({ points: p.points, startGrains: p.start }); // warm up the JIT
-    const indexed = probes.map((p) => timed(matcher, p));
-    // Throughput: whole passes over the windows until a second has gone by.
-    let passes = 0;
-    t0 = performance.now();
-    const cpu0 = cpuMs();
-    while (ms(t0) < 1000 || passes === 0) {
-      for (const p of probes) matcher.best({ points: p.points, startGrains: p.start });
-      passes++;
-    }
-    const batchWindowsPerSecond = (passes * probes.length) / (ms(t0) / 1000);
-    const batchWindowsPerCpuSecond = (passes * probes.length) / ((cpuMs() - cpu0) / 1000);
-
-    // Streaming: every query played back to back, 4 beats apart, one note at a time.
-    const stream = new StreamingMatch(index, { windowBeats: W });
-    const perNote: number[] = [];
-    const perNoteCpu: number[] = [];
-    played.forEach((query, q) => {
-      const offset = q * toGrains(QUERY_BEATS + 4);
-      for (const pt of query) {
-        const c = cpuMs();
-        const t = performance.now();
-        stream.add({ at: pt.at + offset, pitch: pt.pitch });
-        stream.expire(pt.at + offset - toGrains(W) + 1);
-        stream.best();
-        perNote.push(ms(t));
-        perNoteCpu.push(cpuMs() - c);
-      }
-    });
-    const cpuSorted = [...perNoteCpu].sort((a, b) => a - b);
-    // The reference, round-robin over the kinds until its time budget is spent, on Point objects made only now.
-    const points = Array.from({ length: pieces }, (_, p) => piecePoints(index.points, p));
-    const exact = exactMatcher({ mode: 'chromatic', pieces: points.map((_, i) => pieceInfo(i)), points, size: noteCount }, W);
-    const order = KINDS.flatMap((k) => probes.map((p, i) => ({ p, i })).filter(({ p }) => p.kind === k));
-    const byKind = KINDS.map((k) => order.filter(({ p }) => p.kind === k));
-    const sampled: { i: number; ms: number; score: number }[] = [];
-    t0 = performance.now();
-    const rounds = order.length;
-    for (let r = 0; r < rounds && (sampled.length === 0 || ms(t0) < options.exactSeconds * 1000); r++) {
-      for (const xs of byKind) {
-        if (xs[r] && (sampled.length === 0 || ms(t0) < options.exactSeconds * 1000)) sampled.push({ i: xs[r].i, ...timed(exact, xs[r].p) });
-      }
-    }
-    const recallAt = (theta: number) => {
-      const strong = sampled.filter((s) => s.score >= theta);
-      return { share: strong.length ? round(strong.filter((s) => indexed[s.i].score === s.score).length / strong.length, 4) : null, windows: strong.length };
-    };
-    const exactLatency = latency(sampled.map((s) => s.ms));
-    const indexLatency = latency(indexed.map((s) => s.ms));
-    const sameWindows = latency(sampled.map((s) => indexed[s.i].ms));
-
-    const notesSorted = [...perNote].sort((a, b) => a - b);
+    const flat = notePoints(read.notes, 'chromatic');
+    const corpus = { flat, index: corpusIndex({ ...read.postings.chromatic!, points: flat, shape: read.shape }), fingerprints: read.fingerprints.chromatic as () => ReturnType<typeof buildFingerprints> };
+    const table = corpus.fingerprints();
+    const withTable = { ...corpus, fingerprints: () => table };
+    const rows = BENCH_MODES.flatMap((m) =>
+      modeRows(withTable, probes.filter((p) => m.kinds.includes(p.kind)), m.mode, m.name, options.referenceSeconds * m.referenceShare),
+    );
+    const live = BENCH_MODES.map((m) => liveRow(withTable, played, m.mode, m.name));
     return {
       corpus: name,
-      mode: 'exact',
-      notes: noteCount,
+      notes: flat.at.length,
       pieces,
       buildSeconds: round(buildSeconds, 2),
       loadSeconds: round(loadSeconds, 3),
-      indexBytesPerNote: round(bytes / noteCount, 1),
+      indexBytesPerNote: round(bytes / flat.at.length, 1),
       residentMB: Math.round(process.memoryUsage().rss / 2 ** 20),
-      index: indexLatency,
-      exact: exactLatency,
-      speedup: round(exactLatency.p50Ms / sameWindows.p50Ms, 1),
-      batchWindowsPerSecond: Math.round(batchWindowsPerSecond),
-      batchWindowsPerCpuSecond: Math.round(batchWindowsPerCpuSecond),
-      stream: {
-        p50Ms: round(percentile(notesSorted, 50)),
-        p99Ms: round(percentile(notesSorted, 99)),
-        maxMs: round(notesSorted[notesSorted.length - 1]),
-        cpuP50Ms: round(percentile(cpuSorted, 50)),
-        cpuP99Ms: round(percentile(cpuSorted, 99)),
-        notes: perNote.length,
-      },
-      recall: { atLeast05: recallAt(0.5), atLeast03: recallAt(0.3) },
-      aboveExact: sampled.filter((s) => indexed[s.i].score > s.score + 1e-12).length,
+      modes: rows,
+      live,
+      ...(options.review ? { review: reviewRow(withTable, pieces, played) } : {}),
     };
   } finally {
     rmSync(dir, { recursive: true, force: true });
@@ -282,33 +354,35 @@ function jsbCorpus(): Point[][] {
   return Object.values(data).flat().map((steps) => sortedUnique(decodeChorale(steps).map((n) => ({ at: toGrains(n.onset), pitch: n.pitch }))));
 }
 
-function table(r: BenchRow): string {
-  const f = (x: number | null): string => (x === null ? '—' : String(x));
+function table(r: CorpusRow): string {
   const pct = (x: number | null): string => (x === null ? '—' : `${round(100 * x, 1)}%`);
-  return [
-    `${r.corpus}: ${r.notes} notes in ${r.pieces} pieces, mode ${r.mode}`,
-    `  build ${r.buildSeconds} s (both pitch dimensions, written), load ${r.loadSeconds} s, ${r.indexBytesPerNote} bytes/note on disk, resident ${r.residentMB} MB`,
-    `  | per window        | index      | exact       |`,
-    `  | p50               | ${f(r.index.p50Ms).padEnd(7)} ms | ${f(r.exact.p50Ms).padEnd(8)} ms |`,
-    `  | p99               | ${f(r.index.p99Ms).padEnd(7)} ms | ${f(r.exact.p99Ms).padEnd(8)} ms |`,
-    `  | windows           | ${String(r.index.windows).padEnd(10)} | ${String(r.exact.windows).padEnd(11)} |`,
-    `  speed-up ${r.speedup}×, batch ${r.batchWindowsPerSecond} windows/s (${r.batchWindowsPerCpuSecond} per CPU second)`,
-    `  streaming per note: p50 ${r.stream.p50Ms} ms, p99 ${r.stream.p99Ms} ms, max ${r.stream.maxMs} ms; CPU time p50 ${r.stream.cpuP50Ms} ms, p99 ${r.stream.cpuP99Ms} ms (${r.stream.notes} notes)`,
-    `  recall at exact ≥ 0.5: ${pct(r.recall.atLeast05.share)} of ${r.recall.atLeast05.windows} windows; at ≥ 0.3: ${pct(r.recall.atLeast03.share)} of ${r.recall.atLeast03.windows}; windows above exact: ${r.aboveExact}`,
-  ].join('\n');
+  const lines = [
+    `${r.corpus}: ${r.notes} notes in ${r.pieces} pieces`,
+    `  build ${r.buildSeconds} s (triples and fingerprints, both pitch dimensions, written), load ${r.loadSeconds} s, ${r.indexBytesPerNote} bytes/note on disk, resident ${r.residentMB} MB`,
+    '  | mode | candidates | p50 | p99 | windows | per CPU second | with distinctiveness | speed-up | recall ≥ 0.5 | above reference | tempo copies found |',
+    '  | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |',
+    ...r.modes.map(
+      (m) =>
+        `  | ${m.mode} | ${m.candidates} | ${m.latency.p50Ms} ms | ${m.latency.p99Ms} ms | ${m.latency.windows} | ${m.windowsPerCpuSecond} | ${m.reportWindowsPerCpuSecond ?? "—"} | ${m.speedup}× | ` +
+        `${m.candidates === 'every' ? '—' : `${pct(m.recall.atLeast05.share)} of ${m.recall.atLeast05.windows}`} | ${m.candidates === 'every' ? '—' : m.aboveReference} | ${m.tempo ? `${m.tempo.found} of ${m.tempo.windows}` : '—'} |`,
+    ),
+    ...r.live.map((l) => `  live per note, ${l.mode}: CPU p50 ${l.p50Ms} ms, p99 ${l.p99Ms} ms, max ${l.maxMs} ms (${l.notes} notes)`),
+  ];
+  if (r.review) lines.push(`  review of a one-hour session (${r.review.notes} notes, ${r.review.windows} windows) at tolerance 0.1: ${r.review.seconds} s (${r.review.cpuSeconds} s CPU)`);
+  return lines.join('\n');
 }
 
 function main(): void {
   const quick = process.argv.includes('--quick');
   const began = performance.now();
-  const rows: BenchRow[] = [];
-  const plan: { name: string; make: () => Point[][]; needs?: string; perKind: number; exactSeconds: number }[] = [
-    { name: 'synthetic 100k', make: () => synthCorpus({ notes: 100_000, seed: 1 }), perKind: quick ? 4 : 12, exactSeconds: quick ? 6 : 150 },
-    { name: 'synthetic 1M', make: () => synthCorpus({ notes: 1_000_000, seed: 2 }), perKind: quick ? 4 : 12, exactSeconds: quick ? 1 : 240 },
+  const corpora: CorpusRow[] = [];
+  const plan: { name: string; make: () => Point[][]; needs?: string; perKind: number; referenceSeconds: number; review: boolean }[] = [
+    { name: 'synthetic 100k', make: () => synthCorpus({ notes: 100_000, seed: 1 }), perKind: quick ? 4 : 12, referenceSeconds: quick ? 6 : 150, review: false },
+    { name: 'synthetic 1M', make: () => synthCorpus({ notes: 1_000_000, seed: 2 }), perKind: quick ? 4 : 12, referenceSeconds: quick ? 3 : 300, review: true },
   ];
   if (!quick) {
-    plan.push({ name: 'synthetic 10M', make: () => synthCorpus({ notes: 10_000_000, seed: 3 }), perKind: 12, exactSeconds: 300 });
-    plan.push({ name: 'JSB chorales', make: jsbCorpus, needs: JSB, perKind: 12, exactSeconds: 120 });
+    plan.push({ name: 'synthetic 10M', make: () => synthCorpus({ notes: 10_000_000, seed: 3 }), perKind: 12, referenceSeconds: 400, review: false });
+    plan.push({ name: 'JSB chorales', make: jsbCorpus, needs: JSB, perKind: 12, referenceSeconds: 120, review: false });
   }
   for (const step of plan) {
     if (step.needs && !existsSync(step.needs)) {
@@ -316,20 +390,22 @@ function main(): void {
       continue;
     }
     const row = benchCorpus(step.name, step.make, step);
-    rows.push(row);
+    corpora.push(row);
     process.stdout.write(table(row) + '\n\n');
   }
-  const modes = quick ? [] : jsbModeCosts(40, true);
-  if (modes.length) process.stdout.write(`Matching modes on the JSB subset, built on the index's exact mode:\n${modeCostTable(modes)}\n\n`);
+  const jsbModes = quick ? [] : jsbModeCosts(40);
+  if (jsbModes.length) process.stdout.write(`Matching modes on the JSB subset (40 corpus chorales), distinctiveness counted:\n${modeCostTable(jsbModes)}\n\n`);
   const summary = {
     quick,
+    date: new Date().toISOString(),
     seconds: Math.round(ms(began) / 1000),
     loadAverage: loadavg().map((x) => round(x, 2)),
     filter: DEFAULT_FILTER,
     triples: CORPUS_TRIPLES,
+    fingerprint: FINGERPRINT_SHAPE,
     peakResidentMB: Math.round(process.resourceUsage().maxRSS / 1024),
-    rows,
-    modes,
+    corpora,
+    jsbModes,
   };
   process.stdout.write(JSON.stringify(summary) + '\n');
 }

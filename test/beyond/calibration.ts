@@ -12,9 +12,9 @@
 import { type Note, type Point, toGrains, toPoints } from '../../core/note.js';
 import { corpusPoints } from '../../core/corpus.js';
 import type { WindowMatcher } from '../../core/match.js';
-import { modeMatcher } from '../../core/match-mode.js';
+import type { MatchMode } from '../../core/pipeline.js';
 import { LiveMatcher } from '../../core/live-match.js';
-import { buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
+import { exactMatcher, matchCorpusOf } from '../helpers/matchers.js';
 import { type WindowShape, windows } from '../../core/windows.js';
 import { chorales, passage, played, randomWalk } from './material.js';
 
@@ -95,14 +95,15 @@ export function calibrate(shape: WindowShape, options: CalibrationOptions): Cali
       probes: unrelated.flatMap((notes, i) => probesOf(toPoints(snap(played(notes, { jitter: PLAYED_JITTER, seed: 900 + i }))), shape)),
     },
   ];
-  const index = options.live?.length ? corpusIndex(buildTriples(flattenPoints(view))) : null;
+  const matching = matchCorpusOf(view);
+  const reference = (mode: MatchMode): WindowMatcher => exactMatcher(view, shape.window, { mode, distinctiveness: true });
   const modes: { mode: string; matcher: () => WindowMatcher }[] = [
-    ...options.tolerances.map((tolerance) => ({ mode: tolerance === 0 ? 'exact' : `tolerance ${tolerance}`, matcher: () => modeMatcher(view, shape.window, { tolerance, tempoFree: false }) })),
-    ...options.tempoFreeTolerances.map((tolerance) => ({ mode: tolerance === 0 ? 'tempo-free' : `tempo-free, tolerance ${tolerance}`, matcher: () => modeMatcher(view, shape.window, { tolerance, tempoFree: true }) })),
+    ...options.tolerances.map((tolerance) => ({ mode: tolerance === 0 ? 'exact' : `tolerance ${tolerance}`, matcher: () => reference({ tolerance, tempoFree: false }) })),
+    ...options.tempoFreeTolerances.map((tolerance) => ({ mode: tolerance === 0 ? 'tempo-free' : `tempo-free, tolerance ${tolerance}`, matcher: () => reference({ tolerance, tempoFree: true }) })),
     ...(options.live ?? []).map((tolerance) => ({
       mode: `live (streaming index), ${tolerance === 0 ? 'exact' : `tolerance ${tolerance}`}`,
       // A fresh live matcher builds its votes from the window it is given: what the stream holds after playing it.
-      matcher: (): WindowMatcher => ({ windowBeats: shape.window, best: (w, start) => new LiveMatcher(index!, { windowBeats: shape.window, tolerance }).best({ points: w, startGrains: start }) }),
+      matcher: (): WindowMatcher => ({ windowBeats: shape.window, best: (w) => new LiveMatcher(matching, { windowBeats: shape.window, mode: { tolerance, tempoFree: false } }).best(w) }),
     })),
   ];
   return {

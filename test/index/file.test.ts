@@ -15,6 +15,9 @@ import { PITCH_MODES } from '../../core/note.js';
 import { corpusPoints } from '../../core/corpus.js';
 import { flattenNotes, joinNotes, notePoints, pieceNotes } from '../../core/flat-notes.js';
 import { buildTriples, flattenPoints } from '../../core/triple-index.js';
+import { type FingerprintTable, FINGERPRINT_SHAPE, buildFingerprints } from '../../core/fingerprint.js';
+import { windowMatcher } from '../../core/pipeline.js';
+import { played } from '../beyond/material.js';
 import { type IndexContents, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta, writeIndexFile } from '../../bridge/index-file.js';
 import { openCorpus } from '../../bridge/open-corpus.js';
 import { UsageError } from '../../bridge/usage.js';
@@ -30,8 +33,11 @@ const notes = flattenNotes(corpus.pieces);
 
 function contents(): IndexContents {
   const postings = Object.fromEntries(PITCH_MODES.map((m) => [m, buildTriples(notePoints(notes, m))]));
+  const fingerprints = Object.fromEntries(PITCH_MODES.map((m) => [m, buildFingerprints(notePoints(notes, m))]));
   return {
     shape: postings.chromatic.shape,
+    fingerprint: FINGERPRINT_SHAPE,
+    fingerprints,
     percussion: false,
     pieces: corpus.pieces.map(({ notes: _, ...info }) => info),
     files: corpus.pieces.map((p, i) => ({ path: p.path, size: 100 + i, mtimeMs: 1_700_000_000_000 + i, sha256: 'ab'.repeat(32), error: null })),
@@ -71,6 +77,28 @@ describe('index file', () => {
       expect([a.keys, a.starts, a.anchors]).toEqual([b.keys, b.starts, b.anchors]);
     }
     expect(readIndexMeta(file).notes).toBe(notes.at.length);
+    for (const mode of PITCH_MODES) {
+      const stored = (back.fingerprints[mode] as () => FingerprintTable)();
+      expect(stored).toEqual(written.fingerprints[mode]);
+    }
+  });
+
+  it('tempo-free matching reads the stored fingerprint table, and finds a chorale phrase played half as slow again through it', () => {
+    // Arzt, Böck & Widmer (2012), ISMIR: triples keyed by pitch intervals and the ratio of inter-onset intervals survive a change of tempo.
+    const back = readIndexFile(file, ['chromatic']);
+    let reads = 0;
+    const stored = back.fingerprints.chromatic as () => FingerprintTable;
+    const table = (): FingerprintTable => (reads++, stored());
+    const flat = notePoints(back.notes, 'chromatic');
+    const matcher = windowMatcher({ flat, fingerprints: table }, { windowBeats: 16, mode: { tolerance: 0, tempoFree: true }, candidates: 'every', distinctiveness: false });
+    expect(reads).toBe(1);
+    const phrase = corpus.pieces[7].notes.filter((n) => n.onset >= 8 && n.onset < 24).map((n) => ({ ...n, onset: n.onset - 8 }));
+    const slower = flattenPoints(corpusPoints(corpusOf([pieceOf('take.mid', played(phrase, { scale: 1.5, seed: 3 }))]), 'chromatic'));
+    const points = Array.from(slower.at.subarray(0, slower.offsets[1]), (at, i) => ({ at, pitch: slower.pitch[i] })).filter((p) => p.at < 16 * 3840);
+    const m = matcher.best({ points, startGrains: 0 })!;
+    expect(m).toMatchObject({ piece: 7, transposition: 0 });
+    expect(Math.abs(m.pieceStart - 8)).toBeLessThan(0.25);
+    expect(Math.abs(m.timeScale! / 1.5 - 1)).toBeLessThan(0.02);
   });
 
   it('reads one pitch dimension alone', () => {
@@ -87,7 +115,8 @@ describe('index file', () => {
   };
   const failure = (f: string): IndexFileError => {
     try {
-      readIndexFile(f, ['chromatic', 'morphetic']);
+      const back = readIndexFile(f, ['chromatic', 'morphetic']);
+      for (const mode of PITCH_MODES) (back.fingerprints[mode] as () => FingerprintTable)();
     } catch (e) {
       return e as IndexFileError;
     }
@@ -118,8 +147,12 @@ describe('index file', () => {
   it('a foreign file, or one of a later format version, is named as such', () => {
     expect(failure(broken('foreign.mid', readFileSync(join(import.meta.dirname, '../fixtures/midi/format0-ppq96.mid')))).message).toMatch(/not an earwitness corpus index/);
     const later = Uint8Array.from(bytes);
-    later[8] = 2;
-    expect(failure(broken('later', later)).message).toMatch(/index format version 2; this earwitness reads version 1/);
+    later[8] = 3;
+    expect(failure(broken('later', later)).message).toMatch(/index format version 3; this earwitness reads version 2/);
+    // A file written before the fingerprint tables were stored: refused, with how to rebuild it.
+    const older = Uint8Array.from(bytes);
+    older[8] = 1;
+    expect(failure(broken('older', older)).message).toMatch(/index format version 1, written by an older earwitness; this earwitness reads version 2; rebuild it with: earwitness corpus build/);
     expect(failure(join(dir, 'missing')).message).toMatch(/cannot be read \(ENOENT\)/);
   });
 
