@@ -11,12 +11,13 @@ const beyondExact = (m: MatchSummary): string =>
   (m.timeScale === undefined ? '' : `, time scale ${m.timeScale.toFixed(2)}`) + (m.distinctiveness === undefined ? '' : `, distinctiveness ${m.distinctiveness.toFixed(2)}`);
 
 export function reportText(r: OriginalityReport): string {
-  const lines = [`originality ${pct(r.originality)} over ${r.windows} windows of ${r.settings.window} beats (hop ${r.settings.hop}, ${r.settings.pitch} pitch); ${ci(r.ci95)}`, ''];
+  const short = r.tooShort ? `; ${r.tooShort} window${r.tooShort === 1 ? '' : 's'} of fewer than ${r.settings.minNotes} notes too short to judge` : '';
+  const lines = [`originality ${pct(r.originality)} over ${r.windows} windows of ${r.settings.window} beats (hop ${r.settings.hop}, ${r.settings.pitch} pitch); ${ci(r.ci95)}${short}`, ''];
   for (const q of r.queries) {
     lines.push(`${q.file}: ${q.notes} notes, originality ${pct(q.originality)}`);
     for (const w of q.windows) {
       const where = w.match ? `${w.match.title} at beat ${beat(w.match.pieceStart)}, transposed ${signed(w.match.transposition)}, ${w.match.matched} notes matched${beyondExact(w.match)}` : 'no match';
-      lines.push(`  beats ${beat(w.start).padStart(4)}–${beat(w.end).padEnd(4)} ${String(w.notes).padStart(3)} notes  score ${w.score.toFixed(3)}  ${where}`);
+      lines.push(`  beats ${beat(w.start).padStart(4)}–${beat(w.end).padEnd(4)} ${String(w.notes).padStart(3)} notes  score ${w.score.toFixed(3)}  ${where}${w.tooShort ? ' (too short to judge: left out)' : ''}`);
     }
     lines.push('');
   }
@@ -27,11 +28,11 @@ export function reportText(r: OriginalityReport): string {
 const csvCell = (v: string | number): string => (typeof v === 'number' ? String(v) : /[",\n]/.test(v) ? `"${v.replace(/"/g, '""')}"` : v);
 
 export function reportCsv(r: OriginalityReport): string {
-  const rows = [['file', 'start', 'end', 'notes', 'score', 'piece', 'title', 'piece_start', 'transposition', 'matched', 'time_scale', 'distinctiveness']];
+  const rows = [['file', 'start', 'end', 'notes', 'score', 'piece', 'title', 'piece_start', 'transposition', 'matched', 'time_scale', 'distinctiveness', 'too_short']];
   for (const q of r.queries) {
     for (const w of q.windows) {
       const m = w.match;
-      rows.push([q.file, w.start, w.end, w.notes, w.score, m?.piece ?? '', m?.title ?? '', m?.pieceStart ?? '', m?.transposition ?? '', m?.matched ?? '', m?.timeScale ?? '', m?.distinctiveness ?? ''].map((v) => csvCell(v as string | number)));
+      rows.push([q.file, w.start, w.end, w.notes, w.score, m?.piece ?? '', m?.title ?? '', m?.pieceStart ?? '', m?.transposition ?? '', m?.matched ?? '', m?.timeScale ?? '', m?.distinctiveness ?? '', String(w.tooShort)].map((v) => csvCell(v as string | number)));
     }
   }
   return rows.map((r) => r.join(',')).join('\n') + '\n';

@@ -13,7 +13,8 @@
  *
  * The baseline is taken from the corpus index when it stores one computed
  * exactly as this command would compute it (same window, hop, pitch,
- * exact matching through the index, seed and number of samples, as
+ * exact matching through the index, seed, number of samples and windows
+ * too short to judge, as
  * `corpus build --baseline` stores for 16-beat windows with hop 8);
  * otherwise it is computed.
  *
@@ -78,7 +79,7 @@ function storedBaseline(opened: OpenedCorpus, o: CheckFlags): Baseline | null {
   return (
     stored.find((b) => {
       const s = b.settings;
-      return s.window === o.window && s.hop === o.hop && s.pitch === o.pitch && s.seed === o.seed && b.samples.length === samples;
+      return s.window === o.window && s.hop === o.hop && s.pitch === o.pitch && s.seed === o.seed && s.minNotes === o.minNotes && b.samples.length === samples;
     }) ?? null
   );
 }

@@ -8,7 +8,7 @@
  *   npx tsc -p tsconfig.json && npx vitest run test/index/cli.test.ts
  */
 import { spawnSync } from 'node:child_process';
-import { copyFileSync, existsSync, mkdtempSync, readFileSync, rmSync, utimesSync, writeFileSync } from 'node:fs';
+import { copyFileSync, cpSync, existsSync, mkdtempSync, readFileSync, rmSync, utimesSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import tonejs from '@tonejs/midi';
@@ -118,6 +118,21 @@ describe('--corpus with an index', () => {
     });
     expect(strong).toBeGreaterThanOrEqual(4);
     expect(viaFolder.json().caution).toMatch(/not a legal finding/);
+  });
+
+  it('the demo corpus as a folder, then indexed: report --json the same to the letter, in every mode', () => {
+    const demo = join(dir, 'demo');
+    cpSync(join(ROOT, 'presets/demo/corpus'), demo, { recursive: true });
+    const queries = join(ROOT, 'presets/demo/queries');
+    const modes = [[], ['--tolerance', '0.1'], ['--tempo-free']];
+    const before = modes.map((m) => run('report', queries, '--corpus', demo, '--json', ...m));
+    expect(run('corpus', 'build', demo).code).toBe(0);
+    const after = modes.map((m) => run('report', queries, '--corpus', demo, '--json', ...m));
+    modes.forEach((_, i) => {
+      expect(before[i].code).toBe(0);
+      expect(after[i].err).not.toMatch(/not using/);
+      expect(after[i].out).toBe(before[i].out);
+    });
   });
 
   it('a folder whose index is out of date is read file by file, with a note saying how to update it', () => {
