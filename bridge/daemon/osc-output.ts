@@ -11,7 +11,7 @@
  */
 import { createSocket } from 'node:dgram';
 import osc from 'osc';
-import { UsageError } from '../usage.js';
+import { UsageError } from '../cli/usage.js';
 
 export interface OscTarget {
   host: string;

@@ -13,7 +13,7 @@
  */
 import { Worker } from 'node:worker_threads';
 import type { LiveNote, LiveVerdict } from './live-scorer.js';
-import { UsageError } from '../usage.js';
+import { UsageError } from '../cli/usage.js';
 
 export interface WorkerSetup {
   corpus: string;

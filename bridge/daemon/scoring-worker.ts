@@ -12,7 +12,7 @@
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import { performance } from 'node:perf_hooks';
-import { openCorpus } from '../open-corpus.js';
+import { openCorpus } from '../corpus/open-corpus.js';
 import { type LiveScorer, liveScorer } from './live-scorer.js';
 import type { FromWorker, ToWorker, WorkerSetup } from './scorer.js';
 

@@ -37,7 +37,7 @@ import { type FlatNotes, notePoints } from '../../core/flat-notes.js';
 import { type FlatPoints, CORPUS_TRIPLES, buildTriples, corpusIndex, flattenPoints, piecePoints } from '../../core/triple-index.js';
 import { DEFAULT_FILTER, indexMatcher } from '../../core/index-match.js';
 import { StreamingMatch } from '../../core/stream.js';
-import { readIndexFile, writeIndexFile } from '../../bridge/index-file.js';
+import { readIndexFile, writeIndexFile } from '../../bridge/formats/index-file.js';
 import { decodeChorale } from '../helpers/jsb.js';
 import { synthCorpus, unrelated } from './synthetic.js';
 import { jsbModeCosts, modeCostTable } from './modes.js';

@@ -10,7 +10,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import { CAUTION } from '../../core/report.js';
-import { EXIT } from '../../bridge/usage.js';
+import { EXIT } from '../../bridge/cli/usage.js';
 import { notesFile } from '../helpers/smf.mjs';
 import { chorales, passage, played } from './material.js';
 

@@ -15,11 +15,11 @@ import osc from 'osc';
 import { afterAll, describe, expect, test } from 'vitest';
 import { initialPolicy, stepPolicy } from '../../core/warning-policy.js';
 import { liveScorer } from '../../bridge/daemon/live-scorer.js';
-import { LIVE_TOLERANCE, loadPreset, parsePreset, resolveThreshold, withOverrides } from '../../bridge/presets.js';
-import { INDEX_NAME, IndexFileError, readIndexBaselines } from '../../bridge/index-file.js';
-import type { HelloEvent, ScoreEvent, WarningEvent } from '../../bridge/events.js';
+import { LIVE_TOLERANCE, loadPreset, parsePreset, resolveThreshold, withOverrides } from '../../bridge/formats/presets.js';
+import { INDEX_NAME, IndexFileError, readIndexBaselines } from '../../bridge/formats/index-file.js';
+import type { HelloEvent, ScoreEvent, WarningEvent } from '../../contract/events.js';
 import { CAUTION } from '../../core/report.js';
-import { EXIT } from '../../bridge/usage.js';
+import { EXIT } from '../../bridge/cli/usage.js';
 import { CLI, type SpawnedDaemon, listen, passage as movedPassage, spawnDaemon, tempDir, writeCorpus } from '../daemon/helpers.js';
 import { chorales, passage, played } from './material.js';
 

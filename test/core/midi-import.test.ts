@@ -1,5 +1,5 @@
 /**
- * MIDI import (bridge/midi-file.ts) checked against two outside readers of
+ * MIDI import (bridge/formats/midi-file.ts) checked against two outside readers of
  * the same bytes: Debian's `midicsv` and the npm parser `midi-file`. The
  * fixtures are written byte by byte by test/fixtures/midi/make.mjs.
  *
@@ -12,7 +12,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import midiFile from 'midi-file';
 import { afterAll, describe, expect, it } from 'vitest';
-import { MidiFileError, parseMidi, readMidi } from '../../bridge/midi-file.js';
+import { MidiFileError, parseMidi, readMidi } from '../../bridge/formats/midi-file.js';
 import { spell, keyFromSignature } from '../../core/spelling.js';
 import { vlq } from '../helpers/smf.mjs';
 import { tool } from '../helpers/which.js';

@@ -9,7 +9,7 @@
 import { createSocket } from 'node:dgram';
 import osc from 'osc';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { ScoreEvent } from '../../bridge/events.js';
+import type { ScoreEvent } from '../../contract/events.js';
 import { type SpawnedDaemon, eventually, health, listen, spawnDaemon, writeCorpus } from './helpers.js';
 
 const socket = createSocket('udp4');

@@ -7,8 +7,8 @@
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { type Daemon, startDaemon } from '../../bridge/daemon/daemon.js';
-import type { DaemonEvent, ScoreEvent } from '../../bridge/events.js';
-import { loadPreset } from '../../bridge/presets.js';
+import type { DaemonEvent, ScoreEvent } from '../../contract/events.js';
+import { loadPreset } from '../../bridge/formats/presets.js';
 import { WORKER_URL, melody, tempDir, writeCorpus } from './helpers.js';
 
 describe('coalescing', () => {

@@ -20,9 +20,9 @@ import { pathToFileURL } from 'node:url';
 import { WebSocket } from 'ws';
 import type { Note } from '../../core/note.js';
 import { seededRandom } from '../../core/stats.js';
-import { midiBytes } from '../../bridge/midi-write.js';
-import type { DaemonEvent } from '../../bridge/events.js';
-import { packageRoot } from '../../bridge/daemon/package-root.js';
+import { midiBytes } from '../../bridge/formats/midi-write.js';
+import type { DaemonEvent } from '../../contract/events.js';
+import { packageRoot } from '../../bridge/formats/package-root.js';
 
 /** The repository, found the same way from the sources (vitest) and from dist/ (the benchmark). */
 export const ROOT = packageRoot();

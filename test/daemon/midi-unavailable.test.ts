@@ -6,7 +6,7 @@
 import { existsSync } from 'node:fs';
 import { spawnSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
-import type { HelloEvent } from '../../bridge/events.js';
+import type { HelloEvent } from '../../contract/events.js';
 import { CLI, ROOT, listen, spawnDaemon, writeCorpus } from './helpers.js';
 
 const noAlsa = process.platform === 'linux' && !existsSync('/dev/snd/seq');

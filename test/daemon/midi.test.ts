@@ -11,9 +11,9 @@ import { EventEmitter } from 'node:events';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { type Daemon, startDaemon } from '../../bridge/daemon/daemon.js';
-import type { DaemonEvent, NoteEvent, WarningEvent } from '../../bridge/events.js';
-import { loadPreset, withOverrides } from '../../bridge/presets.js';
-import { SessionLog } from '../../bridge/session-log.js';
+import type { DaemonEvent, NoteEvent, WarningEvent } from '../../contract/events.js';
+import { loadPreset, withOverrides } from '../../bridge/formats/presets.js';
+import { SessionLog } from '../../bridge/formats/session-log.js';
 import { WORKER_URL, type TestCorpus, passage, tempDir, writeCorpus } from './helpers.js';
 
 describe('MIDI in, through an in-process port', () => {

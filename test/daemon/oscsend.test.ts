@@ -6,7 +6,7 @@
  */
 import { execFileSync } from 'node:child_process';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { ScoreEvent, WarningEvent } from '../../bridge/events.js';
+import type { ScoreEvent, WarningEvent } from '../../contract/events.js';
 import { tool } from '../helpers/which.js';
 import { type SpawnedDaemon, type TestCorpus, eventually, health, listen, passage, spawnDaemon, writeCorpus } from './helpers.js';
 

@@ -7,8 +7,8 @@ import { spawnSync } from 'node:child_process';
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { BUILT_IN_PRESETS, loadPreset, withOverrides } from '../../bridge/presets.js';
-import type { HelloEvent } from '../../bridge/events.js';
+import { BUILT_IN_PRESETS, loadPreset, withOverrides } from '../../bridge/formats/presets.js';
+import type { HelloEvent } from '../../contract/events.js';
 import { CLI, ROOT, listen, spawnDaemon, tempDir, writeCorpus } from './helpers.js';
 
 const presetFile = (fields: Record<string, unknown>): string => {

@@ -9,7 +9,7 @@
 import { createSocket } from 'node:dgram';
 import osc from 'osc';
 import { afterAll, describe, expect, it } from 'vitest';
-import { SessionLog } from '../../bridge/session-log.js';
+import { SessionLog } from '../../bridge/formats/session-log.js';
 import { type SpawnedDaemon, eventually, health, spawnDaemon, writeCorpus } from './helpers.js';
 
 const socket = createSocket('udp4');

@@ -13,7 +13,7 @@ import { WebSocket } from 'ws';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { CAUTION } from '../../core/report.js';
 import { MAX_CLIENT_MESSAGE, type WebServer, startWebServer } from '../../bridge/daemon/web-server.js';
-import type { HelloEvent } from '../../bridge/events.js';
+import type { HelloEvent } from '../../contract/events.js';
 import { type SpawnedDaemon, health, listen, spawnDaemon, tempDir, writeCorpus } from './helpers.js';
 
 /** A raw request: the path goes out exactly as written, as an attacker would send it. */

@@ -12,8 +12,8 @@ import { copyFileSync, cpSync, mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { CAUTION } from '../../core/report.js';
-import { midiBytes } from '../../bridge/midi-write.js';
-import { EXIT } from '../../bridge/usage.js';
+import { midiBytes } from '../../bridge/formats/midi-write.js';
+import { EXIT } from '../../bridge/cli/usage.js';
 import { CLI, ROOT, tempDir } from '../daemon/helpers.js';
 
 const CORPUS = join(ROOT, 'presets', 'demo', 'corpus');

@@ -10,8 +10,8 @@ import { spawnSync } from 'node:child_process';
 import { existsSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { WarningEvent } from '../../bridge/events.js';
-import { EXIT } from '../../bridge/usage.js';
+import type { WarningEvent } from '../../contract/events.js';
+import { EXIT } from '../../bridge/cli/usage.js';
 import { CLI, ROOT, health, listen, tempDir } from '../daemon/helpers.js';
 import { type Launched, launch } from './launch.js';
 

@@ -14,11 +14,11 @@ import { describe, expect, it } from 'vitest';
 import { generator, trainChain } from '../../core/markov.js';
 import { seededRandom } from '../../core/stats.js';
 import { initialPolicy, stepPolicy } from '../../core/warning-policy.js';
-import { loadCorpusFolder } from '../../bridge/corpus-files.js';
-import { DEMO_ORDER, DEMO_PRESET } from '../../bridge/commands/demo.js';
+import { loadCorpusFolder } from '../../bridge/corpus/corpus-files.js';
+import { DEMO_ORDER, DEMO_PRESET } from '../../bridge/cli/commands/demo.js';
 import { liveScorer } from '../../bridge/daemon/live-scorer.js';
 import { MELODY_CHANNEL, demoTunes } from '../../bridge/demo/tunes.js';
-import { loadPreset, resolveThreshold } from '../../bridge/presets.js';
+import { loadPreset, resolveThreshold } from '../../bridge/formats/presets.js';
 import { ROOT } from '../daemon/helpers.js';
 
 const CORPUS = join(ROOT, 'presets', 'demo', 'corpus');

@@ -27,8 +27,8 @@ import { cpSync, existsSync, readFileSync, statSync, symlinkSync } from 'node:fs
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { Command } from 'commander';
-import { program } from '../../bridge/program.js';
-import { EXIT } from '../../bridge/usage.js';
+import { program } from '../../bridge/cli/program.js';
+import { EXIT } from '../../bridge/cli/usage.js';
 import { tool } from '../helpers/which.js';
 import { CLI, ROOT, eventually, health, listen, tempDir } from '../daemon/helpers.js';
 import { type Launched, launch } from './launch.js';

@@ -1,5 +1,5 @@
 /**
- * The corpus index file (bridge/index-file.ts, DEVELOPERS.md "Index file
+ * The corpus index file (bridge/formats/index-file.ts, DEVELOPERS.md "Index file
  * format") and the flat note arrays it stores (core/flat-notes.ts): a round
  * trip gives back every array and piece; a truncated, damaged, foreign or
  * future file gets an error naming the file and saying how to rebuild.
@@ -15,9 +15,9 @@ import { PITCH_MODES } from '../../core/note.js';
 import { corpusPoints } from '../../core/corpus.js';
 import { flattenNotes, joinNotes, notePoints, pieceNotes } from '../../core/flat-notes.js';
 import { buildTriples, flattenPoints } from '../../core/triple-index.js';
-import { type IndexContents, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta, writeIndexFile } from '../../bridge/index-file.js';
-import { openCorpus } from '../../bridge/open-corpus.js';
-import { UsageError } from '../../bridge/usage.js';
+import { type IndexContents, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta, writeIndexFile } from '../../bridge/formats/index-file.js';
+import { openCorpus } from '../../bridge/corpus/open-corpus.js';
+import { UsageError } from '../../bridge/cli/usage.js';
 import { corpusOf, pieceOf } from '../helpers/corpus.js';
 import { loadChorales } from '../helpers/jsb.js';
 

@@ -11,7 +11,7 @@ import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, truncateSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { MAX_MIDI_BYTES } from '../../bridge/midi-file.js';
+import { MAX_MIDI_BYTES } from '../../bridge/formats/midi-file.js';
 import { CLI, ROOT, tempDir } from '../daemon/helpers.js';
 import { damagedFiles, goodFile, manyNotes } from './damaged-midi.js';
 

@@ -17,10 +17,10 @@ import { join } from 'node:path';
 import { setTimeout as sleep } from 'node:timers/promises';
 import Database from 'better-sqlite3';
 import { describe, expect, it } from 'vitest';
-import { loadCorpusFolder } from '../../bridge/corpus-files.js';
-import { INDEX_NAME } from '../../bridge/index-file.js';
+import { loadCorpusFolder } from '../../bridge/corpus/corpus-files.js';
+import { INDEX_NAME } from '../../bridge/formats/index-file.js';
 import { CLI, ROOT, type SpawnedDaemon, eventually, health, listen, spawnDaemon, tempDir } from '../daemon/helpers.js';
-import type { ScoreEvent } from '../../bridge/events.js';
+import type { ScoreEvent } from '../../contract/events.js';
 import osc from 'osc';
 import { noteBytes, oscSender } from './proc.js';
 

@@ -16,7 +16,7 @@ import { setTimeout as sleep } from 'node:timers/promises';
 import { WebSocket } from 'ws';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { MAX_CLIENTS } from '../../bridge/daemon/web-server.js';
-import { SessionLog } from '../../bridge/session-log.js';
+import { SessionLog } from '../../bridge/formats/session-log.js';
 import { ROOT, type SpawnedDaemon, eventually, health, listen, spawnDaemon } from '../daemon/helpers.js';
 import { fdCount, noteBytes, oscSender, paced, rssMb, udpDrops } from './proc.js';
 import { join } from 'node:path';

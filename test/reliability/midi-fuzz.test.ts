@@ -15,7 +15,7 @@ import { readFileSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { MAX_TRACK_NOTE_EVENTS, MidiFileError, parseMidi } from '../../bridge/midi-file.js';
+import { MAX_TRACK_NOTE_EVENTS, MidiFileError, parseMidi } from '../../bridge/formats/midi-file.js';
 import { ROOT } from '../daemon/helpers.js';
 import { chunk, header, manyNotes } from './damaged-midi.js';
 

@@ -18,9 +18,9 @@ import { type Daemon, startDaemon } from '../../bridge/daemon/daemon.js';
 import type { BadInput, InputCommand } from '../../bridge/daemon/input.js';
 import { OSC_ADDRESSES } from '../../bridge/daemon/osc-messages.js';
 import { type OscReader, oscReader } from '../../bridge/daemon/osc-input.js';
-import type { ScoreEvent } from '../../bridge/events.js';
-import { loadPreset } from '../../bridge/presets.js';
-import { SessionLog } from '../../bridge/session-log.js';
+import type { ScoreEvent } from '../../contract/events.js';
+import { loadPreset } from '../../bridge/formats/presets.js';
+import { SessionLog } from '../../bridge/formats/session-log.js';
 import { WORKER_URL, tempDir, writeCorpus } from '../daemon/helpers.js';
 
 const RUNS = 10_000;

@@ -3,7 +3,7 @@
  * property): random JSON values, presets with one field set to a random
  * value or an extra field, random file contents, and random flag values.
  * Each either gives a preset every field of which is within its documented
- * range (bridge/presets.ts), or a UsageError that names the preset and the
+ * range (bridge/formats/presets.ts), or a UsageError that names the preset and the
  * field or flag — never another exception. JSON is only parsed, never run:
  * a "__proto__" key changes no object's prototype.
  */
@@ -11,9 +11,9 @@ import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { FLAG_OF, MAX_GRID, MAX_WINDOW_BEATS, type Preset, loadPreset, parsePreset, withOverrides } from '../../bridge/presets.js';
+import { FLAG_OF, MAX_GRID, MAX_WINDOW_BEATS, type Preset, loadPreset, parsePreset, withOverrides } from '../../bridge/formats/presets.js';
 import { MAX_BPM, MIN_BPM } from '../../core/clock.js';
-import { UsageError } from '../../bridge/usage.js';
+import { UsageError } from '../../bridge/cli/usage.js';
 import { tempDir } from '../daemon/helpers.js';
 
 const RUNS = 10_000;

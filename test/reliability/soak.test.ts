@@ -15,8 +15,8 @@
 import { join } from 'node:path';
 import { setTimeout as sleep } from 'node:timers/promises';
 import { describe, expect, it } from 'vitest';
-import { loadCorpusFolder } from '../../bridge/corpus-files.js';
-import { SessionLog } from '../../bridge/session-log.js';
+import { loadCorpusFolder } from '../../bridge/corpus/corpus-files.js';
+import { SessionLog } from '../../bridge/formats/session-log.js';
 import { ROOT, eventually, health, melody, spawnDaemon } from '../daemon/helpers.js';
 import { noteBytes, oscSender, rssMb } from './proc.js';
 

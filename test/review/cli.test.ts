@@ -6,8 +6,8 @@ import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { parseMidi as parseWithMidiFile } from 'midi-file';
 import { CAUTION } from '../../core/report.js';
-import { readMidi } from '../../bridge/midi-file.js';
-import { SessionLog } from '../../bridge/session-log.js';
+import { readMidi } from '../../bridge/formats/midi-file.js';
+import { SessionLog } from '../../bridge/formats/session-log.js';
 import { tool } from '../helpers/which.js';
 import { CLI, PIECES, QUOTE, SETTINGS, cli, reviewWorld, type ReviewWorld } from './fixture.js';
 

@@ -5,7 +5,7 @@ import { corpusPoints } from '../../core/corpus.js';
 import { exactMatcher } from '../../core/match.js';
 import { type WindowResult, originalityReport } from '../../core/report.js';
 import { excerptPair, folderSeries, worstPairs, worstWindows } from '../../core/review.js';
-import { defaultLogFile } from '../../bridge/paths.js';
+import { defaultLogFile } from '../../bridge/formats/paths.js';
 import { corpusOf, pieceOf } from '../helpers/corpus.js';
 import { notesOf, pointSet, translation } from '../helpers/points.js';
 

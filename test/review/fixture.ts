@@ -15,7 +15,7 @@ import { join, resolve } from 'node:path';
 import { spawnSync } from 'node:child_process';
 import type { Note } from '../../core/note.js';
 import { seededRandom } from '../../core/stats.js';
-import { type LoggedNote, SessionLog } from '../../bridge/session-log.js';
+import { type LoggedNote, SessionLog } from '../../bridge/formats/session-log.js';
 // @ts-expect-error: a plain-JavaScript helper, without type declarations.
 import { deltas, endOfTrack, noteEvents, smf, tempo, track, trackName } from '../helpers/smf.mjs';
 

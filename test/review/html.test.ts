@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { distinctTails, seriesChart } from '../../bridge/html/charts.js';
-import { esc } from '../../bridge/html/page.js';
-import { noteName, transposedText } from '../../bridge/html/piano-roll.js';
-import { clock } from '../../bridge/html/review-page.js';
+import { distinctTails, seriesChart } from '../../bridge/cli/html/charts.js';
+import { esc } from '../../bridge/cli/html/page.js';
+import { noteName, transposedText } from '../../bridge/cli/html/piano-roll.js';
+import { clock } from '../../bridge/cli/html/review-page.js';
 
 describe('page pieces', () => {
   it('escapes everything a title or path could smuggle into HTML or an attribute', () => {

@@ -5,8 +5,8 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parseMidi as parseWithMidiFile } from 'midi-file';
 import type { Note } from '../../core/note.js';
-import { midiBytes, tracksByChannel } from '../../bridge/midi-write.js';
-import { parseMidi } from '../../bridge/midi-file.js';
+import { midiBytes, tracksByChannel } from '../../bridge/formats/midi-write.js';
+import { parseMidi } from '../../bridge/formats/midi-file.js';
 import { tool } from '../helpers/which.js';
 
 const midicsv = tool('midicsv', 'midicsv');

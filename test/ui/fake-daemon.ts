@@ -15,9 +15,9 @@
  *   await d.stop();
  */
 import { join } from 'node:path';
-import { packageRoot } from '../../bridge/daemon/package-root.js';
+import { packageRoot } from '../../bridge/formats/package-root.js';
 import { type WebServer, startWebServer } from '../../bridge/daemon/web-server.js';
-import type { DaemonEvent, HelloEvent } from '../../bridge/events.js';
+import type { DaemonEvent, HelloEvent } from '../../contract/events.js';
 
 export const UI_DIST = join(packageRoot(), 'ui', 'dist');
 

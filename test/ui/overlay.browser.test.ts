@@ -11,7 +11,7 @@ import { join } from 'node:path';
 import osc from 'osc';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
-import type { ExcerptNote, HelloEvent, NoteEvent, ScoreEvent, WarningEvent } from '../../bridge/events.js';
+import type { ExcerptNote, HelloEvent, NoteEvent, ScoreEvent, WarningEvent } from '../../contract/events.js';
 import { ROOT, type SpawnedDaemon, spawnDaemon } from '../daemon/helpers.js';
 import { browserSuite, hasChromium, launchChromium, watchPage } from './browser.js';
 import { type FakeDaemon, fakeDaemon } from './fake-daemon.js';

@@ -7,11 +7,11 @@
  * @example
  *   writeFileSync('review.html', reviewHtml(review, baseline));
  */
-import type { PitchMode } from '../../core/note.js';
-import type { MatchMode } from '../../core/match-mode.js';
-import type { Baseline, WindowResult } from '../../core/report.js';
-import type { ExcerptPair } from '../../core/review.js';
-import type { LoggedNote, LoggedWarning } from '../session-log.js';
+import type { PitchMode } from '../../../core/note.js';
+import type { MatchMode } from '../../../core/match-mode.js';
+import type { Baseline, WindowResult } from '../../../core/report.js';
+import type { ExcerptPair } from '../../../core/review.js';
+import type { LoggedNote, LoggedWarning } from '../../formats/session-log.js';
 import { beat, pct, signed } from '../report-text.js';
 import { scoreTimeline } from './charts.js';
 import { type Figure, esc, page, scoringText, section } from './page.js';

@@ -1,8 +1,8 @@
 import type { Command } from 'commander';
-import { type PitchMode, toPoints } from '../../core/note.js';
-import { cardinalityScore } from '../../core/cardinality.js';
-import { CAUTION } from '../../core/report.js';
-import { readMidi } from '../midi-file.js';
+import { type PitchMode, toPoints } from '../../../core/note.js';
+import { cardinalityScore } from '../../../core/cardinality.js';
+import { CAUTION } from '../../../core/report.js';
+import { readMidi } from '../../formats/midi-file.js';
 import { pitchOption, printJson } from '../options.js';
 
 export function registerScore(cli: Command): void {

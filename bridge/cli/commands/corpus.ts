@@ -1,6 +1,6 @@
 /**
  * `earwitness corpus build DIR`: reads every MIDI file under DIR in worker
- * threads and writes the corpus index (bridge/index-file.ts). A rebuild
+ * threads and writes the corpus index (bridge/formats/index-file.ts). A rebuild
  * reuses each file whose size and mtime, or failing those its content hash,
  * are unchanged, and re-reads only the rest. A file that cannot be read, or
  * takes longer than --file-seconds, is listed with its reason, never fatal.
@@ -14,16 +14,16 @@ import { availableParallelism } from 'node:os';
 import { join, relative, sep } from 'node:path';
 import { Worker } from 'node:worker_threads';
 import type { Command } from 'commander';
-import { PITCH_MODES } from '../../core/note.js';
-import { type FlatNotes, joinNotes, notePoints } from '../../core/flat-notes.js';
-import { CORPUS_TRIPLES, buildTriples } from '../../core/triple-index.js';
-import { findMidiFiles } from '../corpus-files.js';
-import { type FileFingerprint, type IndexContents, type PieceInfo, INDEX_NAME, IndexFileError, readIndexFile, writeIndexFile } from '../index-file.js';
-import { type ParseTask, type ParsedFile, fileHash } from '../build-worker.js';
+import { PITCH_MODES } from '../../../core/note.js';
+import { type FlatNotes, joinNotes, notePoints } from '../../../core/flat-notes.js';
+import { CORPUS_TRIPLES, buildTriples } from '../../../core/triple-index.js';
+import { findMidiFiles } from '../../corpus/corpus-files.js';
+import { type FileFingerprint, type IndexContents, type PieceInfo, INDEX_NAME, IndexFileError, readIndexFile, writeIndexFile } from '../../formats/index-file.js';
+import { type ParseTask, type ParsedFile, fileHash } from '../../corpus/build-worker.js';
 import { printJson } from '../options.js';
-import { type Baseline, CAUTION, humanBaseline } from '../../core/report.js';
-import { openCorpus } from '../open-corpus.js';
-import { BUILT_IN_PRESETS, loadPreset } from '../presets.js';
+import { type Baseline, CAUTION, humanBaseline } from '../../../core/report.js';
+import { openCorpus } from '../../corpus/open-corpus.js';
+import { BUILT_IN_PRESETS, loadPreset } from '../../formats/presets.js';
 import { type ProgressFn, progressBar } from '../progress.js';
 import { UsageError, positive, wholeNumber } from '../usage.js';
 
@@ -80,7 +80,7 @@ const portable = (p: string): string => p.split(sep).join('/');
 /** Reads files in a pool of worker threads; a worker that overruns `limitMs` on a file is ended and replaced. */
 async function parseAll(tasks: ParseTask[], limitMs: number, progress: ProgressFn): Promise<ParsedFile[]> {
   const results: ParsedFile[] = new Array(tasks.length);
-  const url = new URL('../build-worker.js', import.meta.url);
+  const url = new URL('../../corpus/build-worker.js', import.meta.url);
   let next = 0;
   let done = 0;
   const runOne = (worker: Worker, task: ParseTask): Promise<ParsedFile | string> =>

@@ -9,8 +9,8 @@
  *   scoreTimeline({ windows, beats: 96, threshold: 0.6, band: null, warnings: [], picks: [] })
  *   // → '<svg …>…</svg><ul class="legend">…</ul>'
  */
-import type { WindowResult } from '../../core/report.js';
-import type { SeriesPoint } from '../../core/review.js';
+import type { WindowResult } from '../../../core/report.js';
+import type { SeriesPoint } from '../../../core/review.js';
 import { beat, pct, signed } from '../report-text.js';
 import { COLOUR, esc } from './page.js';
 

@@ -8,14 +8,14 @@
  * @example
  *   writeReportHtml('report.html', { report, queries, corpus: view, source: 'corpus/', mode: EXACT_MODE, baseline: null });
  */
-import type { Note } from '../../core/note.js';
-import type { CorpusPoints } from '../../core/corpus.js';
-import type { MatchMode } from '../../core/match-mode.js';
-import { notesLength } from '../../core/corpus.js';
-import type { OriginalityReport } from '../../core/report.js';
-import { DEFAULT_WORST, folderSeries, worstPairs } from '../../core/review.js';
-import { type BaselineFile, checkBaselineFits } from '../baseline-file.js';
-import { writeOutputFile } from '../output-file.js';
+import type { Note } from '../../../core/note.js';
+import type { CorpusPoints } from '../../../core/corpus.js';
+import type { MatchMode } from '../../../core/match-mode.js';
+import { notesLength } from '../../../core/corpus.js';
+import type { OriginalityReport } from '../../../core/report.js';
+import { DEFAULT_WORST, folderSeries, worstPairs } from '../../../core/review.js';
+import { type BaselineFile, checkBaselineFits } from '../../formats/baseline-file.js';
+import { writeOutputFile } from '../../formats/output-file.js';
 import { pct } from '../report-text.js';
 import { seriesChart, sparkline } from './charts.js';
 import { type Figure, esc, page, scoringText, section } from './page.js';

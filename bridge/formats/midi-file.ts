@@ -17,10 +17,10 @@
  */
 import { readFileSync, statSync } from 'node:fs';
 import tonejs from '@tonejs/midi';
-import type { Note } from '../core/note.js';
-import { type Key, estimateKey, fifthsOfName, keyFromSignature, spellNotes } from '../core/spelling.js';
-import { type TempoMap, tempoMap } from '../core/tempo.js';
-import { notesLength } from '../core/corpus.js';
+import type { Note } from '../../core/note.js';
+import { type Key, estimateKey, fifthsOfName, keyFromSignature, spellNotes } from '../../core/spelling.js';
+import { type TempoMap, tempoMap } from '../../core/tempo.js';
+import { notesLength } from '../../core/corpus.js';
 
 const { Midi } = tonejs;
 

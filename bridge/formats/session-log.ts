@@ -7,8 +7,8 @@
 import { mkdirSync } from 'node:fs';
 import { dirname } from 'node:path';
 import Database from 'better-sqlite3';
-import type { Note } from '../core/note.js';
-import type { WarnedMatch } from './events.js';
+import type { Note } from '../../core/note.js';
+import type { WarnedMatch } from '../../contract/events.js';
 
 export const LOG_SCHEMA_VERSION = 1;
 const APPLICATION_ID = 0x45574c47; // "EWLG": marks the file as an earwitness log

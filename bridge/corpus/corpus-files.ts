@@ -4,9 +4,9 @@
  */
 import { readdirSync, statSync } from 'node:fs';
 import { join, relative, sep } from 'node:path';
-import type { Corpus, Piece } from '../core/corpus.js';
-import type { QueryInput } from '../core/report.js';
-import { type MidiReadOptions, MidiFileError, readMidi } from './midi-file.js';
+import type { Corpus, Piece } from '../../core/corpus.js';
+import type { QueryInput } from '../../core/report.js';
+import { type MidiReadOptions, MidiFileError, readMidi } from '../formats/midi-file.js';
 
 export const isMidiPath = (p: string): boolean => /\.midi?$/i.test(p);
 

@@ -16,8 +16,8 @@
  *   writeFileSync('take.mid', midiBytes([{ name: 'channel 1', channel: 1, notes }], { title: 'session 4', bpm: 96 }));
  *   tracksByChannel(notes, (ch) => `channel ${ch}`)   // → one track per MIDI channel used
  */
-import { type Note, GRAINS_PER_BEAT } from '../core/note.js';
-import { DEFAULT_BPM } from '../core/tempo.js';
+import { type Note, GRAINS_PER_BEAT } from '../../core/note.js';
+import { DEFAULT_BPM } from '../../core/tempo.js';
 
 export type WrittenNote = Pick<Note, 'onset' | 'duration' | 'pitch' | 'velocity'>;
 

@@ -13,10 +13,10 @@
 import { createHash } from 'node:crypto';
 import { readFileSync, statSync } from 'node:fs';
 import { parentPort } from 'node:worker_threads';
-import { type FlatNotes, flattenNotes } from '../core/flat-notes.js';
+import { type FlatNotes, flattenNotes } from '../../core/flat-notes.js';
 import { readPiece } from './corpus-files.js';
-import type { PieceInfo } from './index-file.js';
-import { MAX_MIDI_BYTES, MidiFileError } from './midi-file.js';
+import type { PieceInfo } from '../formats/index-file.js';
+import { MAX_MIDI_BYTES, MidiFileError } from '../formats/midi-file.js';
 
 export interface ParseTask {
   file: string;

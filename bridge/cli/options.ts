@@ -1,7 +1,7 @@
 /** Options several commands share, so each means the same everywhere. */
 import { Option } from 'commander';
-import { PITCH_MODES } from '../core/note.js';
-import { DEFAULT_WINDOW } from '../core/windows.js';
+import { PITCH_MODES } from '../../core/note.js';
+import { DEFAULT_WINDOW } from '../../core/windows.js';
 import { parseNumber, positive } from './usage.js';
 
 export const pitchOption = () => new Option('--pitch <mode>', 'pitch dimension to match in').choices(PITCH_MODES as string[]).default('chromatic');

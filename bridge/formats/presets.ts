@@ -14,11 +14,11 @@
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { z } from 'zod';
-import { MAX_BPM, MIN_BPM } from '../core/clock.js';
-import { packageRoot } from './daemon/package-root.js';
-import type { Baseline } from '../core/report.js';
+import { MAX_BPM, MIN_BPM } from '../../core/clock.js';
+import { packageRoot } from './package-root.js';
+import type { Baseline } from '../../core/report.js';
 import { INDEX_NAME, IndexFileError, readIndexBaselines } from './index-file.js';
-import { UsageError } from './usage.js';
+import { UsageError } from '../cli/usage.js';
 
 export const BUILT_IN_PRESETS = ['jam', 'livecode', 'record'] as const;
 export const INPUTS = ['midi', 'osc', 'both'] as const;

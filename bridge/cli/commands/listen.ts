@@ -9,13 +9,13 @@
  *   earwitness ports
  */
 import type { Command } from 'commander';
-import { CAUTION } from '../../core/report.js';
-import { startDaemon } from '../daemon/daemon.js';
-import { DEFAULT_HOST, checkExposure, isWildcard } from '../daemon/access.js';
-import { listPorts } from '../daemon/midi-input.js';
-import { parseOscTarget } from '../daemon/osc-output.js';
-import { defaultLogFile } from '../paths.js';
-import { INPUTS, type Overrides, loadPreset, resolveThreshold, withOverrides } from '../presets.js';
+import { CAUTION } from '../../../core/report.js';
+import { startDaemon } from '../../daemon/daemon.js';
+import { DEFAULT_HOST, checkExposure, isWildcard } from '../../daemon/access.js';
+import { listPorts } from '../../daemon/midi-input.js';
+import { parseOscTarget } from '../../daemon/osc-output.js';
+import { defaultLogFile } from '../../formats/paths.js';
+import { INPUTS, type Overrides, loadPreset, resolveThreshold, withOverrides } from '../../formats/presets.js';
 import { printJson } from '../options.js';
 import { UsageError, parseNumber } from '../usage.js';
 

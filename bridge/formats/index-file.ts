@@ -17,11 +17,11 @@ import { closeSync, fstatSync, openSync, readSync, renameSync, rmSync, writeSync
 import { basename, dirname } from 'node:path';
 import { endianness } from 'node:os';
 import { crc32 } from 'node:zlib';
-import type { PitchMode } from '../core/note.js';
-import type { Piece } from '../core/corpus.js';
-import type { FlatNotes } from '../core/flat-notes.js';
-import type { TripleShape, TriplePostings } from '../core/triple-index.js';
-import type { Baseline } from '../core/report.js';
+import type { PitchMode } from '../../core/note.js';
+import type { Piece } from '../../core/corpus.js';
+import type { FlatNotes } from '../../core/flat-notes.js';
+import type { TripleShape, TriplePostings } from '../../core/triple-index.js';
+import type { Baseline } from '../../core/report.js';
 
 export const INDEX_VERSION = 1;
 /** Default file name inside the corpus folder. */

@@ -9,8 +9,8 @@
  *   pairFigure(pair, { mode: 'chromatic', queryLabel: 'Played' })
  *   // → '<div class="pair">…two <svg> piano rolls…</div>'
  */
-import type { Note, PitchMode } from '../../core/note.js';
-import type { ExcerptPair, MarkedNote } from '../../core/review.js';
+import type { Note, PitchMode } from '../../../core/note.js';
+import type { ExcerptPair, MarkedNote } from '../../../core/review.js';
 import { beat } from '../report-text.js';
 import { COLOUR, esc } from './page.js';
 

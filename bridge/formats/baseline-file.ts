@@ -9,12 +9,12 @@
  *   checkBaselineFits(b, { window: 16, hop: 8, pitch: 'chromatic', mode: EXACT_MODE });
  */
 import { z } from 'zod';
-import { EXACT_MODE, type MatchMode } from '../core/match-mode.js';
-import { PITCH_MODES, type PitchMode } from '../core/note.js';
-import type { Baseline } from '../core/report.js';
-import type { WindowShape } from '../core/windows.js';
+import { EXACT_MODE, type MatchMode } from '../../core/match-mode.js';
+import { PITCH_MODES, type PitchMode } from '../../core/note.js';
+import type { Baseline } from '../../core/report.js';
+import type { WindowShape } from '../../core/windows.js';
 import { readJsonFile } from './json-file.js';
-import { UsageError } from './usage.js';
+import { UsageError } from '../cli/usage.js';
 
 export interface BaselineFile {
   file: string;

@@ -23,16 +23,16 @@
  */
 import { join } from 'node:path';
 import type { Command } from 'commander';
-import { generator, trainChain } from '../../core/markov.js';
-import { CAUTION } from '../../core/report.js';
-import { seededRandom } from '../../core/stats.js';
-import { startDaemon } from '../daemon/daemon.js';
-import { packageRoot } from '../daemon/package-root.js';
-import { startOscPlayer } from '../demo/osc-player.js';
-import { demoTunes } from '../demo/tunes.js';
-import type { WarningEvent } from '../events.js';
-import { defaultLogFile } from '../paths.js';
-import { loadPreset, resolveThreshold } from '../presets.js';
+import { generator, trainChain } from '../../../core/markov.js';
+import { CAUTION } from '../../../core/report.js';
+import { seededRandom } from '../../../core/stats.js';
+import { startDaemon } from '../../daemon/daemon.js';
+import { packageRoot } from '../../formats/package-root.js';
+import { startOscPlayer } from '../../demo/osc-player.js';
+import { demoTunes } from '../../demo/tunes.js';
+import type { WarningEvent } from '../../../contract/events.js';
+import { defaultLogFile } from '../../formats/paths.js';
+import { loadPreset, resolveThreshold } from '../../formats/presets.js';
 import { parseNumber, wholeNumber } from '../usage.js';
 import { DEFAULT_HTTP_PORT, DEFAULT_OSC_PORT, portNumber, stopOnSignals } from './listen.js';
 

@@ -16,16 +16,16 @@
  */
 import { readdirSync, statSync } from 'node:fs';
 import { join, relative, sep } from 'node:path';
-import { type Corpus, type CorpusPoints, type Piece, corpusPoints } from '../core/corpus.js';
-import type { PitchMode, Point } from '../core/note.js';
-import { type WindowMatcher, exactMatcher } from '../core/match.js';
-import { notePoints, pieceNotes } from '../core/flat-notes.js';
-import { type CorpusIndex, type FlatPoints, buildTriples, corpusIndex, flattenPoints, piecePoints } from '../core/triple-index.js';
-import { indexMatcher } from '../core/index-match.js';
+import { type Corpus, type CorpusPoints, type Piece, corpusPoints } from '../../core/corpus.js';
+import type { PitchMode, Point } from '../../core/note.js';
+import { type WindowMatcher, exactMatcher } from '../../core/match.js';
+import { notePoints, pieceNotes } from '../../core/flat-notes.js';
+import { type CorpusIndex, type FlatPoints, buildTriples, corpusIndex, flattenPoints, piecePoints } from '../../core/triple-index.js';
+import { indexMatcher } from '../../core/index-match.js';
 import { type Skipped, findMidiFiles, loadCorpusFolder } from './corpus-files.js';
-import { type IndexContents, type Meta, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta } from './index-file.js';
-import { progressBar } from './progress.js';
-import { UsageError } from './usage.js';
+import { type IndexContents, type Meta, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta } from '../formats/index-file.js';
+import { progressBar } from '../cli/progress.js';
+import { UsageError } from '../cli/usage.js';
 
 export interface OpenedCorpus {
   source: string;

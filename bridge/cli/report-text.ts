@@ -1,5 +1,5 @@
 /** Reports as a person reads them: plain-text tables, and CSV for spreadsheets. */
-import type { Baseline, MatchSummary, OriginalityReport } from '../core/report.js';
+import type { Baseline, MatchSummary, OriginalityReport } from '../../core/report.js';
 
 export const pct = (x: number | null): string => (x === null ? '—' : `${(100 * x).toFixed(1)}%`);
 const ci = (c: [number, number] | null): string => (c ? `95% CI ${pct(c[0])}–${pct(c[1])}` : 'no interval (needs 2 or more queries)');

@@ -22,9 +22,9 @@
  *   // → { "pass": false, "originality": 0.41, "ci95": [0.33, 0.48], "bar": 0.86, "barSource": "baseline", "baseline": {...}, "queries": [...], "caution": "…" }
  */
 import type { Command } from 'commander';
-import type { Baseline, OriginalityReport } from '../../core/report.js';
-import { IndexFileError, readIndexBaselines } from '../index-file.js';
-import { type OpenedCorpus, openCorpus } from '../open-corpus.js';
+import type { Baseline, OriginalityReport } from '../../../core/report.js';
+import { IndexFileError, readIndexBaselines } from '../../formats/index-file.js';
+import { type OpenedCorpus, openCorpus } from '../../corpus/open-corpus.js';
 import { printJson } from '../options.js';
 import { pct } from '../report-text.js';
 import { EXIT, Outcome, UsageError, parseNumber, wholeNumber } from '../usage.js';

@@ -8,10 +8,10 @@
  * @example
  *   page({ title: 'session 4', heading: 'Session 4', lede: 'played …', figures: [{ label: 'notes', value: '412' }], sections: [section('Warnings', table)] })
  */
-import type { MatchMode } from '../../core/match-mode.js';
-import type { PitchMode } from '../../core/note.js';
-import { CAUTION } from '../../core/report.js';
-import type { WindowShape } from '../../core/windows.js';
+import type { MatchMode } from '../../../core/match-mode.js';
+import type { PitchMode } from '../../../core/note.js';
+import { CAUTION } from '../../../core/report.js';
+import type { WindowShape } from '../../../core/windows.js';
 
 /** Okabe–Ito colours by the role they play on these pages. */
 export const COLOUR = {
