@@ -27,7 +27,7 @@ import { percentile } from '../../core/stats.js';
 import { midiBytes } from '../../bridge/formats/midi-write.js';
 import type { ScoreEvent } from '../../contract/events.js';
 import { synthCorpus } from './synthetic.js';
-import { CLI, health, listen, spawnDaemon, tempDir } from '../daemon/helpers.js';
+import { CLI, health, listen, spawnDaemon, tempDir } from '../helpers/daemon.js';
 
 /** The benchmark's own flags: those before a `--`. */
 const own = process.argv.includes('--') ? process.argv.slice(0, process.argv.indexOf('--')) : process.argv;

@@ -19,8 +19,8 @@ import { type MatchMode, modeMatcher } from '../../core/match-mode.js';
 import { DEFAULT_WINDOW, windows } from '../../core/windows.js';
 import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
 import { indexMatcher } from '../../core/index-match.js';
-import { chorales } from '../beyond/material.js';
-import { calibrate, calibrationTables } from '../beyond/calibration.js';
+import { chorales } from '../helpers/material.js';
+import { calibrate, calibrationTables } from '../helpers/calibration.js';
 
 export interface ModeCost {
   mode: string;
