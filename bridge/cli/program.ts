@@ -7,7 +7,8 @@ import { registerDemo } from './commands/demo.js';
 import { registerListen } from './commands/listen.js';
 import { registerReview } from './commands/review.js';
 import { registerScore } from './commands/score.js';
-import { EXIT, Outcome, UsageError } from './usage.js';
+import { EXIT, Outcome } from './usage.js';
+import { UsageError } from '../formats/user-error.js';
 
 export function program(): Command {
   const cli = new Command('earwitness')

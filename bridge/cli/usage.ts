@@ -1,3 +1,5 @@
+import { UsageError } from '../formats/user-error.js';
+
 /** Exit codes, as documented in `--help` and the README. */
 export const EXIT = {
   ok: 0,
@@ -7,13 +9,6 @@ export const EXIT = {
   usage: 2,
 } as const;
 
-/** An error the user can fix from the command line: printed without a stack, exit 2. */
-export class UsageError extends Error {
-  constructor(message: string) {
-    super(message);
-    this.name = 'UsageError';
-  }
-}
 
 /** Thrown by a command once it has printed its result, when that result has an exit code of its own (check: below the bar). */
 export class Outcome extends Error {

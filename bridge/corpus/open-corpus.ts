@@ -25,7 +25,7 @@ import { indexMatcher } from '../../core/index-match.js';
 import { type Skipped, findMidiFiles, loadCorpusFolder } from './corpus-files.js';
 import { type IndexContents, type Meta, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta } from '../formats/index-file.js';
 import { progressBar } from '../cli/progress.js';
-import { UsageError } from '../cli/usage.js';
+import { UsageError } from '../formats/user-error.js';
 
 export interface OpenedCorpus {
   source: string;

@@ -22,7 +22,7 @@ import { type PolicyAction, type PolicyState, initialPolicy, resetPolicy, stepPo
 import type { ClearEvent, DaemonEvent, HelloEvent, NoteEvent, ScoreEvent, WarningEvent } from '../../contract/events.js';
 import type { LivePreset } from '../formats/presets.js';
 import { SessionLog, SessionLogError } from '../formats/session-log.js';
-import { UsageError } from '../cli/usage.js';
+import { UsageError } from '../formats/user-error.js';
 import { badInputLog } from './bad-input.js';
 import type { BadInput, InputCommand } from './input.js';
 import type { LiveNote, LiveVerdict } from './live-scorer.js';

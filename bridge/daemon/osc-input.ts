@@ -21,7 +21,7 @@ import { createSocket } from 'node:dgram';
 import osc, { type OscBundle, type OscMessage } from 'osc';
 import type { BadInput, InputCommand } from './input.js';
 import { decodeMessage } from './osc-messages.js';
-import { UsageError } from '../cli/usage.js';
+import { UsageError } from '../formats/user-error.js';
 
 /** Largest packet read; the daemon's messages are a few dozen bytes. */
 export const MAX_OSC_PACKET = 8192;

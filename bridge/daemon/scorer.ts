@@ -13,7 +13,7 @@
  */
 import { Worker } from 'node:worker_threads';
 import type { LiveNote, LiveVerdict } from './live-scorer.js';
-import { UsageError } from '../cli/usage.js';
+import { UsageError } from '../formats/user-error.js';
 
 export interface WorkerSetup {
   corpus: string;

@@ -31,7 +31,7 @@ import type { DaemonEvent, HelloEvent } from '../../contract/events.js';
 import { CAUTION } from '../../core/report.js';
 import { contentType, staticFile } from './static-files.js';
 import { DEFAULT_HOST, isWildcard, tokenGate, urlHost } from './access.js';
-import { UsageError } from '../cli/usage.js';
+import { UsageError } from '../formats/user-error.js';
 
 export const MAX_URL_LENGTH = 2048;
 export const MAX_CLIENTS = 32;

@@ -14,7 +14,7 @@ import { PITCH_MODES, type PitchMode } from '../../core/note.js';
 import type { Baseline } from '../../core/report.js';
 import type { WindowShape } from '../../core/windows.js';
 import { readJsonFile } from './json-file.js';
-import { UsageError } from '../cli/usage.js';
+import { UsageError } from './user-error.js';
 
 export interface BaselineFile {
   file: string;

@@ -6,7 +6,7 @@
  *   readJsonFile('--baseline', 'baseline.json')   // → the parsed value, not yet checked
  */
 import { readFileSync } from 'node:fs';
-import { UsageError } from '../cli/usage.js';
+import { UsageError } from './user-error.js';
 
 /** `hint` follows the message when the file is not JSON: how to make a good one. */
 export function readJsonFile(option: string, file: string, hint = ''): unknown {

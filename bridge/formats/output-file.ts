@@ -7,7 +7,7 @@
  */
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
-import { UsageError } from '../cli/usage.js';
+import { UsageError } from './user-error.js';
 
 export interface OutputOptions {
   /** Files that must never be overwritten (the session log): what the user recorded is never lost. */

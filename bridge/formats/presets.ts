@@ -18,7 +18,7 @@ import { MAX_BPM, MIN_BPM } from '../../core/clock.js';
 import { packageRoot } from './package-root.js';
 import type { Baseline } from '../../core/report.js';
 import { INDEX_NAME, IndexFileError, readIndexBaselines } from './index-file.js';
-import { UsageError } from '../cli/usage.js';
+import { UsageError } from './user-error.js';
 
 export const BUILT_IN_PRESETS = ['jam', 'livecode', 'record'] as const;
 export const INPUTS = ['midi', 'osc', 'both'] as const;

@@ -27,7 +27,8 @@ import { IndexFileError, readIndexBaselines } from '../../formats/index-file.js'
 import { type OpenedCorpus, openCorpus } from '../../corpus/open-corpus.js';
 import { printJson } from '../options.js';
 import { pct } from '../report-text.js';
-import { EXIT, Outcome, UsageError, parseNumber, wholeNumber } from '../usage.js';
+import { EXIT, Outcome, parseNumber, wholeNumber } from '../usage.js';
+import { UsageError } from '../../formats/user-error.js';
 import { type CorpusFlags, computeBaseline, corpusCommand, modeOf, readQueries, scoreQueries } from './report.js';
 
 interface CheckFlags extends CorpusFlags {

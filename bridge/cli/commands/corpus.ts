@@ -25,7 +25,8 @@ import { type Baseline, CAUTION, humanBaseline } from '../../../core/report.js';
 import { openCorpus } from '../../corpus/open-corpus.js';
 import { BUILT_IN_PRESETS, loadPreset } from '../../formats/presets.js';
 import { type ProgressFn, progressBar } from '../progress.js';
-import { UsageError, positive, wholeNumber } from '../usage.js';
+import { positive, wholeNumber } from '../usage.js';
+import { UsageError } from '../../formats/user-error.js';
 
 /** "8,16" → [8, 16]: positive beat counts. */
 function beatList(v: string): number[] {

@@ -17,7 +17,8 @@ import { parseOscTarget } from '../../daemon/osc-output.js';
 import { defaultLogFile } from '../../formats/paths.js';
 import { INPUTS, type Overrides, loadPreset, resolveThreshold, withOverrides } from '../../formats/presets.js';
 import { printJson } from '../options.js';
-import { UsageError, parseNumber } from '../usage.js';
+import { parseNumber } from '../usage.js';
+import { UsageError } from '../../formats/user-error.js';
 
 export const DEFAULT_OSC_PORT = 9750;
 export const DEFAULT_HTTP_PORT = 9751;

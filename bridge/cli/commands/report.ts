@@ -12,7 +12,8 @@ import { writeReportHtml } from '../html/report-page.js';
 import { hopOption, pitchOption, printJson, tempoFreeOption, toleranceOption, windowOption } from '../options.js';
 import { progressBar } from '../progress.js';
 import { baselineText, reportCsv, reportText } from '../report-text.js';
-import { UsageError, wholeNumber } from '../usage.js';
+import { wholeNumber } from '../usage.js';
+import { UsageError } from '../../formats/user-error.js';
 
 /** The flags of every command that scores against a corpus (report, baseline, check). */
 export interface CorpusFlags {

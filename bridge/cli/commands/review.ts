@@ -33,7 +33,8 @@ import { writeOutputFile } from '../../formats/output-file.js';
 import { defaultLogFile } from '../../formats/paths.js';
 import { beat, pct } from '../report-text.js';
 import { type LoggedNote, type LoggedWarning, type SessionSummary, SessionLog } from '../../formats/session-log.js';
-import { UsageError, wholeNumber } from '../usage.js';
+import { wholeNumber } from '../usage.js';
+import { UsageError } from '../../formats/user-error.js';
 
 const logOption = `session log (default: ${defaultLogFile()})`;
 

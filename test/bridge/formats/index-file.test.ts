@@ -17,7 +17,7 @@ import { flattenNotes, joinNotes, notePoints, pieceNotes } from '../../../core/f
 import { buildTriples, flattenPoints } from '../../../core/triple-index.js';
 import { type IndexContents, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta, writeIndexFile } from '../../../bridge/formats/index-file.js';
 import { openCorpus } from '../../../bridge/corpus/open-corpus.js';
-import { UsageError } from '../../../bridge/cli/usage.js';
+import { UsageError } from '../../../bridge/formats/user-error.js';
 import { corpusOf, pieceOf } from '../../helpers/corpus.js';
 import { loadChorales } from '../../helpers/jsb.js';
 

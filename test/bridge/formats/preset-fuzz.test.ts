@@ -13,7 +13,7 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { FLAG_OF, MAX_GRID, MAX_WINDOW_BEATS, type Preset, loadPreset, parsePreset, withOverrides } from '../../../bridge/formats/presets.js';
 import { MAX_BPM, MIN_BPM } from '../../../core/clock.js';
-import { UsageError } from '../../../bridge/cli/usage.js';
+import { UsageError } from '../../../bridge/formats/user-error.js';
 import { tempDir } from '../../helpers/daemon.js';
 
 const RUNS = 10_000;
