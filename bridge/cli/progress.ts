@@ -18,6 +18,9 @@ export function progressBar(label: string): { tick: ProgressFn; stop: () => void
       }
       bar.update(done);
     },
-    stop: () => started && bar.stop(),
+    stop: () => {
+      if (started) bar.stop();
+      started = false;
+    },
   };
 }

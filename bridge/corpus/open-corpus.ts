@@ -24,7 +24,6 @@ import { type CorpusIndex, type FlatPoints, buildTriples, corpusIndex, flattenPo
 import { indexMatcher } from '../../core/index-match.js';
 import { type Skipped, findMidiFiles, loadCorpusFolder } from './corpus-files.js';
 import { type IndexContents, type Meta, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta } from '../formats/index-file.js';
-import { progressBar } from '../cli/progress.js';
 import { UsageError } from '../formats/user-error.js';
 
 export interface OpenedCorpus {
@@ -54,6 +53,14 @@ export interface OpenOptions {
    * rebuilt or deleted while it listens.
    */
   deferNotes?: boolean;
+  /** Told how far reading a folder file by file has got. */
+  progress?: (done: number, total: number) => void;
+  /**
+   * Told, as it happens, each thing the user should hear about: a file
+   * skipped and why, an out-of-date index not used. Nothing is printed here;
+   * the CLI prints these lines.
+   */
+  notify?: (line: string) => void;
 }
 
 /** Why a folder's index is not current, or null when it is. */
@@ -127,10 +134,8 @@ function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
 }
 
 function fromFolder(dir: string, options: OpenOptions): OpenedCorpus {
-  const bar = progressBar('reading corpus');
-  const { corpus, skipped } = loadCorpusFolder(dir, { percussion: options.percussion, progress: bar.tick });
-  bar.stop();
-  for (const s of skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
+  const { corpus, skipped } = loadCorpusFolder(dir, { percussion: options.percussion, progress: options.progress });
+  for (const s of skipped) options.notify?.(`skipped ${s.file}: ${s.error}`);
   if (corpus.pieces.length === 0) throw new UsageError(`--corpus ${dir}: holds no readable MIDI file with notes`);
   const built = new Map<PitchMode, CorpusIndex>();
   return {
@@ -163,7 +168,7 @@ export function openCorpus(path: string, options: OpenOptions = {}): OpenedCorpu
     why = e.reason;
   }
   if (why === null) return fromIndex(file, options);
-  process.stderr.write(`earwitness: not using ${file} (${why}); reading the MIDI files instead. Run "earwitness corpus build ${path}" to bring the index up to date.\n`);
+  options.notify?.(`not using ${file} (${why}); reading the MIDI files instead. Run "earwitness corpus build ${path}" to bring the index up to date.`);
   return fromFolder(path, options);
 }
 

@@ -54,7 +54,7 @@ export interface DaemonOptions {
   workerUrl?: URL;
   /** The overlay's files; defaults to ui/dist in the package. */
   uiDir?: string;
-  /** Where one-line notices go (bad input, a crashed worker). */
+  /** Where one-line notices go (bad input, a crashed worker, a corpus file skipped); the CLI prints them. Default: dropped. */
   notice?: (line: string) => void;
 }
 
@@ -81,7 +81,7 @@ export const HISTORY_EVENTS = 240;
 
 export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
   const preset = options.preset;
-  const notice = options.notice ?? ((line: string) => process.stderr.write(`${line}\n`));
+  const notice = options.notice ?? (() => {});
   const startedAt = Date.now();
   const cleanup: (() => unknown)[] = [];
   const undo = async (): Promise<void> => {
@@ -172,6 +172,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     ({ scorer, corpus } = await startScorer({ corpus: options.corpus, windowBeats: preset.window, grid: preset.grid, tolerance: preset.tolerance }, onVerdict, {
       workerUrl: options.workerUrl,
       onCrash: (message) => notice(`earwitness: the scoring worker failed (${message}); started a fresh one, the window starts empty`),
+      onNotice: (line) => notice(`earwitness: ${line}`),
     }));
   } catch (e) {
     await undo();

@@ -23,7 +23,7 @@ const post = (m: FromWorker): void => port.postMessage(m);
 let scorer: LiveScorer;
 try {
   // Everything read now: the index file may be rebuilt or deleted while the daemon listens.
-  const opened = openCorpus(setup.corpus, { deferNotes: false });
+  const opened = openCorpus(setup.corpus, { deferNotes: false, notify: (line) => post({ type: 'notice', line }) });
   const { source, corpus } = opened;
   scorer = liveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance }, opened.index('chromatic'));
   post({ type: 'ready', corpus: { source, pieces: corpus.pieces.length, notes: corpus.pieces.reduce((s, p) => s + p.notes.length, 0) } });

@@ -24,7 +24,8 @@
 import type { Command } from 'commander';
 import type { Baseline, OriginalityReport } from '../../../core/report.js';
 import { IndexFileError, readIndexBaselines } from '../../formats/index-file.js';
-import { type OpenedCorpus, openCorpus } from '../../corpus/open-corpus.js';
+import type { OpenedCorpus } from '../../corpus/open-corpus.js';
+import { openCorpusTold } from '../notices.js';
 import { printJson } from '../options.js';
 import { pct } from '../report-text.js';
 import { EXIT, Outcome, parseNumber, wholeNumber } from '../usage.js';
@@ -126,7 +127,7 @@ export function registerCheck(cli: Command): void {
     .action((paths: string[], o: CheckFlags) => {
       if (o.minOriginality === undefined && !o.againstBaseline) throw new UsageError('check needs a bar: give --min-originality X (0 to 1) or --against-baseline');
       if (o.minOriginality !== undefined && o.againstBaseline) throw new UsageError('check takes one bar: give --min-originality or --against-baseline, not both');
-      const opened = openCorpus(o.corpus, o);
+      const opened = openCorpusTold(o.corpus, o);
       const { queries, skipped } = readQueries(paths, o);
       if (skipped.length) throw new UsageError(`check judges every query or none: ${skipped.length} of ${skipped.length + queries.length} query files cannot be read (${skipped.map((s) => s.file).join(', ')}); fix or remove them`);
       const { report } = scoreQueries(opened, queries, o);

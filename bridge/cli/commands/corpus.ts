@@ -22,7 +22,7 @@ import { type FileFingerprint, type IndexContents, type PieceInfo, INDEX_NAME, I
 import { type ParseTask, type ParsedFile, fileHash } from '../../corpus/build-worker.js';
 import { printJson } from '../options.js';
 import { type Baseline, CAUTION, humanBaseline } from '../../../core/report.js';
-import { openCorpus } from '../../corpus/open-corpus.js';
+import { openCorpusTold } from '../notices.js';
 import { BUILT_IN_PRESETS, loadPreset } from '../../formats/presets.js';
 import { type ProgressFn, progressBar } from '../progress.js';
 import { positive, wholeNumber } from '../usage.js';
@@ -64,7 +64,7 @@ export const presetWindows = (): number[] => [...new Set(BUILT_IN_PRESETS.map((n
  * the live presets compare with (with a tolerance the scores of quantised corpus pieces barely change; DEVELOPERS.md).
  */
 function baselinesOf(out: string, percussion: boolean, request: BaselineRequest): Baseline[] {
-  const opened = openCorpus(out, { percussion, pitch: 'chromatic' });
+  const opened = openCorpusTold(out, { percussion, pitch: 'chromatic' });
   const view = opened.view('chromatic');
   const bar = progressBar('baseline');
   const made = request.windows.map((window, i) => {

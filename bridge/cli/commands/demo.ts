@@ -32,6 +32,7 @@ import { startOscPlayer } from '../../demo/osc-player.js';
 import { demoTunes } from '../../demo/tunes.js';
 import type { WarningEvent } from '../../../contract/events.js';
 import { defaultLogFile } from '../../formats/paths.js';
+import { printNotice } from '../notices.js';
 import { loadPreset, resolveThreshold } from '../../formats/presets.js';
 import { parseNumber, wholeNumber } from '../usage.js';
 import { DEFAULT_HTTP_PORT, DEFAULT_OSC_PORT, portNumber, stopOnSignals } from './listen.js';
@@ -76,6 +77,7 @@ export function registerDemo(cli: Command): void {
         oscOut: null,
         midi: { input: null, thru: null, channels: null },
         log,
+        notice: printNotice,
       });
       const s = daemon.status;
       const oscPort = s.osc!.port;

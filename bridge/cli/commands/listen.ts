@@ -15,6 +15,7 @@ import { DEFAULT_HOST, checkExposure, isWildcard } from '../../daemon/access.js'
 import { listPorts } from '../../daemon/midi-input.js';
 import { parseOscTarget } from '../../daemon/osc-output.js';
 import { defaultLogFile } from '../../formats/paths.js';
+import { printNotice } from '../notices.js';
 import { INPUTS, type Overrides, loadPreset, resolveThreshold, withOverrides } from '../../formats/presets.js';
 import { printJson } from '../options.js';
 import { parseNumber } from '../usage.js';
@@ -112,6 +113,7 @@ export function registerListen(cli: Command): void {
         oscOut: o.oscOut === undefined ? null : parseOscTarget(o.oscOut),
         midi: { input: o.midiIn ?? null, thru: o.thru ?? null, channels: o.channels ?? null },
         log,
+        notice: printNotice,
       });
       const s = daemon.status;
       const midiLine = s.midi.available

@@ -6,7 +6,8 @@ import { type Baseline, type OriginalityReport, type QueryInput, humanBaseline, 
 import type { CorpusPoints } from '../../../core/corpus.js';
 import type { WindowMatcher } from '../../../core/match.js';
 import { loadQueries } from '../../corpus/corpus-files.js';
-import { type OpenedCorpus, openCorpus } from '../../corpus/open-corpus.js';
+import type { OpenedCorpus } from '../../corpus/open-corpus.js';
+import { openCorpusTold } from '../notices.js';
 import { type BaselineFile, checkBaselineFits, readBaselineFile } from '../../formats/baseline-file.js';
 import { writeReportHtml } from '../html/report-page.js';
 import { hopOption, pitchOption, printJson, tempoFreeOption, toleranceOption, windowOption } from '../options.js';
@@ -89,7 +90,7 @@ export function registerReport(cli: Command): void {
     .option('--baseline <file>', 'human baseline JSON (from "earwitness baseline --json") to show beside it in the HTML', readBaselineFile)
     .action((paths: string[], o: CorpusFlags & { csv?: string; html?: string; baseline?: BaselineFile }) => {
       if (o.baseline) checkBaselineFits(o.baseline, { ...o, mode: modeOf(o) });
-      const opened = openCorpus(o.corpus, o);
+      const opened = openCorpusTold(o.corpus, o);
       const { queries, skipped } = readQueries(paths, o);
       const { view, report } = scoreQueries(opened, queries, o);
       if (o.csv) writeFileSync(o.csv, reportCsv(report));
@@ -102,7 +103,7 @@ export function registerReport(cli: Command): void {
     .option('--samples <n>', 'how many pieces to sample', wholeNumber('--samples'), 50)
     .option('--seed <n>', 'seed of the sample and the bootstrap', wholeNumber('--seed'), 1)
     .action((o: CorpusFlags & { samples: number }) => {
-      const b = computeBaseline(openCorpus(o.corpus, o), o);
+      const b = computeBaseline(openCorpusTold(o.corpus, o), o);
       if (o.json) printJson({ ...b, mode: modeOf(o) });
       else process.stdout.write(baselineText(b) + '\n');
     });

@@ -27,7 +27,8 @@ import { type BaselineFile, checkBaselineFits, readBaselineFile } from '../../fo
 import { describeWindow } from '../html/charts.js';
 import { type ReviewSettings, type SessionReview, clock, reviewHtml } from '../html/review-page.js';
 import { midiBytes, tracksByChannel } from '../../formats/midi-write.js';
-import { type OpenedCorpus, openCorpus } from '../../corpus/open-corpus.js';
+import type { OpenedCorpus } from '../../corpus/open-corpus.js';
+import { openCorpusTold } from '../notices.js';
 import { printJson } from '../options.js';
 import { writeOutputFile } from '../../formats/output-file.js';
 import { defaultLogFile } from '../../formats/paths.js';
@@ -126,9 +127,9 @@ function sessionSettings(file: string, summary: SessionSummary): ReviewSettings 
 }
 
 function openSessionCorpus(summary: SessionSummary, override: string | undefined, pitch: PitchMode): OpenedCorpus {
-  if (override) return openCorpus(override, { pitch });
+  if (override) return openCorpusTold(override, { pitch });
   try {
-    return openCorpus(summary.corpus, { pitch });
+    return openCorpusTold(summary.corpus, { pitch });
   } catch (e) {
     if (!(e instanceof UsageError)) throw e;
     throw new UsageError(`session ${summary.id} was heard against the corpus ${summary.corpus}, which cannot be opened now (${e.message}); pass --corpus PATH to review it against a copy elsewhere`);
