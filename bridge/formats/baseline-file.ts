@@ -15,6 +15,7 @@ import type { Baseline } from '../../core/report.js';
 import type { WindowShape } from '../../core/windows.js';
 import { readJsonFile } from './json-file.js';
 import { UsageError } from './user-error.js';
+import { readSaved } from './saved.js';
 
 export interface BaselineFile {
   file: string;
@@ -22,29 +23,40 @@ export interface BaselineFile {
   mode: MatchMode;
 }
 
-const unit = z.number().min(0).max(1);
-const interval = z.tuple([unit, unit]).nullable();
-const schema = z.object({
-  originality: unit.nullable(),
+const unit = z.number().min(0).max(1).describe('a number from 0 to 1');
+const interval = z.tuple([unit, unit]).nullable().describe('[low, high], two numbers from 0 to 1, or null');
+/**
+ * One human baseline as `baseline --json` writes it and the index's BASE
+ * section stores it (bridge/formats/index-file.ts): the schema both readers check.
+ */
+export const baselineSchema = z.object({
+  originality: unit.nullable().describe('a number from 0 to 1, or null'),
   ci95: interval,
-  samples: z.array(z.string()),
-  windows: z.number().int().min(0),
+  samples: z.array(z.string()).describe('a list of the sampled pieces\' paths'),
+  windows: z.number().int().min(0).describe('a whole number of windows'),
   percentiles: z.object({ p50: unit, p90: unit, p95: unit, p99: unit }),
-  settings: z.object({ window: z.number().positive(), hop: z.number().positive(), pitch: z.enum(PITCH_MODES as [PitchMode, ...PitchMode[]]), seed: z.number() }),
-  caution: z.string(),
-  // Written by `baseline --json` since matching modes came; a file without it was matched exactly.
-  mode: z.object({ tolerance: z.number().min(0), tempoFree: z.boolean() }).optional(),
+  settings: z.object({
+    window: z.number().positive().describe('a positive number of beats'),
+    hop: z.number().positive().describe('a positive number of beats'),
+    pitch: z.enum(PITCH_MODES as [PitchMode, ...PitchMode[]]).describe(`one of ${PITCH_MODES.join(', ')}`),
+    seed: z.number().describe('a number'),
+  }),
+  caution: z.string().describe('text'),
 });
 
-/** Reads and checks a baseline file; every problem names the file and the field. */
+/** The baseline file: a baseline, and since matching modes came the mode it was matched in (a file without one was matched exactly). */
+export const baselineFileSchema = baselineSchema.extend({
+  mode: z.object({ tolerance: z.number().min(0).describe('a number of beats ≥ 0'), tempoFree: z.boolean().describe('true or false') }).optional(),
+});
+
+export type SavedBaseline = z.infer<typeof baselineSchema>;
+
+/** Reads and checks a baseline file; a problem names the file, the field, what was there and what was expected, and how to make a good one. */
 export function readBaselineFile(file: string): BaselineFile {
-  const json = readJsonFile('--baseline', file, `save one with "earwitness baseline --json --corpus PATH > ${file}"`);
-  const parsed = schema.safeParse(json);
-  if (!parsed.success) {
-    const issue = parsed.error.issues[0];
-    throw new UsageError(`--baseline ${file}: field ${issue.path.join('.') || '(top level)'}: ${issue.message} (expected the output of "earwitness baseline --json")`);
-  }
-  const { mode, ...baseline } = parsed.data;
+  const fix = `save one with "earwitness baseline --json --corpus PATH > ${file}"`;
+  const json = readJsonFile('--baseline', file, fix);
+  const { mode, ...baseline } = readSaved(baselineFileSchema, json, (p) =>
+    new UsageError(`--baseline ${file}: field ${p.field}: got ${p.got}; allowed: ${p.expected}; expected the output of "earwitness baseline --json": ${fix}`));
   return { file, baseline, mode: mode ?? EXACT_MODE };
 }
 

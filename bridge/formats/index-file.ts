@@ -17,11 +17,14 @@ import { closeSync, fstatSync, openSync, readSync, renameSync, rmSync, writeSync
 import { basename, dirname } from 'node:path';
 import { endianness } from 'node:os';
 import { crc32 } from 'node:zlib';
-import type { PitchMode } from '../../core/note.js';
+import { z } from 'zod';
+import { PITCH_MODES, type PitchMode } from '../../core/note.js';
 import type { Piece } from '../../core/corpus.js';
 import type { FlatNotes } from '../../core/flat-notes.js';
 import type { TripleShape, TriplePostings } from '../../core/triple-index.js';
 import type { Baseline } from '../../core/report.js';
+import { baselineSchema } from './baseline-file.js';
+import { type SavedProblem, readSaved } from './saved.js';
 
 export const INDEX_VERSION = 1;
 /** Default file name inside the corpus folder. */
@@ -33,17 +36,18 @@ const ENTRY_BYTES = 24;
 
 export type PieceInfo = Omit<Piece, 'notes'>;
 
-/** What `corpus build` remembers of each MIDI file, to skip it next time when unchanged. */
-export interface FileFingerprint {
+/** What `corpus build` remembers of each MIDI file (in META), to skip it next time when unchanged. */
+const fileFingerprintSchema = z.object({
   /** Path relative to the corpus folder. */
-  path: string;
-  size: number;
-  mtimeMs: number;
+  path: z.string().describe('a path inside the corpus folder'),
+  size: z.number().int().min(0).describe('a size in bytes'),
+  mtimeMs: z.number().describe('a modification time in ms'),
   /** SHA-256 of the content; null for a file too large to read. */
-  sha256: string | null;
+  sha256: z.string().nullable().describe('a SHA-256 in hex, or null'),
   /** Why the file is not in the index, or null when it is. */
-  error: string | null;
-}
+  error: z.string().nullable().describe('the reason the file was skipped, or null'),
+});
+export type FileFingerprint = z.infer<typeof fileFingerprintSchema>;
 
 export type ModePostings = Pick<TriplePostings, 'keys' | 'starts' | 'anchors'>;
 
@@ -87,13 +91,35 @@ const POSTING_SECTIONS: [string, keyof ModePostings, TypedCtor][] = [
   ['ANC', 'anchors', Uint32Array],
 ];
 
-export interface Meta {
-  shape: TripleShape;
-  percussion: boolean;
-  pieces: PieceInfo[];
-  files: FileFingerprint[];
-  notes: number;
-  modes: PitchMode[];
+/** The META section's JSON: the schema writeIndexFile's Meta is typed by and readMeta checks. */
+const metaSchema = z.object({
+  shape: z.object({ partners: z.number().int().min(1).describe('a whole number ≥ 1'), horizonBeats: z.number().positive().describe('a positive number of beats') }),
+  percussion: z.boolean().describe('true or false'),
+  pieces: z.array(
+    z.object({
+      path: z.string().describe('a path inside the corpus folder'),
+      title: z.string().nullable().describe('a title, or null'),
+      beats: z.number().min(0).describe('a length in beats'),
+      key: z.object({ tonic: z.string(), mode: z.enum(['major', 'minor']), fifths: z.number().int(), correlation: z.number() }),
+    }),
+  ),
+  files: z.array(fileFingerprintSchema),
+  notes: z.number().int().min(0).describe('a whole number of notes'),
+  modes: z.array(z.enum(PITCH_MODES as [PitchMode, ...PitchMode[]])).describe(`a list of ${PITCH_MODES.join(', ')}`),
+});
+export type Meta = z.infer<typeof metaSchema>;
+
+/** A JSON section's problem, as an IndexFileError: the section, the field, what was there and what was expected. */
+const sectionProblem = (file: string, tag: string) => (p: SavedProblem) =>
+  new IndexFileError(file, `damaged: the ${tag} section's field ${p.field}: got ${p.got}; expected ${p.expected}`);
+
+/** A JSON section's text, parsed; text that is not JSON is an IndexFileError naming the section. */
+function sectionJson(bytes: Uint8Array, file: string, tag: string): unknown {
+  try {
+    return JSON.parse(new TextDecoder().decode(bytes));
+  } catch (e) {
+    throw new IndexFileError(file, `damaged: the ${tag} section is not JSON (${(e as Error).message})`);
+  }
 }
 
 function checkPlatform(): void {
@@ -223,13 +249,7 @@ function readMeta(opened: Opened, file: string): Meta {
   const entry = opened.sections.get('META');
   if (!entry) throw new IndexFileError(file, 'damaged: the META section is missing');
   const bytes = section<Uint8Array>(opened, file, 'META', Uint8Array, entry.length);
-  try {
-    const meta = JSON.parse(new TextDecoder().decode(bytes)) as Meta;
-    if (!Array.isArray(meta.pieces) || !Array.isArray(meta.files) || !Array.isArray(meta.modes) || !Number.isInteger(meta.notes) || !meta.shape) throw new Error('fields missing');
-    return meta;
-  } catch (e) {
-    throw new IndexFileError(file, `damaged: the META section is not the expected JSON (${(e as Error).message})`);
-  }
+  return readSaved(metaSchema, sectionJson(bytes, file, 'META'), sectionProblem(file, 'META'));
 }
 
 function withIndex<T>(file: string, read: (opened: Opened) => T): T {
@@ -323,6 +343,9 @@ export function readIndexFile(file: string, modes: readonly PitchMode[], options
 /** Version of the optional BASE section's JSON, apart from the index's: a reader of the postings need not understand it. */
 export const BASELINE_VERSION = 1;
 
+/** The BASE section's JSON: its version and the baselines, each as a baseline file holds one. */
+const baseSchema = z.object({ version: z.literal(BASELINE_VERSION), baselines: z.array(baselineSchema).describe('a list of baselines') });
+
 /**
  * The human baselines an index holds (empty when it was built without
  * --baseline). The section is checked like any other; a damaged or newer
@@ -332,15 +355,9 @@ export function readIndexBaselines(file: string): Baseline[] {
   return withIndex(file, (opened) => {
     const entry = opened.sections.get('BASE');
     if (!entry) return [];
-    const text = new TextDecoder().decode(section<Uint8Array>(opened, file, 'BASE', Uint8Array, entry.length));
-    let parsed: { version?: unknown; baselines?: unknown };
-    try {
-      parsed = JSON.parse(text) as typeof parsed;
-    } catch (e) {
-      throw new IndexFileError(file, `damaged: the BASE section is not JSON (${(e as Error).message})`);
-    }
-    if (parsed.version !== BASELINE_VERSION) throw new IndexFileError(file, `baseline section version ${String(parsed.version)}; this earwitness reads version ${BASELINE_VERSION}`);
-    if (!Array.isArray(parsed.baselines)) throw new IndexFileError(file, 'damaged: the BASE section holds no list of baselines');
-    return parsed.baselines as Baseline[];
+    const json = sectionJson(section<Uint8Array>(opened, file, 'BASE', Uint8Array, entry.length), file, 'BASE');
+    const version = (json as { version?: unknown } | null)?.version;
+    if (version !== BASELINE_VERSION) throw new IndexFileError(file, `baseline section version ${String(version)}; this earwitness reads version ${BASELINE_VERSION}`);
+    return readSaved(baseSchema, json, sectionProblem(file, 'BASE')).baselines;
   });
 }

@@ -19,6 +19,7 @@ import { packageRoot } from './package-root.js';
 import type { Baseline } from '../../core/report.js';
 import { INDEX_NAME, IndexFileError, readIndexBaselines } from './index-file.js';
 import { UsageError } from './user-error.js';
+import { savedProblem } from './saved.js';
 
 export const BUILT_IN_PRESETS = ['jam', 'livecode', 'record'] as const;
 export const INPUTS = ['midi', 'osc', 'both'] as const;
@@ -70,24 +71,25 @@ export const FLAG_OF: Record<Exclude<PresetField, 'name' | 'description'>, strin
 };
 
 const unit = z.number().min(0).max(1);
+/** The preset file's one schema: what loadPreset and withOverrides check, and the Preset type. */
 export const presetSchema = z
   .object({
-    name: z.string().regex(/^[A-Za-z0-9_-]+$/),
-    description: z.string().min(1),
-    input: z.enum(INPUTS),
-    window: z.number().positive().max(MAX_WINDOW_BEATS),
-    bpm: z.number().min(MIN_BPM).max(MAX_BPM),
-    threshold: z.union([unit, z.literal('auto')]),
-    minNotes: z.number().int().min(1),
-    consecutive: z.number().int().min(1).max(100),
-    hysteresis: unit,
-    warn: z.boolean(),
+    name: z.string().regex(/^[A-Za-z0-9_-]+$/).describe(ALLOWED.name),
+    description: z.string().min(1).describe(ALLOWED.description),
+    input: z.enum(INPUTS).describe(ALLOWED.input),
+    window: z.number().positive().max(MAX_WINDOW_BEATS).describe(ALLOWED.window),
+    bpm: z.number().min(MIN_BPM).max(MAX_BPM).describe(ALLOWED.bpm),
+    threshold: z.union([unit, z.literal('auto')]).describe(ALLOWED.threshold),
+    minNotes: z.number().int().min(1).describe(ALLOWED.minNotes),
+    consecutive: z.number().int().min(1).max(100).describe(ALLOWED.consecutive),
+    hysteresis: unit.describe(ALLOWED.hysteresis),
+    warn: z.boolean().describe(ALLOWED.warn),
     /** Onsets snap to 1/grid beat before scoring (0 = as played), so clock jitter does not break exact matching. */
-    grid: z.number().int().min(0).max(MAX_GRID).refine((g) => g === 0 || 3840 % g === 0),
+    grid: z.number().int().min(0).max(MAX_GRID).refine((g) => g === 0 || 3840 % g === 0).describe(ALLOWED.grid),
     /** Played timing a match allows, beats (DEVELOPERS.md says how the default was measured). */
-    tolerance: z.number().min(0).lt(1).default(LIVE_TOLERANCE),
+    tolerance: z.number().min(0).lt(1).default(LIVE_TOLERANCE).describe(ALLOWED.tolerance),
     /** Matches less distinctive than this never warn. */
-    minDistinctiveness: unit.default(0),
+    minDistinctiveness: unit.default(0).describe(ALLOWED.minDistinctiveness),
   })
   .strict();
 
@@ -97,24 +99,12 @@ export type Preset = z.infer<typeof presetSchema>;
 export type LivePreset = Preset & { threshold: number };
 
 
-const shown = (v: unknown): string => (v === undefined ? 'nothing' : JSON.stringify(v));
-
-/** The first problem zod found, in words: where, what was there, what is allowed. */
-function problem(error: z.ZodError, value: Record<string, unknown>, where: (field: string) => string): string {
-  const issue = error.issues[0];
-  if (issue.code === 'unrecognized_keys') {
-    return `${where(issue.keys[0])}: no such field; the fields are ${Object.keys(ALLOWED).join(', ')}`;
-  }
-  const field = String(issue.path[0]);
-  const allowed = ALLOWED[field as PresetField];
-  return `${where(field)}: got ${shown(value[field])}; allowed: ${allowed}`;
-}
-
 export function parsePreset(value: unknown, source: string): Preset {
   if (typeof value !== 'object' || value === null || Array.isArray(value)) throw new UsageError(`preset ${source}: must be a JSON object with the fields ${Object.keys(ALLOWED).join(', ')}`);
-  const parsed = presetSchema.safeParse(value);
-  if (!parsed.success) throw new UsageError(`preset ${source}: ${problem(parsed.error, value as Record<string, unknown>, (f) => `field "${f}"`)}`);
-  return parsed.data;
+  const p = savedProblem(presetSchema, value);
+  if (!p) return presetSchema.parse(value);
+  if (p.unknown) throw new UsageError(`preset ${source}: field "${p.field}": no such field; the fields are ${Object.keys(ALLOWED).join(', ')}`);
+  throw new UsageError(`preset ${source}: field "${p.field}": got ${p.got}; allowed: ${p.expected}`);
 }
 
 /** A built-in preset by name, or a JSON file by path. */
@@ -149,17 +139,11 @@ export function withOverrides(preset: Preset, overrides: Overrides): Preset {
   const given = Object.entries(overrides).filter(([, v]) => v !== undefined) as [keyof typeof FLAG_OF, string | boolean][];
   const merged: Record<string, unknown> = { ...preset };
   for (const [field, v] of given) merged[field] = flagValue(v);
-  const parsed = presetSchema.safeParse(merged);
-  if (!parsed.success) {
-    const flagged = (f: string) => {
-      const raw = overrides[f as keyof typeof FLAG_OF];
-      return raw === undefined ? `preset ${preset.name}: field "${f}"` : `${FLAG_OF[f as keyof typeof FLAG_OF]} ${raw}`;
-    };
-    const issue = parsed.error.issues[0];
-    const field = String(issue.path[0]);
-    throw new UsageError(`${flagged(field)}: allowed: ${ALLOWED[field as PresetField]}`);
-  }
-  return parsed.data;
+  const p = savedProblem(presetSchema, merged);
+  if (!p) return presetSchema.parse(merged);
+  const raw = overrides[p.field as keyof typeof FLAG_OF];
+  const flagged = raw === undefined ? `preset ${preset.name}: field "${p.field}"` : `${FLAG_OF[p.field as keyof typeof FLAG_OF]} ${raw}`;
+  throw new UsageError(`${flagged}: allowed: ${p.expected}`);
 }
 
 /** The index file a --corpus path opens through, or null when it has none. */

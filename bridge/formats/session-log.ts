@@ -7,7 +7,8 @@
 import { mkdirSync } from 'node:fs';
 import { dirname } from 'node:path';
 import Database from 'better-sqlite3';
-import type { Note } from '../../core/note.js';
+import { z } from 'zod';
+import { GRAINS_PER_BEAT, PITCH_MODES, type PitchMode } from '../../core/note.js';
 import type { WarnedMatch } from '../../contract/events.js';
 
 export const LOG_SCHEMA_VERSION = 1;
@@ -48,11 +49,30 @@ CREATE TABLE IF NOT EXISTS warnings (
 );
 `;
 
+/**
+ * The session's settings as stored (JSON in sessions.settings): the daemon
+ * writes its whole preset and more; these are the fields a reader relies on,
+ * each optional (an older log may lack one, and review then takes the batch
+ * report's default).
+ */
+export const sessionSettingsSchema = z
+  .object({
+    window: z.number().positive().describe('a positive number of beats'),
+    hop: z.number().positive().describe('a positive number of beats'),
+    pitch: z.enum(PITCH_MODES as [PitchMode, ...PitchMode[]]).describe(`one of ${PITCH_MODES.join(', ')}`),
+    threshold: z.number().min(0).max(1).describe('a number from 0 to 1'),
+    bpm: z.number().positive().describe('a positive tempo'),
+    tolerance: z.number().min(0).lt(1).describe('a number of beats from 0 up to, not including, 1'),
+    tempoFree: z.boolean().describe('true or false'),
+    grid: z.number().int().min(0).refine((g) => g === 0 || GRAINS_PER_BEAT % g === 0).describe(`a whole number of divisions per beat that divides ${GRAINS_PER_BEAT}, or 0`),
+  })
+  .partial();
+
 export interface SessionInfo {
   corpus: string;
   preset: string;
   /** Window, thresholds and the rest, as JSON. */
-  settings: Record<string, unknown>;
+  settings: z.input<typeof sessionSettingsSchema> & Record<string, unknown>;
 }
 
 export interface SessionSummary {
@@ -66,11 +86,20 @@ export interface SessionSummary {
   warnings: number;
 }
 
-export interface LoggedNote extends Note {
-  seq: number;
+const midiByte = z.number().int().min(0).max(127).describe('a whole number 0–127');
+/** A row of the notes table as a reader takes it (a core Note, its sequence number and arrival time); fields in the order they are checked. */
+export const loggedNoteSchema = z.object({
+  seq: z.number().int().min(1).describe('a whole number ≥ 1'),
+  onset: z.number().min(0).describe('a beat ≥ 0'),
+  duration: z.number().min(0).describe('beats ≥ 0'),
+  pitch: midiByte,
+  morph: midiByte,
+  velocity: midiByte,
+  channel: z.number().int().min(1).max(16).describe('a whole number 1–16'),
   /** Wall-clock time the note arrived, ms since the epoch. */
-  receivedAt: number;
-}
+  receivedAt: z.number().describe('a time in ms since the epoch'),
+});
+export type LoggedNote = z.infer<typeof loggedNoteSchema>;
 
 export interface LoggedWarning extends WarnedMatch {
   id: number;

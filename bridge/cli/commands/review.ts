@@ -14,8 +14,7 @@
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Command } from 'commander';
-import { z } from 'zod';
-import { GRAINS_PER_BEAT, PITCH_MODES, type PitchMode } from '../../../core/note.js';
+import type { PitchMode } from '../../../core/note.js';
 import { notesLength } from '../../../core/corpus.js';
 import { EXACT_MODE, modeMatcher } from '../../../core/match-mode.js';
 import { CAUTION, originalityReport } from '../../../core/report.js';
@@ -33,7 +32,8 @@ import { printJson } from '../options.js';
 import { writeOutputFile } from '../../formats/output-file.js';
 import { defaultLogFile } from '../../formats/paths.js';
 import { beat, pct } from '../report-text.js';
-import { type LoggedNote, type LoggedWarning, type SessionSummary, SessionLog } from '../../formats/session-log.js';
+import { type LoggedNote, type LoggedWarning, type SessionSummary, SessionLog, loggedNoteSchema, sessionSettingsSchema } from '../../formats/session-log.js';
+import { readSaved } from '../../formats/saved.js';
 import { wholeNumber } from '../usage.js';
 import { UsageError } from '../../formats/user-error.js';
 
@@ -66,16 +66,6 @@ function withLog<T>(file: string, read: (log: SessionLog) => T): T {
   }
 }
 
-const wholeIn = (field: 'pitch' | 'velocity' | 'channel', lo: number, hi: number) => (n: LoggedNote) =>
-  Number.isInteger(n[field]) && n[field] >= lo && n[field] <= hi ? null : `${field} ${n[field]} (expected a whole number ${lo}–${hi})`;
-const NOTE_CHECKS = [
-  (n: LoggedNote) => (Number.isFinite(n.onset) && n.onset >= 0 ? null : `onset ${n.onset} (expected a beat ≥ 0)`),
-  (n: LoggedNote) => (Number.isFinite(n.duration) && n.duration >= 0 ? null : `duration ${n.duration} (expected beats ≥ 0)`),
-  wholeIn('pitch', 0, 127),
-  wholeIn('velocity', 0, 127),
-  wholeIn('channel', 1, 16),
-];
-
 function readSession(file: string, id: number | 'latest'): LoggedSession {
   const s = withLog(file, (log) => {
     const found = log.session(id);
@@ -87,34 +77,14 @@ function readSession(file: string, id: number | 'latest'): LoggedSession {
   });
   const name = `${file}: session ${s.summary.id}`;
   if (s.notes.length === 0) throw new UsageError(`${name} holds no notes, so there is nothing to review`);
-  for (const n of s.notes) {
-    for (const check of NOTE_CHECKS) {
-      const wrong = check(n);
-      if (wrong) throw new UsageError(`${name} is damaged: note ${n.seq} has ${wrong}`);
-    }
-  }
+  for (const n of s.notes) readSaved(loggedNoteSchema, n, (p) => new UsageError(`${name} is damaged: note ${n.seq} has ${p.field} ${p.got} (expected ${p.expected}); review another session, or mend the row with a SQLite tool`));
   return s;
 }
 
-const settingsSchema = z.object({
-  window: z.number().positive().optional(),
-  hop: z.number().positive().optional(),
-  pitch: z.enum(PITCH_MODES as [PitchMode, ...PitchMode[]]).optional(),
-  threshold: z.number().min(0).max(1).optional(),
-  bpm: z.number().positive().optional(),
-  tolerance: z.number().min(0).lt(1).optional(),
-  tempoFree: z.boolean().optional(),
-  grid: z.number().int().min(0).refine((g) => g === 0 || GRAINS_PER_BEAT % g === 0, `must divide ${GRAINS_PER_BEAT}`).optional(),
-});
-
 /** The session's settings as the daemon stored them; ones it did not store take the batch report's defaults. */
 function sessionSettings(file: string, summary: SessionSummary): ReviewSettings {
-  const parsed = settingsSchema.safeParse(summary.settings);
-  if (!parsed.success) {
-    const issue = parsed.error.issues[0];
-    throw new UsageError(`${file}: session ${summary.id} has unusable settings: settings.${issue.path.join('.')}: ${issue.message}`);
-  }
-  const s = parsed.data;
+  const s = readSaved(sessionSettingsSchema, summary.settings, (p) =>
+    new UsageError(`${file}: session ${summary.id} has unusable settings: settings.${p.field}: got ${p.got}; expected ${p.expected}; review another session, or mend the setting with a SQLite tool`));
   return {
     window: s.window ?? DEFAULT_WINDOW.window,
     hop: s.hop ?? DEFAULT_WINDOW.hop,
