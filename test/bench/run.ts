@@ -154,7 +154,7 @@ function prepare(make: () => Point[][], perKind: number): { notes: FlatNotes; pi
 function freshLoadSeconds(file: string): number {
   const dist = join(import.meta.dirname, '../..');
   const script = `
-    const { readIndexFile } = await import(${JSON.stringify(join(dist, 'bridge/index-file.js'))});
+    const { readIndexFile } = await import(${JSON.stringify(join(dist, 'bridge/formats/index-file.js'))});
     const { notePoints } = await import(${JSON.stringify(join(dist, 'core/flat-notes.js'))});
     const { corpusIndex } = await import(${JSON.stringify(join(dist, 'core/triple-index.js'))});
     const t = performance.now();
