@@ -6,7 +6,7 @@
  *
  * Opened through an index, pieces read their notes from it only when first
  * asked (an excerpt, say), and point sets come straight from its arrays, so
- * a corpus of millions of notes opens in about a second.
+ * opening costs little however large the corpus (test/bench/RESULTS.md, load).
  *
  * @example
  *   const opened = openCorpus('songs', { pitch: 'chromatic' });

@@ -33,9 +33,9 @@ export const MAX_SCHEDULED = 4096;
 const MAX_DEPTH = 8;
 /**
  * Receive buffer asked of the kernel (it grants up to net.core.rmem_max):
- * about 0.2 s of packets at the default size, several seconds at this one,
- * so a busy moment of the main thread delays a flood of notes instead of
- * losing some (test/bridge/daemon/load.test.ts).
+ * far larger than the default, so a busy moment of the main thread delays
+ * a flood of notes instead of losing some (test/bridge/daemon/load.test.ts;
+ * figures in test/bench/RESULTS.md).
  */
 export const RECV_BUFFER_BYTES = 4 * 1024 * 1024;
 

@@ -1,9 +1,10 @@
 /**
- * The corpus index file (DEVELOPERS.md, "Index file format"): a signature,
+ * The corpus index file (bridge/formats/index-file.md): a signature,
  * a version, a table of sections each with its own CRC-32, and the sections
  * themselves, 8-byte aligned, little-endian typed arrays read straight into
  * memory. A reader loads only the sections it needs (one pitch dimension's
- * postings, say), so ten million notes load in well under a second.
+ * postings, say), so loading costs what is read (load times:
+ * test/bench/RESULTS.md).
  *
  * Anything that is not an index of this version, or that fails a check, is
  * an IndexFileError naming the file and saying how to rebuild it.

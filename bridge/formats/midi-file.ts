@@ -67,9 +67,9 @@ function keyOf(header: InstanceType<typeof Midi>['header'], notes: Note[]): { ke
 
 /**
  * Most Note On and Note Off events one track may hold: the parser
- * underneath pairs them in time quadratic in their number (50,000 notes
- * read in under 2 s, a million events would take hours), so a track past
- * this is refused at once instead of stalling whoever reads it.
+ * underneath pairs them in time quadratic in their number (timings in
+ * test/bench/RESULTS.md, "Bad MIDI files"), so a track past this is
+ * refused at once instead of stalling whoever reads it.
  */
 export const MAX_TRACK_NOTE_EVENTS = 100_000;
 /** SMF 1.0: a variable-length quantity has at most 4 bytes (0x0FFFFFFF). */

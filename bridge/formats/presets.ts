@@ -32,7 +32,8 @@ export const MAX_GRID = 960;
  * Tolerance of the live presets: the smallest tolerance measured that, after
  * the presets' 1/12-beat grid, catches every copy played within ±0.1 beat at
  * their thresholds, while warning about played unrelated material no more
- * often than about the same material as written (DEVELOPERS.md).
+ * often than about the same material as written (test/bench/RESULTS.md,
+ * "How the live presets' tolerance was chosen").
  */
 export const LIVE_TOLERANCE = 0.1;
 
@@ -86,7 +87,7 @@ export const presetSchema = z
     warn: z.boolean().describe(ALLOWED.warn),
     /** Onsets snap to 1/grid beat before scoring (0 = as played), so clock jitter does not break exact matching. */
     grid: z.number().int().min(0).max(MAX_GRID).refine((g) => g === 0 || 3840 % g === 0).describe(ALLOWED.grid),
-    /** Played timing a match allows, beats (DEVELOPERS.md says how the default was measured). */
+    /** Played timing a match allows, beats (test/bench/RESULTS.md says how the default was measured). */
     tolerance: z.number().min(0).lt(1).default(LIVE_TOLERANCE).describe(ALLOWED.tolerance),
     /** Matches less distinctive than this never warn. */
     minDistinctiveness: unit.default(0).describe(ALLOWED.minDistinctiveness),

@@ -4,7 +4,7 @@
  * (test/fixtures/jsb/README.md: train 0–39 as the corpus, windows of 40–59).
  * `npm run bench` prints these rows; run directly,
  * `node dist/test/bench/modes.js [--calibrate]` prints them too, and with
- * --calibrate also the catch and false-warning tables of DEVELOPERS.md.
+ * --calibrate also the catch and false-warning tables of test/bench/RESULTS.md.
  *
  * @example
  *   modeCostTable(jsbModeCosts())

@@ -4,7 +4,7 @@
  * minute). Deterministic corpora and queries; timings are wall-clock on
  * whatever else the machine is doing (the load average is printed beside
  * them). Prints a table per corpus, then as its last line one JSON object
- * with every figure (DEVELOPERS.md, "Benchmark").
+ * with every figure, which it also adds to test/bench/RESULTS.md.
  *
  * Each corpus: build the index (both pitch dimensions, as `corpus build`
  * does) and write it to a file, load it back, then score the same 16-beat
@@ -39,6 +39,7 @@ import { DEFAULT_FILTER, indexMatcher } from '../../core/index-match.js';
 import { StreamingMatch } from '../../core/stream.js';
 import { readIndexFile, writeIndexFile } from '../../bridge/formats/index-file.js';
 import { decodeChorale } from '../helpers/jsb.js';
+import { recordResults } from './results.js';
 import { synthCorpus, unrelated } from './synthetic.js';
 import { jsbModeCosts, modeCostTable } from './modes.js';
 
@@ -332,6 +333,7 @@ function main(): void {
     modes,
   };
   process.stdout.write(JSON.stringify(summary) + '\n');
+  process.stderr.write(`results added to ${recordResults(summary as unknown as Record<string, unknown>)}\n`);
 }
 
 main();

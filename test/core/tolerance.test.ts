@@ -105,7 +105,7 @@ describe('JSB chorale copies played with human timing', () => {
       return { tolerant: t.score, exact: e.score };
     });
     const mean = (xs: number[]) => xs.reduce((s, x) => s + x, 0) / xs.length;
-    // Measured (DEVELOPERS.md): tolerance 0.1 mean ≈ 0.84 (min ≈ 0.78); exact mean ≈ 0.04.
+    // Measured (test/bench/RESULTS.md): tolerance 0.1 mean ≈ 0.84 (min ≈ 0.78); exact mean ≈ 0.04.
     expect(mean(figures.map((f) => f.tolerant))).toBeGreaterThan(0.75);
     expect(mean(figures.map((f) => f.exact))).toBeLessThan(0.2);
   });

@@ -1,5 +1,5 @@
 /**
- * The measurements behind DEVELOPERS.md: how often each matching mode
+ * The measurements behind test/bench/RESULTS.md: how often each matching mode
  * catches a played copy, and how often it warns about unrelated material, on
  * the JSB chorale fixtures (test/fixtures/jsb/README.md: train 0–39 as the
  * corpus, 40–59 held out) and seeded random walks. Run with

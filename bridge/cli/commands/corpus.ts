@@ -61,7 +61,7 @@ export const presetWindows = (): number[] => [...new Set(BUILT_IN_PRESETS.map((n
 
 /**
  * Human baselines of a freshly written index, exact mode, chromatic pitch, hop half a window: the scores
- * the live presets compare with (with a tolerance the scores of quantised corpus pieces barely change; DEVELOPERS.md).
+ * the live presets compare with (with a tolerance the scores of quantised corpus pieces barely change; test/bench/RESULTS.md).
  */
 function baselinesOf(out: string, percussion: boolean, request: BaselineRequest): Baseline[] {
   const opened = openCorpusTold(out, { percussion, pitch: 'chromatic' });

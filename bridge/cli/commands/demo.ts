@@ -9,13 +9,8 @@
  * and mixes tunes (the warning clears).
  *
  * It runs the livecode preset unchanged, so the warnings are the ones a
- * performer would get. Measured over 5 minutes at 120 bpm, seeds 1–8,
- * order 6: the first warning after 3–6 s, 4.4 warnings a minute, a warning
- * standing during 45% of the notes, 7 of the 12 tunes warned about in each
- * run (8 in all; the other four have so much accompaniment that their
- * melody alone stays under the threshold), and 93% of warnings name the
- * tune that at least 80% of the window's notes were taken from (the rest
- * straddle a jump between tunes).
+ * performer would get (how often, and how often they name the tune being
+ * copied: test/bench/RESULTS.md, "The demo").
  *
  * @example
  *   earwitness demo                       # overlay at http://127.0.0.1:9751/

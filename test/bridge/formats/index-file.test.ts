@@ -1,6 +1,6 @@
 /**
- * The corpus index file (bridge/formats/index-file.ts, DEVELOPERS.md "Index file
- * format") and the flat note arrays it stores (core/flat-notes.ts): a round
+ * The corpus index file (bridge/formats/index-file.ts, its format in
+ * bridge/formats/index-file.md) and the flat note arrays it stores (core/flat-notes.ts): a round
  * trip gives back every array and piece; a truncated, damaged, foreign or
  * future file gets an error naming the file and saying how to rebuild.
  *
