@@ -2,8 +2,11 @@
  * Events the daemon pushes on the WebSocket `/events` (JSON, one per
  * message, each with a `type`). The overlay and any other client read these;
  * this file is the contract. Beats are quarter notes; `transposition` is the
- * pitch shift from the corpus excerpt to what was played.
+ * pitch shift from the corpus excerpt to what was played. A note and a
+ * warning are the session's own records (core/session-state.ts), sent with
+ * their `type`.
  */
+import type { SessionNote, Warning } from '../core/session-state.js';
 
 export interface HelloEvent {
   type: 'hello';
@@ -17,14 +20,9 @@ export interface HelloEvent {
   history: (ScoreEvent | WarningEvent | ClearEvent)[];
 }
 
-export interface NoteEvent {
+/** A played note once it is whole: seq, onset, duration, pitch, velocity, channel. */
+export interface NoteEvent extends SessionNote {
   type: 'note';
-  seq: number;
-  onset: number;
-  duration: number;
-  pitch: number;
-  velocity: number;
-  channel: number;
 }
 
 /** A corpus note of the matched excerpt, at its own onset in the piece. */
@@ -61,21 +59,11 @@ export interface ScoreEvent {
 }
 
 /** What a warning says about the match, as pushed on /events and kept in the session log. */
-export interface WarnedMatch {
-  piece: string;
-  title: string;
-  score: number;
-  transposition: number;
-  pieceStart: number;
-  startBeat: number;
-}
+export type WarnedMatch = Pick<Warning, 'piece' | 'title' | 'score' | 'transposition' | 'pieceStart' | 'startBeat'>;
 
-export interface WarningEvent extends WarnedMatch {
+/** seq, time, piece, title, score, transposition, pieceStart, startBeat, and distinctiveness when counted. */
+export interface WarningEvent extends Warning {
   type: 'warning';
-  seq: number;
-  time: number;
-  /** Of the match warned about, as in ScoreEvent. */
-  distinctiveness?: number;
 }
 
 export interface ClearEvent {

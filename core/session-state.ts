@@ -44,13 +44,17 @@ export type InputCommand =
   | { kind: 'stop' }
   | { kind: 'position'; value: number };
 
-/** A played note as the scorer takes it: its sequence number in the session, beats, MIDI values. */
+/** A played note as the scorer takes it and the `note` event shows it. */
 export interface SessionNote {
+  /** Its number in the session, from 1. */
   seq: number;
+  /** Beats (quarter notes) on the session's clock. */
   onset: number;
   duration: number;
+  /** MIDI note number, 0–127. */
   pitch: number;
   velocity: number;
+  /** MIDI channel 1–16. */
   channel: number;
 }
 
@@ -74,16 +78,20 @@ export interface Verdict {
   match: VerdictMatch | null;
 }
 
-/** A warning as raised: what the WebSocket's warning event and the session log say. */
+/** A warning as raised: what the WebSocket's warning event (contract/events.ts) and the session log say. */
 export interface Warning {
+  /** Seq of the last note of the window warned about. */
   seq: number;
+  /** Wall-clock time it was raised, ms since the epoch. */
   time: number;
   piece: string;
   title: string;
   score: number;
   transposition: number;
   pieceStart: number;
+  /** Where the window warned about starts, in the session's beats. */
   startBeat: number;
+  /** Of the match warned about, as in the score event. */
   distinctiveness?: number;
 }
 
