@@ -1,5 +1,5 @@
 #!/usr/bin/env node
-import { run } from './program.js';
+import { run } from './cli/program.js';
 
 run(process.argv).then((code) => {
   process.exitCode = code;

@@ -17,7 +17,7 @@
 import { createHash, timingSafeEqual } from 'node:crypto';
 import type { IncomingMessage } from 'node:http';
 import { isIP } from 'node:net';
-import { UsageError } from '../usage.js';
+import { UsageError } from '../formats/user-error.js';
 
 export const DEFAULT_HOST = '127.0.0.1';
 /** RFC 3986 unreserved characters, so a token stands in a URL as it is. */

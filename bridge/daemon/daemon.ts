@@ -2,13 +2,12 @@
  * The live daemon, wired: input adapters → note stream → scorer (worker
  * thread) → verdicts → sinks (WebSocket events, session log, OSC out).
  *
- * Each note gets the session's next sequence number (from 1) and goes to
- * the scorer at once — at its note-on, since matching looks at onsets only.
- * It is logged, and sent as a `note` event, once it is whole: at once for
- * `/ew/note`, at the note-off for on/off pairs (a held note is closed by a
- * retrigger, a reset or the end of the session). Every write to the log is
- * its own transaction, made as it happens, so a killed daemon loses only
- * notes still held.
+ * The session's bookkeeping — clock, sequence numbers, held notes, the
+ * standing warning — is core's pure reducer (core/session-state.ts); this
+ * shell feeds it input and verdicts and carries out its effects on the
+ * sockets, the scorer and the log. Every write to the log is its own
+ * transaction, made as it happens, so a killed daemon loses only notes
+ * still held.
  *
  * @example
  *   const d = await startDaemon({ corpus: 'presets/demo/corpus', preset: loadPreset('jam'), oscPort: 0, httpPort: 0, ... });
@@ -17,20 +16,20 @@
  *   await d.stop();
  */
 import { join } from 'node:path';
-import { type Clock, beatAt, internalClock, midiContinue, midiStart, midiStop, midiTick, setBeat, setTempo, songPosition } from '../../core/clock.js';
-import { type PolicyAction, type PolicyState, initialPolicy, resetPolicy, stepPolicy } from '../../core/warning-policy.js';
-import type { ClearEvent, DaemonEvent, HelloEvent, NoteEvent, ScoreEvent, WarningEvent } from '../events.js';
-import type { LivePreset } from '../presets.js';
-import { SessionLog, SessionLogError } from '../session-log.js';
-import { UsageError } from '../usage.js';
+import { beatAt } from '../../core/clock.js';
+import { type SessionEffect, type SessionEvent, initialSession, stepSession } from '../../core/session-state.js';
+import type { ClearEvent, DaemonEvent, HelloEvent, ScoreEvent, WarningEvent } from '../../contract/events.js';
+import type { LivePreset } from '../formats/presets.js';
+import { SessionLog, SessionLogError } from '../formats/session-log.js';
+import { UsageError } from '../formats/user-error.js';
 import { badInputLog } from './bad-input.js';
 import type { BadInput, InputCommand } from './input.js';
-import type { LiveNote, LiveVerdict } from './live-scorer.js';
+import type { LiveVerdict } from './live-scorer.js';
 import { type MidiSource, attachMidi } from './midi-adapter.js';
 import { type MidiStatus, openMidi } from './midi-input.js';
 import { type OscInput, openOscInput } from './osc-input.js';
 import { type OscOutput, type OscTarget, openOscOutput } from './osc-output.js';
-import { packageRoot, packageVersion } from './package-root.js';
+import { packageRoot, packageVersion } from '../formats/package-root.js';
 import { type CorpusSummary, type Scorer, startScorer } from './scorer.js';
 import { watchIndexFile } from './index-watch.js';
 import { type WebServer, startWebServer } from './web-server.js';
@@ -54,7 +53,7 @@ export interface DaemonOptions {
   workerUrl?: URL;
   /** The overlay's files; defaults to ui/dist in the package. */
   uiDir?: string;
-  /** Where one-line notices go (bad input, a crashed worker). */
+  /** Where one-line notices go (bad input, a crashed worker, a corpus file skipped); the CLI prints them. Default: dropped. */
   notice?: (line: string) => void;
 }
 
@@ -81,7 +80,7 @@ export const HISTORY_EVENTS = 240;
 
 export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
   const preset = options.preset;
-  const notice = options.notice ?? ((line: string) => process.stderr.write(`${line}\n`));
+  const notice = options.notice ?? (() => {});
   const startedAt = Date.now();
   const cleanup: (() => unknown)[] = [];
   const undo = async (): Promise<void> => {
@@ -109,14 +108,10 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     }
   };
 
-  let clock: Clock = internalClock(preset.bpm, Date.now());
-  let seq = 0;
+  let state = initialSession(preset.bpm, Date.now());
   let session = 0;
-  /** Notes sounding now (on/off input), by channel and pitch. */
-  const held = new Map<string, { note: LiveNote; receivedAt: number }>();
-  let policy: PolicyState = initialPolicy();
-  let standing: { id: number; event: WarningEvent } | null = null;
-  let warnings = 0;
+  /** The session log's row of the standing warning, to mark it cleared. */
+  let standingRow = -1;
   let web: WebServer | null = null;
   let oscOut: OscOutput | null = null;
 
@@ -129,26 +124,38 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     for (const l of listeners) l(e);
   };
 
-  const act = (actions: PolicyAction[], v: LiveVerdict | null, time: number): void => {
-    for (const a of actions) {
-      if (a.type === 'clear' && standing) {
-        const id = standing.id;
-        logged(() => log.clearWarning(id, time));
-        push({ type: 'clear', seq: v?.seq ?? seq, time, piece: standing.event.piece });
-        standing = null;
-      } else if (a.type === 'raise' && v?.match) {
-        const m = v.match;
-        const event: WarningEvent = { type: 'warning', seq: v.seq, time, piece: m.piece, title: m.title, score: v.score, transposition: m.transposition, pieceStart: m.pieceStart, startBeat: v.windowStart, distinctiveness: m.distinctiveness };
-        let id = -1;
+  /** Carries out one of the reducer's effects. */
+  const carryOut = (e: SessionEffect): void => {
+    switch (e.type) {
+      case 'score':
+        return scorer.submit(e.note);
+      case 'whole':
+        logged(() => log.addNote(session, { ...e.note, morph: e.note.pitch, receivedAt: e.receivedAt }));
+        return push({ type: 'note', ...e.note });
+      case 'reset-scorer':
+        return scorer.reset();
+      case 'raise': {
+        const w = e.warning;
+        let row = -1;
         logged(() => {
-          id = log.addWarning(session, { seq: v.seq, raisedAt: time, piece: m.piece, title: m.title, score: v.score, transposition: m.transposition, pieceStart: m.pieceStart, startBeat: v.windowStart });
+          row = log.addWarning(session, { seq: w.seq, raisedAt: w.time, piece: w.piece, title: w.title, score: w.score, transposition: w.transposition, pieceStart: w.pieceStart, startBeat: w.startBeat });
         });
-        standing = { id, event };
-        warnings++;
-        push(event);
-        oscOut?.warning(m.piece, v.score, m.transposition);
+        standingRow = row;
+        push({ type: 'warning', ...w });
+        oscOut?.warning(w.piece, w.score, w.transposition);
+        return;
+      }
+      case 'clear': {
+        const row = standingRow;
+        logged(() => log.clearWarning(row, e.time));
+        return push({ type: 'clear', seq: e.seq, time: e.time, piece: e.warning.piece });
       }
     }
+  };
+  const dispatch = (event: SessionEvent): void => {
+    const step = stepSession(state, event, preset);
+    state = step.state;
+    for (const e of step.effects) carryOut(e);
   };
 
   const onVerdict = (v: LiveVerdict, current: boolean): void => {
@@ -160,10 +167,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
       timeShift: v.timeShift, matched: m?.matched ?? 0, windowNotes: v.windowNotes, windowStart: v.windowStart, windowEnd: v.windowEnd, excerpt: v.excerpt, distinctiveness: m?.distinctiveness ?? null,
     });
     oscOut?.score(v.score);
-    if (!current) return;
-    const step = stepPolicy(policy, { score: v.score, windowNotes: v.windowNotes, passage: m ? { piece: m.pieceIndex, pieceStart: m.pieceStart, beats: preset.window } : null, distinctiveness: m?.distinctiveness }, preset);
-    policy = step.state;
-    act(step.actions, v, time);
+    if (current) dispatch({ type: 'verdict', verdict: v, time });
   };
 
   let scorer: Scorer;
@@ -172,6 +176,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     ({ scorer, corpus } = await startScorer({ corpus: options.corpus, windowBeats: preset.window, grid: preset.grid, tolerance: preset.tolerance, tempoFree: preset.tempoFree }, onVerdict, {
       workerUrl: options.workerUrl,
       onCrash: (message) => notice(`earwitness: the scoring worker failed (${message}); started a fresh one, the window starts empty`),
+      onNotice: (line) => notice(`earwitness: ${line}`),
     }));
   } catch (e) {
     await undo();
@@ -181,73 +186,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
   const indexWatch = watchIndexFile(corpus, notice);
   cleanup.push(() => indexWatch.close());
 
-  /** A note is whole: log it and show it. */
-  const finish = (note: LiveNote, receivedAt: number): void => {
-    logged(() => log.addNote(session, { ...note, morph: note.pitch, receivedAt }));
-    const event: NoteEvent = { type: 'note', ...note };
-    push(event);
-  };
-  const begin = (pitch: number, velocity: number, duration: number, onset: number, channel: number): LiveNote => {
-    const note = { seq: ++seq, onset, duration, pitch, velocity, channel };
-    scorer.submit(note);
-    return note;
-  };
-  const release = (key: string, atMs: number): void => {
-    const h = held.get(key);
-    if (!h) return;
-    held.delete(key);
-    finish({ ...h.note, duration: Math.max(0, beatAt(clock, atMs) - h.note.onset) }, h.receivedAt);
-  };
-  const releaseAll = (atMs: number): void => {
-    for (const key of [...held.keys()]) release(key, atMs);
-  };
-  const newPassage = (atMs: number): void => {
-    releaseAll(atMs);
-    scorer.reset();
-    const step = resetPolicy(policy);
-    policy = step.state;
-    act(step.actions, null, Date.now());
-  };
-
-  const handle = (c: InputCommand, atMs: number): void => {
-    switch (c.kind) {
-      case 'note':
-        return finish(begin(c.pitch, c.velocity, c.duration, c.beat ?? beatAt(clock, atMs), c.channel), atMs);
-      case 'on': {
-        const key = `${c.channel}:${c.pitch}`;
-        release(key, atMs);
-        held.set(key, { note: begin(c.pitch, c.velocity, 0, beatAt(clock, atMs), c.channel), receivedAt: atMs });
-        return;
-      }
-      case 'off':
-        return release(`${c.channel}:${c.pitch}`, atMs);
-      case 'tempo':
-        clock = setTempo(clock, c.bpm, atMs);
-        return;
-      case 'beat':
-        clock = setBeat(clock, c.beat, atMs);
-        return;
-      case 'reset':
-        return newPassage(atMs);
-      case 'clock':
-        clock = midiTick(clock, atMs);
-        return;
-      case 'start':
-        // MIDI Start plays the song from its beginning: a new take, so a new passage.
-        newPassage(atMs);
-        clock = midiStart(clock, atMs);
-        return;
-      case 'continue':
-        clock = midiContinue(clock, atMs);
-        return;
-      case 'stop':
-        clock = midiStop(clock, atMs);
-        return;
-      case 'position':
-        clock = songPosition(clock, c.value, atMs);
-        return;
-    }
-  };
+  const handle = (command: InputCommand, atMs: number): void => dispatch({ type: 'input', command, atMs, now: Date.now() });
 
   let midi: MidiStatus = { available: false, detail: 'not opened: the preset listens to OSC only' };
   let osc: OscInput | null = null;
@@ -280,7 +219,9 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
 
   const hello = (): HelloEvent => {
     const recent = [...history];
-    if (standing && !recent.includes(standing.event)) recent.unshift(standing.event);
+    const standing = state.standing;
+    // A warning older than the history still stands: it goes first.
+    if (standing && !recent.some((e) => e.type === 'warning' && e.seq === standing.seq && e.time === standing.time)) recent.unshift({ type: 'warning', ...standing });
     return {
       type: 'hello',
       version: packageVersion(),
@@ -296,22 +237,22 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     ok: true,
     uptimeSeconds: Math.round((Date.now() - startedAt) / 100) / 10,
     session,
-    notes: seq,
-    held: held.size,
+    notes: state.seq,
+    held: state.held.size,
     evaluations: scorer.counters.evaluations,
     coalesced: scorer.counters.coalesced,
     dropped: scorer.counters.dropped,
     windowRestarts: scorer.counters.restarts,
     lastEvaluationMs: scorer.counters.lastEvaluationMs,
-    warnings,
-    standing: standing?.event.piece ?? null,
+    warnings: state.warnings,
+    standing: state.standing?.piece ?? null,
     badInput: { ...bad.counts },
     logFailures,
     scheduled: osc?.scheduled() ?? 0,
     clients: web?.clients() ?? 0,
     slowClients: web?.slowClients() ?? 0,
     oscOutFailures: oscOut?.failures() ?? 0,
-    clock: { source: clock.source, running: clock.running, beat: beatAt(clock, Date.now()), bpm: clock.bpm },
+    clock: { source: state.clock.source, running: state.clock.running, beat: beatAt(state.clock, Date.now()), bpm: state.clock.bpm },
     corpus,
     corpusIndex: indexWatch.file === null ? null : { file: indexWatch.file, onDisk: indexWatch.onDisk() },
     preset: preset.name,
@@ -339,7 +280,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     stop() {
       // The log first, and synchronously: whatever happens to the sockets after, the session is whole on disk.
       stopping ??= (async () => {
-        releaseAll(Date.now());
+        dispatch({ type: 'end', atMs: Date.now() });
         logged(() => log.endSession(session));
         await undo();
       })();

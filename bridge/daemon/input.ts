@@ -1,26 +1,15 @@
 /**
- * What an input adapter (OSC, MIDI) tells the daemon, once it has checked
- * it: the one vocabulary of the note stream. Channels are 1–16 as musicians
- * count; beats are quarter notes.
+ * What input adapters (OSC, MIDI) check before the daemon hears it: the
+ * ranges of pitches, channels and beats, and how ignored input is told.
+ * The commands themselves, the one vocabulary of the note stream, are
+ * core's (core/session-state.ts InputCommand), which the daemon's reducer
+ * takes.
  *
  * @example
+ *   isPitch(60) && isChannel(1)   // → true
  *   daemon.handle({ kind: 'note', pitch: 60, velocity: 100, duration: 0.5, beat: null, channel: 1 }, Date.now());
  */
-export type InputCommand =
-  /** A whole note; `beat` null = now. */
-  | { kind: 'note'; pitch: number; velocity: number; duration: number; beat: number | null; channel: number }
-  | { kind: 'on'; pitch: number; velocity: number; channel: number }
-  | { kind: 'off'; pitch: number; channel: number }
-  | { kind: 'tempo'; bpm: number }
-  | { kind: 'beat'; beat: number }
-  /** Empties the window: a new passage, same session. */
-  | { kind: 'reset' }
-  /** MIDI real-time and Song Position Pointer (value in sixteenths). */
-  | { kind: 'clock' }
-  | { kind: 'start' }
-  | { kind: 'continue' }
-  | { kind: 'stop' }
-  | { kind: 'position'; value: number };
+export type { InputCommand } from '../../core/session-state.js';
 
 /** Input that was ignored, by kind (the key of /health's `badInput`) with what exactly was wrong. */
 export interface BadInput {

@@ -28,7 +28,7 @@ import type { MatchCorpus } from '../../core/pipeline.js';
 import { LiveMatcher } from '../../core/live-match.js';
 import { LiveWindow } from '../../core/live-window.js';
 import { excerptPair, snapOnsets } from '../../core/review.js';
-import type { ExcerptNote, NoteEvent } from '../events.js';
+import type { ExcerptNote, NoteEvent } from '../../contract/events.js';
 
 /** A played note as the scorer gets it (the `note` event's fields): seq numbers start at 1 each session. */
 export type LiveNote = Omit<NoteEvent, 'type'>;

@@ -16,7 +16,7 @@
  */
 import { existsSync } from 'node:fs';
 import type { MidiSource } from './midi-adapter.js';
-import { UsageError } from '../usage.js';
+import { UsageError } from '../formats/user-error.js';
 
 export const VIRTUAL_PORT = 'earwitness in';
 

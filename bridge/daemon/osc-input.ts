@@ -21,7 +21,7 @@ import { createSocket } from 'node:dgram';
 import osc, { type OscBundle, type OscMessage } from 'osc';
 import type { BadInput, InputCommand } from './input.js';
 import { decodeMessage } from './osc-messages.js';
-import { UsageError } from '../usage.js';
+import { UsageError } from '../formats/user-error.js';
 
 /** Largest packet read; the daemon's messages are a few dozen bytes. */
 export const MAX_OSC_PACKET = 8192;
@@ -33,9 +33,9 @@ export const MAX_SCHEDULED = 4096;
 const MAX_DEPTH = 8;
 /**
  * Receive buffer asked of the kernel (it grants up to net.core.rmem_max):
- * about 0.2 s of packets at the default size, several seconds at this one,
- * so a busy moment of the main thread delays a flood of notes instead of
- * losing some (test/reliability/load.test.ts).
+ * far larger than the default, so a busy moment of the main thread delays
+ * a flood of notes instead of losing some (test/bridge/daemon/load.test.ts;
+ * figures in test/bench/RESULTS.md).
  */
 export const RECV_BUFFER_BYTES = 4 * 1024 * 1024;
 

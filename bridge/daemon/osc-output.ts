@@ -11,7 +11,7 @@
  */
 import { createSocket } from 'node:dgram';
 import osc from 'osc';
-import { UsageError } from '../usage.js';
+import { UsageError } from '../formats/user-error.js';
 
 export interface OscTarget {
   host: string;

@@ -13,7 +13,7 @@
  */
 import { Worker } from 'node:worker_threads';
 import type { LiveNote, LiveVerdict } from './live-scorer.js';
-import { UsageError } from '../usage.js';
+import { UsageError } from '../formats/user-error.js';
 
 export interface WorkerSetup {
   corpus: string;
@@ -35,6 +35,8 @@ export type ToWorker = { type: 'evaluate'; reset: boolean; notes: LiveNote[] } |
 export type FromWorker =
   | { type: 'ready'; corpus: CorpusSummary }
   | { type: 'failed'; message: string }
+  /** Something the user should hear about while the corpus opens: a file skipped, an index not used. */
+  | { type: 'notice'; line: string }
   | { type: 'verdict'; verdict: LiveVerdict; elapsedMs: number };
 
 export interface ScorerCounters {
@@ -63,7 +65,7 @@ export async function startScorer(
   setup: WorkerSetup,
   /** `current` is false for a verdict on notes from before the latest reset. */
   onVerdict: (v: LiveVerdict, current: boolean) => void,
-  options: { workerUrl?: URL; onCrash?: (message: string) => void } = {},
+  options: { workerUrl?: URL; onCrash?: (message: string) => void; onNotice?: (line: string) => void } = {},
 ): Promise<{ scorer: Scorer; corpus: CorpusSummary }> {
   const counters: ScorerCounters = { evaluations: 0, coalesced: 0, dropped: 0, restarts: 0, lastEvaluationMs: null, busy: false };
   let waiting: LiveNote[] = [];
@@ -99,6 +101,7 @@ export async function startScorer(
           ready = true;
           resolve(m.corpus);
         } else if (m.type === 'failed') reject(new UsageError(m.message));
+        else if (m.type === 'notice') options.onNotice?.(m.line);
         else {
           counters.busy = false;
           counters.evaluations++;

@@ -12,7 +12,7 @@
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import { performance } from 'node:perf_hooks';
-import { openCorpus } from '../open-corpus.js';
+import { openCorpus } from '../corpus/open-corpus.js';
 import { type LiveScorer, liveScorer } from './live-scorer.js';
 import type { FromWorker, ToWorker, WorkerSetup } from './scorer.js';
 
@@ -23,7 +23,7 @@ const post = (m: FromWorker): void => port.postMessage(m);
 let scorer: LiveScorer;
 try {
   // Everything read now: the index file may be rebuilt or deleted while the daemon listens.
-  const opened = openCorpus(setup.corpus, { deferNotes: false });
+  const opened = openCorpus(setup.corpus, { deferNotes: false, notify: (line) => post({ type: 'notice', line }) });
   const { source, corpus } = opened;
   const matching = opened.matchCorpus('chromatic');
   if (setup.tempoFree) matching.fingerprints?.();

@@ -27,11 +27,11 @@ import type { AddressInfo } from 'node:net';
 import { join } from 'node:path';
 import type { Duplex } from 'node:stream';
 import { WebSocketServer, type WebSocket } from 'ws';
-import type { DaemonEvent, HelloEvent } from '../events.js';
+import type { DaemonEvent, HelloEvent } from '../../contract/events.js';
 import { CAUTION } from '../../core/report.js';
 import { contentType, staticFile } from './static-files.js';
 import { DEFAULT_HOST, isWildcard, tokenGate, urlHost } from './access.js';
-import { UsageError } from '../usage.js';
+import { UsageError } from '../formats/user-error.js';
 
 export const MAX_URL_LENGTH = 2048;
 export const MAX_CLIENTS = 32;

@@ -14,8 +14,8 @@
  */
 import { type MelodyEvent, melodyOf } from '../../core/markov.js';
 import { pieceName } from '../../core/corpus.js';
-import { loadCorpusFolder } from '../corpus-files.js';
-import { UsageError } from '../usage.js';
+import { loadCorpusFolder } from '../corpus/corpus-files.js';
+import { UsageError } from '../formats/user-error.js';
 
 /** The channel the demo tunes keep their melody on. */
 export const MELODY_CHANNEL = 1;

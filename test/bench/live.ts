@@ -24,10 +24,10 @@ import { performance } from 'node:perf_hooks';
 import osc from 'osc';
 import { GRAINS_PER_BEAT } from '../../core/note.js';
 import { percentile } from '../../core/stats.js';
-import { midiBytes } from '../../bridge/midi-write.js';
-import type { ScoreEvent } from '../../bridge/events.js';
+import { midiBytes } from '../../bridge/formats/midi-write.js';
+import type { ScoreEvent } from '../../contract/events.js';
 import { synthCorpus } from './synthetic.js';
-import { CLI, health, listen, spawnDaemon, tempDir } from '../daemon/helpers.js';
+import { CLI, health, listen, spawnDaemon, tempDir } from '../helpers/daemon.js';
 
 /** The benchmark's own flags: those before a `--`. */
 const own = process.argv.includes('--') ? process.argv.slice(0, process.argv.indexOf('--')) : process.argv;

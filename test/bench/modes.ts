@@ -5,7 +5,8 @@
  * as a report pays them, and the speed-up of the index's candidates over
  * every translation (the reference). `npm run bench` prints these rows; run
  * directly, `node dist/test/bench/modes.js [--calibrate]` prints them too,
- * and with --calibrate also the catch and false-warning tables.
+ * and with --calibrate also the catch and false-warning tables of
+ * test/bench/RESULTS.md.
  *
  * @example
  *   modeCostTable(jsbModeCosts())
@@ -18,8 +19,8 @@ import { type CorpusPoints, corpusPoints } from '../../core/corpus.js';
 import type { MatchWindow } from '../../core/match.js';
 import { type CandidateKind, type MatchMode, windowMatcher } from '../../core/pipeline.js';
 import { DEFAULT_WINDOW, windows } from '../../core/windows.js';
-import { chorales } from '../beyond/material.js';
-import { calibrate, calibrationTables } from '../beyond/calibration.js';
+import { chorales } from '../helpers/material.js';
+import { calibrate, calibrationTables } from '../helpers/calibration.js';
 import { matchCorpusOf } from '../helpers/matchers.js';
 
 export interface ModeCost {

@@ -4,7 +4,7 @@
  * Deterministic corpora and queries; timings are wall-clock on whatever else
  * the machine is doing (the load average is printed beside them) and CPU
  * time of this process. Prints a table per corpus, then as its last line one
- * JSON object with every figure.
+ * JSON object with every figure, which it also adds to test/bench/RESULTS.md.
  *
  * Each corpus: build the index (triples and fingerprints, both pitch
  * dimensions, as `corpus build` does) and write it to a file, load it back,
@@ -39,8 +39,9 @@ import { DEFAULT_FILTER } from '../../core/index-match.js';
 import { type CandidateKind, type MatchCorpus, type MatchMode, windowMatcher } from '../../core/pipeline.js';
 import { LiveMatcher } from '../../core/live-match.js';
 import { originalityReport } from '../../core/report.js';
-import { readIndexFile, writeIndexFile } from '../../bridge/index-file.js';
+import { readIndexFile, writeIndexFile } from '../../bridge/formats/index-file.js';
 import { decodeChorale } from '../helpers/jsb.js';
+import { recordResults } from './results.js';
 import { synthCorpus, unrelated } from './synthetic.js';
 import { jsbModeCosts, modeCostTable } from './modes.js';
 
@@ -186,7 +187,7 @@ function prepare(make: () => Point[][], perKind: number): { notes: FlatNotes; pi
 function freshLoadSeconds(file: string): number {
   const dist = join(import.meta.dirname, '../..');
   const script = `
-    const { readIndexFile } = await import(${JSON.stringify(join(dist, 'bridge/index-file.js'))});
+    const { readIndexFile } = await import(${JSON.stringify(join(dist, 'bridge/formats/index-file.js'))});
     const { notePoints } = await import(${JSON.stringify(join(dist, 'core/flat-notes.js'))});
     const { corpusIndex } = await import(${JSON.stringify(join(dist, 'core/triple-index.js'))});
     const t = performance.now();
@@ -408,6 +409,14 @@ function main(): void {
     jsbModes,
   };
   process.stdout.write(JSON.stringify(summary) + '\n');
+  // The results file tabulates rows of plain fields: a column per corpus, and one per (corpus × mode × candidates).
+  const { corpora: _, jsbModes: __, ...run } = summary;
+  const rows = corpora.map(({ modes: _m, live, ...c }) => ({ ...c, live: Object.fromEntries(live.map(({ mode, ...l }) => [mode, l])) }));
+  const modes = [
+    ...corpora.flatMap((c) => c.modes.map((m) => ({ ...m, mode: `${c.corpus} · ${m.mode} · ${m.candidates}` }))),
+    ...jsbModes.map((m) => ({ ...m, mode: `JSB subset · ${m.mode} · ${m.candidates}` })),
+  ];
+  process.stderr.write(`results added to ${recordResults({ ...run, rows, modes })}\n`);
 }
 
 main();

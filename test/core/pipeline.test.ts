@@ -17,7 +17,7 @@ import { windows } from '../../core/windows.js';
 import { EVERY_TRANSLATION_UP_TO, type MatchMode, candidatesFor } from '../../core/pipeline.js';
 import { LiveMatcher } from '../../core/live-match.js';
 import { spawnSync } from 'node:child_process';
-import { openCorpus } from '../../bridge/open-corpus.js';
+import { openCorpus } from '../../bridge/corpus/open-corpus.js';
 import { corpusOf, pieceOf } from '../helpers/corpus.js';
 import { notesOf, pointSet, shift } from '../helpers/points.js';
 import { exactMatcher, indexedMatcher, matchCorpusOf } from '../helpers/matchers.js';

@@ -1,6 +1,6 @@
 /**
  * Corpora built in core terms, with no MIDI file in between: pieces from
- * notes, spelled in their estimated key as bridge/midi-file.ts would.
+ * notes, spelled in their estimated key as bridge/formats/midi-file.ts would.
  *
  * @example
  *   const corpus = corpusOf([pieceOf('a.mid', notesA), pieceOf('b.mid', notesB)]);

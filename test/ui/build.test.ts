@@ -1,7 +1,7 @@
 import { existsSync, readFileSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { UI_DIST } from './fake-daemon.js';
+import { UI_DIST } from '../helpers/fake-daemon.js';
 
 // Okabe & Ito (2002), "Color Universal Design", as listed in shared/reference/check-values.md.
 const OKABE_ITO = ['#000000', '#E69F00', '#56B4E9', '#009E73', '#F0E442', '#0072B2', '#D55E00', '#CC79A7'];

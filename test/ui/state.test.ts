@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import type { ClearEvent, DaemonEvent, HelloEvent, NoteEvent, ScoreEvent, WarningEvent } from '../../bridge/events.js';
+import type { ClearEvent, DaemonEvent, HelloEvent, NoteEvent, ScoreEvent, WarningEvent } from '../../contract/events.js';
 import { eventsUrl, parseEvent, retryDelay, MAX_RETRY_MS } from '../../ui/src/connection.js';
 import { headlineWords } from '../../ui/src/headline.js';
 import { type Action, type ViewState, MAX_NOTES, TIMELINE_MS, initialState, reduce, roll, status, transpositionWords } from '../../ui/src/state.js';
@@ -112,7 +112,7 @@ describe('overlay view state', () => {
       start: 100,
       end: 116,
       played: [{ onset: 100, duration: 0.5, pitch: 65 }, { onset: 101, duration: 0.5, pitch: 66 }],
-      // played onset = corpus onset + timeShift, played pitch = corpus pitch + transposition (bridge/events.ts)
+      // played onset = corpus onset + timeShift, played pitch = corpus pitch + transposition (contract/events.ts)
       corpus: [{ onset: 100, duration: 1, pitch: 65, matched: true }, { onset: 101.5, duration: 0.5, pitch: 67, matched: false }],
     });
   });

@@ -7,7 +7,7 @@
  *     open: () => {}, closed: () => {}, event: (e) => console.log(e.type),
  *   });
  */
-import type { DaemonEvent } from '../../bridge/events.js';
+import type { DaemonEvent } from '../../contract/events.js';
 
 /** Longest wait between attempts: a restarted daemon is found within this. */
 export const MAX_RETRY_MS = 3000;

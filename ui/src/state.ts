@@ -10,7 +10,7 @@
  *   s = reduce(s, { kind: 'event', event: hello, at: Date.now() });
  *   s.connection   // → 'open'
  */
-import type { ClearEvent, DaemonEvent, HelloEvent, NoteEvent, ScoreEvent, WarningEvent } from '../../bridge/events.js';
+import type { ClearEvent, DaemonEvent, HelloEvent, NoteEvent, ScoreEvent, WarningEvent } from '../../contract/events.js';
 
 /** How far back the timeline reaches, in ms of the daemon's clock. */
 export const TIMELINE_MS = 3 * 60_000;

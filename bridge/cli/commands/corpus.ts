@@ -1,0 +1,226 @@
+/**
+ * `earwitness corpus build DIR`: reads every MIDI file under DIR in worker
+ * threads and writes the corpus index (bridge/formats/index-file.ts). A rebuild
+ * reuses each file whose size and mtime, or failing those its content hash,
+ * are unchanged, and re-reads only the rest. A file that cannot be read, or
+ * takes longer than --file-seconds, is listed with its reason, never fatal.
+ *
+ * @example
+ *   earwitness corpus build songs --json
+ *   // → { "pieces": 120, "notes": 81234, "skipped": [], "out": "songs/.earwitness-index", "seconds": 3.1, "reparsed": 120, "reused": 0 }
+ */
+import { existsSync, statSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
+import { join, relative, sep } from 'node:path';
+import { Worker } from 'node:worker_threads';
+import type { Command } from 'commander';
+import { PITCH_MODES } from '../../../core/note.js';
+import { type FlatNotes, joinNotes, notePoints } from '../../../core/flat-notes.js';
+import { CORPUS_TRIPLES, buildTriples } from '../../../core/triple-index.js';
+import { FINGERPRINT_SHAPE, buildFingerprints } from '../../../core/fingerprint.js';
+import { EXACT_MODE } from '../../../core/pipeline.js';
+import { findMidiFiles } from '../../corpus/corpus-files.js';
+import { type FileFingerprint, type IndexContents, type PieceInfo, INDEX_NAME, IndexFileError, readIndexFile, writeIndexFile } from '../../formats/index-file.js';
+import { type ParseTask, type ParsedFile, fileHash } from '../../corpus/build-worker.js';
+import { printJson } from '../options.js';
+import { type Baseline, CAUTION, humanBaseline } from '../../../core/report.js';
+import { openCorpusTold } from '../notices.js';
+import { BUILT_IN_PRESETS, loadPreset } from '../../formats/presets.js';
+import { type ProgressFn, progressBar } from '../progress.js';
+import { positive, wholeNumber } from '../usage.js';
+import { UsageError } from '../../formats/user-error.js';
+
+/** "8,16" → [8, 16]: positive beat counts. */
+function beatList(v: string): number[] {
+  const parts = v.split(',').map((s) => s.trim());
+  const wrong = parts.find((s) => !(s !== '' && Number.isFinite(Number(s)) && Number(s) > 0));
+  if (wrong !== undefined) throw new UsageError(`--baseline-windows ${v}: "${wrong}" is not a positive number of beats; give lengths separated by commas, as in 8,16`);
+  return parts.map(Number);
+}
+
+export interface BuildSummary {
+  pieces: number;
+  notes: number;
+  skipped: { file: string; error: string }[];
+  out: string;
+  seconds: number;
+  /** Files read this time. */
+  reparsed: number;
+  /** Files taken unchanged from the previous index. */
+  reused: number;
+  /** With --baseline: each stored baseline's window and p99 window score (what a preset threshold "auto" becomes). */
+  baselines: { window: number; p99: number }[];
+}
+
+export interface BaselineRequest {
+  /** Window lengths to store a baseline for, beats. */
+  windows: number[];
+  samples: number;
+}
+
+/** The windows of the built-in presets: what "auto" thresholds need unless told otherwise. */
+export const presetWindows = (): number[] => [...new Set(BUILT_IN_PRESETS.map((name) => loadPreset(name).window))].sort((a, b) => a - b);
+
+/**
+ * Human baselines of a freshly written index, exact mode, chromatic pitch, hop half a window: the scores
+ * the live presets compare with (with a tolerance the scores of quantised corpus pieces barely change; test/bench/RESULTS.md).
+ */
+function baselinesOf(out: string, percussion: boolean, request: BaselineRequest): Baseline[] {
+  const opened = openCorpusTold(out, { percussion, pitch: 'chromatic' });
+  const view = opened.view('chromatic');
+  const bar = progressBar('baseline');
+  const made = request.windows.map((window, i) => {
+    const b = humanBaseline(view, opened.matcher({ pitch: 'chromatic', window, mode: EXACT_MODE }), { window, hop: window / 2, samples: request.samples, seed: 1 });
+    bar.tick(i + 1, request.windows.length);
+    return b;
+  });
+  bar.stop();
+  return made;
+}
+
+const portable = (p: string): string => p.split(sep).join('/');
+
+/** Reads files in a pool of worker threads; a worker that overruns `limitMs` on a file is ended and replaced. */
+async function parseAll(tasks: ParseTask[], limitMs: number, progress: ProgressFn): Promise<ParsedFile[]> {
+  const results: ParsedFile[] = new Array(tasks.length);
+  const url = new URL('../../corpus/build-worker.js', import.meta.url);
+  let next = 0;
+  let done = 0;
+  const runOne = (worker: Worker, task: ParseTask): Promise<ParsedFile | string> =>
+    new Promise((resolve) => {
+      const timer = setTimeout(() => finish(`took longer than ${limitMs / 1000} s to read, so it was stopped`), limitMs);
+      const finish = (r: ParsedFile | string): void => {
+        clearTimeout(timer);
+        worker.removeAllListeners('message').removeAllListeners('error');
+        resolve(r);
+      };
+      worker.once('message', finish);
+      worker.once('error', (e) => finish(`made its reader fail (${e.message})`));
+      worker.postMessage(task);
+    });
+  const lane = async (): Promise<void> => {
+    let worker = new Worker(url);
+    try {
+      while (next < tasks.length) {
+        const i = next++;
+        const r = await runOne(worker, tasks[i]);
+        if (typeof r === 'string') {
+          await worker.terminate();
+          worker = new Worker(url);
+          results[i] = { file: tasks[i].file, sha256: fileHash(tasks[i].file), piece: null, error: r };
+        } else results[i] = r;
+        progress(++done, tasks.length);
+      }
+    } finally {
+      await worker.terminate();
+    }
+  };
+  await Promise.all(Array.from({ length: Math.min(availableParallelism(), tasks.length) }, lane));
+  return results;
+}
+
+/** The previous index, or null when there is none or it cannot be used (then every file is read). */
+function previous(out: string): IndexContents | null {
+  if (!existsSync(out)) return null;
+  try {
+    return readIndexFile(out, []);
+  } catch (e) {
+    if (!(e instanceof IndexFileError)) throw e;
+    process.stderr.write(`earwitness: not reusing ${out} (${e.reason}); reading every file\n`);
+    return null;
+  }
+}
+
+export async function buildCorpusIndex(dir: string, options: { out?: string; percussion?: boolean; fileSeconds: number; baseline?: BaselineRequest }): Promise<BuildSummary> {
+  const began = performance.now();
+  if (!existsSync(dir) || !statSync(dir).isDirectory()) throw new UsageError(`corpus build ${dir}: no such folder`);
+  const out = options.out ?? join(dir, INDEX_NAME);
+  const percussion = options.percussion ?? false;
+  const old = previous(out);
+  const reusable = old && old.percussion === percussion ? old : null;
+  const oldFiles = new Map(reusable?.files.map((f) => [f.path, f]) ?? []);
+  const oldPieces = new Map(reusable?.pieces.map((p, i) => [p.path, i]) ?? []);
+
+  type Slot = { path: string; size: number; mtimeMs: number; reuse: FileFingerprint | null };
+  const slots: Slot[] = findMidiFiles(dir).map((file) => {
+    const path = portable(relative(dir, file));
+    const { size, mtimeMs } = statSync(file);
+    const was = oldFiles.get(path);
+    const same = !!was && was.size === size && (was.mtimeMs === mtimeMs || (was.sha256 !== null && was.sha256 === fileHash(file)));
+    return { path, size, mtimeMs, reuse: same ? was : null };
+  });
+  const tasks = slots.filter((s) => !s.reuse).map((s): ParseTask => ({ file: join(dir, s.path), root: dir, percussion }));
+  const bar = progressBar('indexing');
+  const parsed = new Map((await parseAll(tasks, options.fileSeconds * 1000, bar.tick)).map((r) => [portable(relative(dir, r.file)), r]));
+  bar.stop();
+
+  const pieces: PieceInfo[] = [];
+  const parts: { notes: FlatNotes; piece: number }[] = [];
+  const files: FileFingerprint[] = [];
+  const skipped: { file: string; error: string }[] = [];
+  for (const s of slots) {
+    const fresh = parsed.get(s.path);
+    const error = fresh ? fresh.error : s.reuse!.error;
+    files.push({ path: s.path, size: s.size, mtimeMs: s.mtimeMs, sha256: fresh ? fresh.sha256 : s.reuse!.sha256, error });
+    if (error !== null) {
+      skipped.push({ file: s.path, error });
+    } else if (fresh) {
+      const { notes, ...info } = fresh.piece!;
+      pieces.push(info);
+      parts.push({ notes, piece: 0 });
+    } else {
+      const i = oldPieces.get(s.path)!;
+      pieces.push(reusable!.pieces[i]);
+      parts.push({ notes: reusable!.notes, piece: i });
+    }
+  }
+  if (pieces.length === 0) {
+    for (const s of skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
+    throw new UsageError(`corpus build ${dir}: no readable MIDI file with notes under it${skipped.length ? ` (${skipped.length} skipped)` : ''}`);
+  }
+  const notes = joinNotes(parts);
+  const points = PITCH_MODES.map((mode) => [mode, notePoints(notes, mode)] as const);
+  const postings = Object.fromEntries(points.map(([mode, flat]) => [mode, buildTriples(flat, CORPUS_TRIPLES)]));
+  const fingerprints = Object.fromEntries(points.map(([mode, flat]) => [mode, buildFingerprints(flat, FINGERPRINT_SHAPE)]));
+  const contents = { shape: CORPUS_TRIPLES, fingerprint: FINGERPRINT_SHAPE, percussion, pieces, files, notes, postings, fingerprints };
+  writeIndexFile(out, contents);
+  const baselines = options.baseline ? baselinesOf(out, percussion, options.baseline) : [];
+  if (baselines.length) writeIndexFile(out, { ...contents, baselines });
+  return {
+    pieces: pieces.length,
+    notes: notes.at.length,
+    skipped,
+    out,
+    seconds: Math.round((performance.now() - began) / 10) / 100,
+    reparsed: tasks.length,
+    reused: slots.length - tasks.length,
+    baselines: baselines.map((b) => ({ window: b.settings.window, p99: b.percentiles.p99 })),
+  };
+}
+
+export function registerCorpus(cli: Command): void {
+  cli
+    .command('corpus')
+    .description('the corpus index, for fast matching on large corpora')
+    .command('build')
+    .description(`index every .mid/.midi file under a folder (a rebuild re-reads only changed files); --corpus then takes the folder or the index file`)
+    .argument('<dir>', 'corpus folder')
+    .option('--out <file>', `index file to write (default: DIR/${INDEX_NAME})`)
+    .option('--percussion', 'keep channel 10 (percussion)')
+    .option('--file-seconds <s>', 'longest a single file may take to read before it is skipped', positive('--file-seconds'), 60)
+    .option('--baseline', 'also store the human baseline, so a preset threshold "auto" means its p99 window score')
+    .option('--baseline-windows <beats,...>', 'window lengths to store baselines for (default: those of the built-in presets)', beatList)
+    .option('--baseline-samples <n>', 'pieces sampled for each baseline', wholeNumber('--baseline-samples'), 50)
+    .option('--json', 'print JSON')
+    .action(async (dir: string, o: { out?: string; percussion?: boolean; fileSeconds: number; json?: boolean; baseline?: boolean; baselineWindows?: number[]; baselineSamples: number }) => {
+      if (o.baselineSamples < 1) throw new UsageError('--baseline-samples must be at least 1');
+      const baseline = o.baseline ? { windows: o.baselineWindows ?? presetWindows(), samples: o.baselineSamples } : undefined;
+      const r = await buildCorpusIndex(dir, { ...o, baseline });
+      if (o.json) return printJson(r.baselines.length ? { ...r, caution: CAUTION } : r);
+      const lines = [`indexed ${r.pieces} pieces (${r.notes} notes) into ${r.out} in ${r.seconds} s: ${r.reparsed} files read, ${r.reused} unchanged`];
+      for (const s of r.skipped) lines.push(`  skipped ${s.file}: ${s.error}`);
+      for (const b of r.baselines) lines.push(`  human baseline of ${b.window}-beat windows stored: p99 window score ${b.p99.toFixed(3)} (a preset threshold "auto")`);
+      if (r.baselines.length) lines.push('', CAUTION);
+      process.stdout.write(lines.join('\n') + '\n');
+    });
+}

@@ -1,0 +1,107 @@
+import { writeFileSync } from 'node:fs';
+import type { Command } from 'commander';
+import type { PitchMode } from '../../../core/note.js';
+import type { MatchMode } from '../../../core/pipeline.js';
+import { type Baseline, type OriginalityReport, type QueryInput, humanBaseline, originalityReport } from '../../../core/report.js';
+import type { CorpusPoints } from '../../../core/corpus.js';
+import type { WindowMatcher } from '../../../core/match.js';
+import { loadQueries } from '../../corpus/corpus-files.js';
+import type { OpenedCorpus } from '../../corpus/open-corpus.js';
+import { openCorpusTold } from '../notices.js';
+import { type BaselineFile, checkBaselineFits, readBaselineFile } from '../../formats/baseline-file.js';
+import { writeReportHtml } from '../html/report-page.js';
+import { hopOption, minNotesOption, pitchOption, printJson, tempoFreeOption, toleranceOption, windowOption } from '../options.js';
+import { progressBar } from '../progress.js';
+import { baselineText, reportCsv, reportText } from '../report-text.js';
+import { wholeNumber } from '../usage.js';
+import { UsageError } from '../../formats/user-error.js';
+
+/** The flags of every command that scores against a corpus (report, baseline, check). */
+export interface CorpusFlags {
+  corpus: string;
+  window: number;
+  hop: number;
+  pitch: PitchMode;
+  seed: number;
+  percussion?: boolean;
+  json?: boolean;
+  tolerance: number;
+  tempoFree?: boolean;
+  exact?: boolean;
+  minNotes: number;
+}
+
+export const modeOf = (o: CorpusFlags): MatchMode => ({ tolerance: o.tolerance, tempoFree: o.tempoFree ?? false });
+
+export const corpusCommand = (cli: Command, name: string, description: string): Command =>
+  cli
+    .command(name)
+    .description(description)
+    .requiredOption('--corpus <path>', 'corpus folder, or an index file from "earwitness corpus build"')
+    .option('--exact', 'match by brute force even where the corpus has an index (slow: the reference the index is checked against)')
+    .addOption(windowOption())
+    .addOption(hopOption())
+    .addOption(pitchOption())
+    .addOption(toleranceOption())
+    .addOption(tempoFreeOption())
+    .addOption(minNotesOption())
+    .option('--percussion', 'keep channel 10 (percussion)')
+    .option('--json', 'print JSON');
+
+/** The matcher the batch commands score with: the corpus's one entry point, in the chosen matching mode. */
+const matcherOf = (opened: OpenedCorpus, o: CorpusFlags): WindowMatcher => opened.matcher({ pitch: o.pitch, window: o.window, mode: modeOf(o), exact: o.exact });
+
+/** Reads the query files: each unreadable one is named on stderr and listed; none readable at all is an error. */
+export function readQueries(paths: string[], o: CorpusFlags): ReturnType<typeof loadQueries> {
+  const read = loadQueries(paths, o);
+  for (const s of read.skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
+  if (read.queries.length === 0) throw new UsageError(`no readable query file among ${paths.join(', ')}`);
+  return read;
+}
+
+/** Every window of every query scored against the corpus: the report, and what `check` judges. */
+export function scoreQueries(opened: OpenedCorpus, queries: QueryInput[], o: CorpusFlags): { view: CorpusPoints; report: OriginalityReport } {
+  const view = opened.view(o.pitch);
+  const bar = progressBar('scoring');
+  const report = originalityReport(queries, view, matcherOf(opened, o), o, bar.tick);
+  bar.stop();
+  return { view, report };
+}
+
+/** The corpus's human baseline: what `baseline` prints, and what `check --against-baseline` computes when none is stored. */
+export function computeBaseline(opened: OpenedCorpus, o: CorpusFlags & { samples: number }): Baseline {
+  if (o.samples < 1) throw new UsageError('--samples must be at least 1');
+  const view = opened.view(o.pitch);
+  const bar = progressBar('baseline');
+  const b = humanBaseline(view, matcherOf(opened, o), o, bar.tick);
+  bar.stop();
+  return b;
+}
+
+export function registerReport(cli: Command): void {
+  corpusCommand(cli, 'report', 'originality report of MIDI files (or folders of them) against a corpus')
+    .argument('<query...>', 'MIDI files or folders')
+    .option('--seed <n>', 'seed of the bootstrap interval', wholeNumber('--seed'), 1)
+    .option('--csv <file>', 'also write one row per window to this CSV file')
+    .option('--html <file>', 'also write a self-contained HTML report (several query folders show as a series)')
+    .option('--baseline <file>', 'human baseline JSON (from "earwitness baseline --json") to show beside it in the HTML', readBaselineFile)
+    .action((paths: string[], o: CorpusFlags & { csv?: string; html?: string; baseline?: BaselineFile }) => {
+      if (o.baseline) checkBaselineFits(o.baseline, { ...o, mode: modeOf(o) });
+      const opened = openCorpusTold(o.corpus, o);
+      const { queries, skipped } = readQueries(paths, o);
+      const { view, report } = scoreQueries(opened, queries, o);
+      if (o.csv) writeFileSync(o.csv, reportCsv(report));
+      if (o.html) writeReportHtml(o.html, { report, queries, corpus: view, source: o.corpus, mode: modeOf(o), baseline: o.baseline ?? null });
+      if (o.json) printJson({ ...report, mode: modeOf(o), skipped });
+      else process.stdout.write(reportText(report) + '\n');
+    });
+
+  corpusCommand(cli, 'baseline', 'human baseline: sampled corpus pieces scored against the rest of the corpus')
+    .option('--samples <n>', 'how many pieces to sample', wholeNumber('--samples'), 50)
+    .option('--seed <n>', 'seed of the sample and the bootstrap', wholeNumber('--seed'), 1)
+    .action((o: CorpusFlags & { samples: number }) => {
+      const b = computeBaseline(openCorpusTold(o.corpus, o), o);
+      if (o.json) printJson({ ...b, mode: modeOf(o) });
+      else process.stdout.write(baselineText(b) + '\n');
+    });
+}

@@ -1,0 +1,25 @@
+import type { Command } from 'commander';
+import { type PitchMode, toPoints } from '../../../core/note.js';
+import { cardinalityScore } from '../../../core/cardinality.js';
+import { CAUTION } from '../../../core/report.js';
+import { readMidi } from '../../formats/midi-file.js';
+import { pitchOption, printJson } from '../options.js';
+
+export function registerScore(cli: Command): void {
+  cli
+    .command('score')
+    .description('cardinality score of two MIDI files: the most notes of A that one translation lands on notes of B, over the larger size')
+    .argument('<a>', 'first MIDI file')
+    .argument('<b>', 'second MIDI file')
+    .addOption(pitchOption())
+    .option('--percussion', 'keep channel 10 (percussion)')
+    .option('--json', 'print JSON')
+    .action((a: string, b: string, o: { pitch: PitchMode; percussion?: boolean; json?: boolean }) => {
+      const [pa, pb] = [a, b].map((f) => toPoints(readMidi(f, o).notes, o.pitch));
+      const r = cardinalityScore(pa, pb);
+      if (o.json) return printJson({ ...r, caution: CAUTION });
+      const t = r.translation;
+      const how = t ? ` when ${a} is shifted ${t.beats} beats and ${t.pitch} pitch steps` : '';
+      process.stdout.write(`score ${r.score.toFixed(3)}: ${r.matched} notes coincide, of max(${r.sizes[0]}, ${r.sizes[1]})${how}\n\n${CAUTION}\n`);
+    });
+}

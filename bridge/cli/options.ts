@@ -1,0 +1,20 @@
+/** Options several commands share, so each means the same everywhere. */
+import { Option } from 'commander';
+import { PITCH_MODES } from '../../core/note.js';
+import { DEFAULT_WINDOW } from '../../core/windows.js';
+import { DEFAULT_MIN_NOTES } from '../../core/report.js';
+import { parseNumber, positive } from './usage.js';
+
+export const pitchOption = () => new Option('--pitch <mode>', 'pitch dimension to match in').choices(PITCH_MODES as string[]).default('chromatic');
+export const windowOption = () => new Option('--window <beats>', 'window length in beats').argParser(positive('--window')).default(DEFAULT_WINDOW.window);
+export const hopOption = () => new Option('--hop <beats>', 'hop between window starts in beats').argParser(positive('--hop')).default(DEFAULT_WINDOW.hop);
+export const toleranceOption = () =>
+  new Option('--tolerance <beats>', "beats an ontime may stray from the corpus's and still match (0 = exact)")
+    .argParser((v: string) => parseNumber('--tolerance', v, (n) => n >= 0 && n < 1, 'a number of beats from 0 up to (not including) 1'))
+    .default(0);
+export const tempoFreeOption = () => new Option('--tempo-free', 'also find passages played at 0.5–2 times the corpus tempo (each match reports timeScale)');
+export const minNotesOption = () =>
+  new Option('--min-notes <n>', 'windows with fewer notes are listed as too short and left out of originality, its interval and the gate')
+    .argParser((v: string) => parseNumber('--min-notes', v, (n) => Number.isInteger(n) && n >= 1, 'a whole number of at least 1'))
+    .default(DEFAULT_MIN_NOTES);
+export const printJson = (value: unknown): void => void process.stdout.write(JSON.stringify(value, null, 2) + '\n');

@@ -1,0 +1,84 @@
+/**
+ * Finding MIDI files on disk and loading them as corpus pieces or queries.
+ * An unreadable file is skipped with its reason, never a crash.
+ */
+import { readdirSync, statSync } from 'node:fs';
+import { join, relative, sep } from 'node:path';
+import type { Corpus, Piece } from '../../core/corpus.js';
+import type { QueryInput } from '../../core/report.js';
+import { type MidiReadOptions, MidiFileError, readMidi } from '../formats/midi-file.js';
+
+export const isMidiPath = (p: string): boolean => /\.midi?$/i.test(p);
+
+export interface Skipped {
+  file: string;
+  error: string;
+}
+
+/** Every .mid/.midi file under `dir`, recursively, in a stable order. */
+export function findMidiFiles(dir: string): string[] {
+  const out: string[] = [];
+  const walk = (d: string): void => {
+    for (const entry of readdirSync(d, { withFileTypes: true }).sort((a, b) => (a.name < b.name ? -1 : a.name > b.name ? 1 : 0))) {
+      const p = join(d, entry.name);
+      if (entry.isDirectory()) walk(p);
+      else if (entry.isFile() && isMidiPath(entry.name)) out.push(p);
+    }
+  };
+  walk(dir);
+  return out;
+}
+
+const portable = (p: string): string => p.split(sep).join('/');
+
+export function readPiece(file: string, root: string, options: MidiReadOptions = {}): Piece {
+  const m = readMidi(file, options);
+  return { path: portable(relative(root, file)), title: m.title, beats: m.beats, key: m.key, notes: m.notes };
+}
+
+const reason = (e: unknown): string => (e instanceof MidiFileError ? e.reason : (e as Error).message);
+
+/** Loads every MIDI file under `dir` as a piece; files that cannot be read are listed, not fatal. */
+export function loadCorpusFolder(dir: string, options: MidiReadOptions & { progress?: (done: number, total: number) => void } = {}): { corpus: Corpus; skipped: Skipped[] } {
+  const files = findMidiFiles(dir);
+  const pieces: Piece[] = [];
+  const skipped: Skipped[] = [];
+  files.forEach((file, i) => {
+    try {
+      const piece = readPiece(file, dir, options);
+      if (piece.notes.length === 0) skipped.push({ file: portable(relative(dir, file)), error: 'holds no notes' });
+      else pieces.push(piece);
+    } catch (e) {
+      skipped.push({ file: portable(relative(dir, file)), error: reason(e) });
+    }
+    options.progress?.(i + 1, files.length);
+  });
+  return { corpus: { pieces }, skipped };
+}
+
+/** Loads query files (files or folders); unreadable ones are listed, not fatal. */
+export function loadQueries(paths: readonly string[], options: MidiReadOptions = {}): { queries: (QueryInput & { folder: string | null })[]; skipped: Skipped[] } {
+  const queries: (QueryInput & { folder: string | null })[] = [];
+  const skipped: Skipped[] = [];
+  for (const p of paths) {
+    const isDir = statSafe(p)?.isDirectory() ?? false;
+    // A MidiFileError, like any unreadable input: the message names the path, with no stack trace.
+    if (!statSafe(p)) throw new MidiFileError(p, 'no such file or folder');
+    for (const file of isDir ? findMidiFiles(p) : [p]) {
+      try {
+        queries.push({ file: portable(file), notes: readMidi(file, options).notes, folder: isDir ? portable(p) : null });
+      } catch (e) {
+        skipped.push({ file: portable(file), error: reason(e) });
+      }
+    }
+  }
+  return { queries, skipped };
+}
+
+function statSafe(p: string) {
+  try {
+    return statSync(p);
+  } catch {
+    return null;
+  }
+}

@@ -1,0 +1,399 @@
+/**
+ * The corpus index file (bridge/formats/index-file.md): a signature,
+ * a version, a table of sections each with its own CRC-32, and the sections
+ * themselves, 8-byte aligned, little-endian typed arrays read straight into
+ * memory. A reader loads only the sections it needs (one pitch dimension's
+ * postings, say), so loading costs what is read (load times:
+ * test/bench/RESULTS.md).
+ *
+ * Anything that is not an index of this version, or that fails a check, is
+ * an IndexFileError naming the file and saying how to rebuild it.
+ *
+ * @example
+ *   writeIndexFile('songs/.earwitness-index', contents);
+ *   const index = readIndexFile('songs/.earwitness-index', ['chromatic']);
+ *   index.pieces[0]   // → { path: 'a.mid', title: 'A tune', beats: 64, key: {...} }
+ */
+import { closeSync, fstatSync, openSync, readSync, renameSync, rmSync, writeSync } from 'node:fs';
+import { basename, dirname } from 'node:path';
+import { endianness } from 'node:os';
+import { crc32 } from 'node:zlib';
+import { z } from 'zod';
+import { PITCH_MODES, type PitchMode } from '../../core/note.js';
+import type { Piece } from '../../core/corpus.js';
+import type { FlatNotes } from '../../core/flat-notes.js';
+import type { TripleShape, TriplePostings } from '../../core/triple-index.js';
+import type { Baseline } from '../../core/report.js';
+import { baselineSchema } from './baseline-file.js';
+import { type SavedProblem, readSaved } from './saved.js';
+import type { FingerprintShape, FingerprintTable } from '../../core/fingerprint.js';
+
+/** 2: adds each pitch dimension's fingerprint table (tempo-free matching); a version 1 file is refused with a rebuild hint. */
+export const INDEX_VERSION = 2;
+/** Default file name inside the corpus folder. */
+export const INDEX_NAME = '.earwitness-index';
+/** A high byte, CR LF, ^Z, LF: a file passed through a text-mode or 7-bit channel no longer matches. */
+const SIGNATURE = Uint8Array.from([0x89, 0x45, 0x57, 0x49, 0x0d, 0x0a, 0x1a, 0x0a]);
+const HEADER_BYTES = 24;
+const ENTRY_BYTES = 24;
+
+export type PieceInfo = Omit<Piece, 'notes'>;
+
+/** What `corpus build` remembers of each MIDI file (in META), to skip it next time when unchanged. */
+const fileFingerprintSchema = z.object({
+  /** Path relative to the corpus folder. */
+  path: z.string().describe('a path inside the corpus folder'),
+  size: z.number().int().min(0).describe('a size in bytes'),
+  mtimeMs: z.number().describe('a modification time in ms'),
+  /** SHA-256 of the content; null for a file too large to read. */
+  sha256: z.string().nullable().describe('a SHA-256 in hex, or null'),
+  /** Why the file is not in the index, or null when it is. */
+  error: z.string().nullable().describe('the reason the file was skipped, or null'),
+});
+export type FileFingerprint = z.infer<typeof fileFingerprintSchema>;
+
+export type ModePostings = Pick<TriplePostings, 'keys' | 'starts' | 'anchors'>;
+
+export interface IndexContents {
+  shape: TripleShape;
+  /** Whether channel 10 was kept: a rebuild with the other choice reads every file again. */
+  percussion: boolean;
+  pieces: PieceInfo[];
+  files: FileFingerprint[];
+  notes: FlatNotes;
+  postings: Partial<Record<PitchMode, ModePostings>>;
+  /** Which triples the fingerprint tables hold. */
+  fingerprint: FingerprintShape;
+  /** Writing: each pitch dimension's fingerprint table. Reading: each asked-for dimension's, read and checked when first called. */
+  fingerprints: Partial<Record<PitchMode, FingerprintTable | (() => FingerprintTable)>>;
+  /** Human baselines stored by `corpus build --baseline` (optional section BASE; readIndexBaselines reads it). */
+  baselines?: Baseline[];
+}
+
+/** An index file that cannot be used: names the file, says what is wrong and how to rebuild it. */
+export class IndexFileError extends Error {
+  constructor(readonly file: string, readonly reason: string) {
+    const folder = basename(file) === INDEX_NAME ? dirname(file) : 'CORPUS_FOLDER';
+    super(`${file}: ${reason}; rebuild it with: earwitness corpus build ${folder}${folder === 'CORPUS_FOLDER' ? ` --out ${file}` : ''}`);
+    this.name = 'IndexFileError';
+  }
+}
+
+type Typed = Int32Array | Uint32Array | Uint8Array | Float64Array;
+type TypedCtor = Int32ArrayConstructor | Uint32ArrayConstructor | Uint8ArrayConstructor | Float64ArrayConstructor;
+
+const NOTE_SECTIONS: [string, keyof FlatNotes, TypedCtor][] = [
+  ['NOFS', 'offsets', Uint32Array],
+  ['NATS', 'at', Int32Array],
+  ['NDUR', 'duration', Int32Array],
+  ['NPCH', 'pitch', Uint8Array],
+  ['NMOR', 'morph', Uint8Array],
+  ['NVEL', 'velocity', Uint8Array],
+  ['NCHN', 'channel', Uint8Array],
+];
+const MODE_LETTER: Record<PitchMode, string> = { chromatic: 'C', morphetic: 'M' };
+const POSTING_SECTIONS: [string, keyof ModePostings, TypedCtor][] = [
+  ['KEY', 'keys', Float64Array],
+  ['RUN', 'starts', Uint32Array],
+  ['ANC', 'anchors', Uint32Array],
+];
+type FingerprintArrays = Omit<FingerprintTable, 'shape'>;
+const FINGERPRINT_SECTIONS: [string, keyof FingerprintArrays, TypedCtor][] = [
+  ['FKY', 'keys', Uint32Array],
+  ['FRN', 'starts', Uint32Array],
+  ['FAN', 'anchors', Uint32Array],
+  ['FCD', 'codes', Uint8Array],
+];
+
+/** The META section's JSON: the schema writeIndexFile's Meta is typed by and readMeta checks. */
+const metaSchema = z.object({
+  shape: z.object({ partners: z.number().int().min(1).describe('a whole number ≥ 1'), horizonBeats: z.number().positive().describe('a positive number of beats') }),
+  fingerprint: z.object({ fanOut: z.number().int().min(1).max(16).describe('a whole number from 1 to 16'), minGap: z.number().positive().describe('a positive number of beats') }),
+  percussion: z.boolean().describe('true or false'),
+  pieces: z.array(
+    z.object({
+      path: z.string().describe('a path inside the corpus folder'),
+      title: z.string().nullable().describe('a title, or null'),
+      beats: z.number().min(0).describe('a length in beats'),
+      key: z.object({ tonic: z.string(), mode: z.enum(['major', 'minor']), fifths: z.number().int(), correlation: z.number() }),
+    }),
+  ),
+  files: z.array(fileFingerprintSchema),
+  notes: z.number().int().min(0).describe('a whole number of notes'),
+  modes: z.array(z.enum(PITCH_MODES as [PitchMode, ...PitchMode[]])).describe(`a list of ${PITCH_MODES.join(', ')}`),
+});
+export type Meta = z.infer<typeof metaSchema>;
+
+/** A JSON section's problem, as an IndexFileError: the section, the field, what was there and what was expected. */
+const sectionProblem = (file: string, tag: string) => (p: SavedProblem) =>
+  new IndexFileError(file, `damaged: the ${tag} section's field ${p.field}: got ${p.got}; expected ${p.expected}`);
+
+/** A JSON section's text, parsed; text that is not JSON is an IndexFileError naming the section. */
+function sectionJson(bytes: Uint8Array, file: string, tag: string): unknown {
+  try {
+    return JSON.parse(new TextDecoder().decode(bytes));
+  } catch (e) {
+    throw new IndexFileError(file, `damaged: the ${tag} section is not JSON (${(e as Error).message})`);
+  }
+}
+
+function checkPlatform(): void {
+  if (endianness() !== 'LE') throw new Error('index files are little-endian; this machine is big-endian, which earwitness does not support');
+}
+
+const align8 = (n: number): number => Math.ceil(n / 8) * 8;
+const bytesOf = (a: Typed): Uint8Array => new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
+
+/** Writes an index atomically: to a temporary file beside it, then renamed over the old one. */
+export function writeIndexFile(file: string, contents: IndexContents): void {
+  checkPlatform();
+  const modes = (Object.keys(contents.postings) as PitchMode[]).filter((m) => contents.postings[m]);
+  const meta: Meta = { shape: contents.shape, fingerprint: contents.fingerprint, percussion: contents.percussion, pieces: contents.pieces, files: contents.files, notes: contents.notes.at.length, modes };
+  const sections: [string, Uint8Array][] = [['META', new TextEncoder().encode(JSON.stringify(meta))]];
+  for (const [tag, field] of NOTE_SECTIONS) sections.push([tag, bytesOf(contents.notes[field])]);
+  for (const mode of modes) for (const [tag, field] of POSTING_SECTIONS) sections.push([MODE_LETTER[mode] + tag, bytesOf(contents.postings[mode]![field])]);
+  for (const mode of modes) {
+    const table = contents.fingerprints[mode];
+    if (!table || typeof table === 'function') throw new Error(`writeIndexFile: the ${mode} fingerprint table is missing`);
+    for (const [tag, field] of FINGERPRINT_SECTIONS) sections.push([MODE_LETTER[mode] + tag, bytesOf(table[field])]);
+  }
+  if (contents.baselines?.length) sections.push(['BASE', new TextEncoder().encode(JSON.stringify({ version: BASELINE_VERSION, baselines: contents.baselines }))]);
+  const table = Buffer.alloc(HEADER_BYTES + ENTRY_BYTES * sections.length);
+  let offset = align8(table.length);
+  sections.forEach(([tag, bytes], i) => {
+    const e = HEADER_BYTES + i * ENTRY_BYTES;
+    table.write(tag, e, 'latin1');
+    table.writeUInt32LE(crc32(bytes), e + 4);
+    table.writeBigUInt64LE(BigInt(offset), e + 8);
+    table.writeBigUInt64LE(BigInt(bytes.length), e + 16);
+    offset = align8(offset + bytes.length);
+  });
+  table.set(SIGNATURE, 0);
+  table.writeUInt32LE(INDEX_VERSION, 8);
+  table.writeUInt32LE(sections.length, 12);
+  table.writeUInt32LE(crc32(table.subarray(HEADER_BYTES)), 16);
+  const temp = `${file}.${process.pid}.partial`;
+  const fd = openSync(temp, 'w');
+  try {
+    let at = 0;
+    const put = (bytes: Uint8Array): void => {
+      writeSync(fd, bytes, 0, bytes.length, at);
+      at += bytes.length;
+    };
+    put(table);
+    for (const [, bytes] of sections) {
+      put(new Uint8Array(align8(at) - at));
+      put(bytes);
+    }
+    closeSync(fd);
+    renameSync(temp, file);
+  } catch (e) {
+    try {
+      closeSync(fd);
+    } catch {
+      // Already closed.
+    }
+    rmSync(temp, { force: true });
+    throw e;
+  }
+}
+
+interface Opened {
+  fd: number;
+  /** The section table's bytes, to tell later whether the file is still the one read. */
+  table: Buffer;
+  sections: Map<string, { crc: number; offset: number; length: number }>;
+}
+
+function readExactly(fd: number, file: string, length: number, position: number, what: string): Uint8Array<ArrayBuffer> {
+  const bytes = new Uint8Array(new ArrayBuffer(length));
+  let done = 0;
+  while (done < length) {
+    const n = readSync(fd, bytes, done, length - done, position + done);
+    if (n === 0) throw new IndexFileError(file, `truncated: ${what} runs past the end of the file`);
+    done += n;
+  }
+  return bytes;
+}
+
+function openIndex(file: string): Opened {
+  checkPlatform();
+  let fd: number;
+  try {
+    fd = openSync(file, 'r');
+  } catch (e) {
+    throw new IndexFileError(file, `cannot be read (${(e as NodeJS.ErrnoException).code ?? (e as Error).message})`);
+  }
+  try {
+    const size = fstatSync(fd).size;
+    if (size < HEADER_BYTES) throw new IndexFileError(file, `truncated or not an index: ${size} bytes, shorter than the ${HEADER_BYTES}-byte header`);
+    const head = Buffer.from(readExactly(fd, file, HEADER_BYTES, 0, 'the header'));
+    if (!head.subarray(0, SIGNATURE.length).equals(SIGNATURE)) throw new IndexFileError(file, 'not an earwitness corpus index (it does not start with the index signature)');
+    const version = head.readUInt32LE(8);
+    if (version !== INDEX_VERSION) throw new IndexFileError(file, `index format version ${version}${version < INDEX_VERSION ? ', written by an older earwitness' : ''}; this earwitness reads version ${INDEX_VERSION}`);
+    const count = head.readUInt32LE(12);
+    if (HEADER_BYTES + count * ENTRY_BYTES > size) throw new IndexFileError(file, 'truncated: the section table runs past the end of the file');
+    const table = Buffer.from(readExactly(fd, file, count * ENTRY_BYTES, HEADER_BYTES, 'the section table'));
+    if (crc32(table) !== head.readUInt32LE(16)) throw new IndexFileError(file, 'damaged: the section table fails its checksum');
+    const sections = new Map<string, { crc: number; offset: number; length: number }>();
+    for (let i = 0; i < count; i++) {
+      const e = i * ENTRY_BYTES;
+      const entry = { crc: table.readUInt32LE(e + 4), offset: Number(table.readBigUInt64LE(e + 8)), length: Number(table.readBigUInt64LE(e + 16)) };
+      const tag = table.toString('latin1', e, e + 4);
+      if (entry.offset + entry.length > size) throw new IndexFileError(file, `truncated: section ${tag} runs past the end of the file (${size} bytes)`);
+      sections.set(tag, entry);
+    }
+    return { fd, table, sections };
+  } catch (e) {
+    closeSync(fd);
+    throw e;
+  }
+}
+
+/** A section's table entry, when it is there and holds `count` elements. */
+function entryOf(opened: Opened, file: string, tag: string, ctor: TypedCtor, count: number): { crc: number; offset: number; length: number } {
+  const entry = opened.sections.get(tag);
+  if (!entry) throw new IndexFileError(file, `damaged: section ${tag} is missing`);
+  if (entry.length !== count * ctor.BYTES_PER_ELEMENT) throw new IndexFileError(file, `damaged: section ${tag} holds ${entry.length} bytes, expected ${count * ctor.BYTES_PER_ELEMENT}`);
+  return entry;
+}
+
+function section<T extends Typed>(opened: Opened, file: string, tag: string, ctor: TypedCtor, count: number): T {
+  const entry = entryOf(opened, file, tag, ctor, count);
+  const bytes = readExactly(opened.fd, file, entry.length, entry.offset, `section ${tag}`);
+  if (crc32(bytes) !== entry.crc) throw new IndexFileError(file, `damaged: section ${tag} fails its checksum`);
+  return new ctor(bytes.buffer, 0, count) as T;
+}
+
+function readMeta(opened: Opened, file: string): Meta {
+  const entry = opened.sections.get('META');
+  if (!entry) throw new IndexFileError(file, 'damaged: the META section is missing');
+  const bytes = section<Uint8Array>(opened, file, 'META', Uint8Array, entry.length);
+  return readSaved(metaSchema, sectionJson(bytes, file, 'META'), sectionProblem(file, 'META'));
+}
+
+function withIndex<T>(file: string, read: (opened: Opened) => T): T {
+  const opened = openIndex(file);
+  try {
+    return read(opened);
+  } finally {
+    closeSync(opened.fd);
+  }
+}
+
+/** The pieces, shape and file fingerprints alone: cheap, for deciding whether an index is current. */
+export const readIndexMeta = (file: string): Meta => withIndex(file, (o) => readMeta(o, file));
+
+export interface ReadOptions {
+  /**
+   * Leave the note sections that the asked-for pitch dimensions' point sets
+   * do not need (durations, velocities, channels, the other pitch) to be read
+   * when first used, as an excerpt's notes are: matching needs only onsets and
+   * one pitch, 5 of the 12 bytes a note takes. Their presence
+   * and lengths are checked at once; their checksums when they are read, where
+   * a damaged section, or a file replaced in the meantime, is an
+   * IndexFileError. A rebuild reuses every note, so it reads them all at once.
+   */
+  deferNotes?: boolean;
+}
+
+/** The note fields the point sets of `modes` are made from. */
+const pointFields = (modes: readonly PitchMode[]): (keyof FlatNotes)[] => ['offsets', 'at', ...modes.map((m): keyof FlatNotes => (m === 'chromatic' ? 'pitch' : 'morph'))];
+
+/**
+ * Reads one section of an index opened earlier, when first used: the file
+ * must still have the section table it had then, so a file rebuilt in the
+ * meantime is never mixed with the one already read.
+ */
+function laterSection<T extends Typed>(file: string, table: Buffer, tag: string, ctor: TypedCtor, count: number): T {
+  return withIndex(file, (opened) => {
+    if (!opened.table.equals(table)) throw new IndexFileError(file, `replaced since it was opened (its section table differs), so its ${tag} section no longer belongs with what was read; open it again`);
+    return section<T>(opened, file, tag, ctor, count);
+  });
+}
+
+/** Sets `field` of `target` to be read by `read` on first use, then kept. */
+function onFirstUse<T extends object>(target: T, field: keyof T, read: () => unknown): void {
+  Object.defineProperty(target, field, {
+    enumerable: true,
+    configurable: true,
+    get: () => {
+      const value = read();
+      Object.defineProperty(target, field, { value, enumerable: true, writable: true });
+      return value;
+    },
+  });
+}
+
+/** Reads an index with the postings of the given pitch dimensions; every section read is checked (`deferNotes`: see ReadOptions). */
+export function readIndexFile(file: string, modes: readonly PitchMode[], options: ReadOptions = {}): IndexContents {
+  return withIndex(file, (opened) => {
+    const meta = readMeta(opened, file);
+    const pieces = meta.pieces.length;
+    const offsets = section<Uint32Array>(opened, file, 'NOFS', Uint32Array, pieces + 1);
+    if (offsets[pieces] !== meta.notes) throw new IndexFileError(file, `damaged: the piece offsets end at ${offsets[pieces]}, not at the ${meta.notes} notes the index holds`);
+    const notes = { offsets } as FlatNotes;
+    const now = pointFields(modes);
+    for (const [tag, field, ctor] of NOTE_SECTIONS.slice(1)) {
+      if (!options.deferNotes || now.includes(field)) (notes as unknown as Record<string, Typed>)[field] = section(opened, file, tag, ctor, meta.notes);
+      else {
+        entryOf(opened, file, tag, ctor, meta.notes);
+        onFirstUse(notes, field, () => laterSection(file, opened.table, tag, ctor, meta.notes));
+      }
+    }
+    const postings: Partial<Record<PitchMode, ModePostings>> = {};
+    for (const mode of modes) {
+      if (!meta.modes.includes(mode)) throw new IndexFileError(file, `holds no ${mode} postings`);
+      const tag = (t: string): string => MODE_LETTER[mode] + t;
+      const entry = (t: string) => opened.sections.get(tag(t));
+      const keys = entry('KEY')?.length ?? 0;
+      const anchors = entry('ANC')?.length ?? 0;
+      const starts = section<Uint32Array>(opened, file, tag('RUN'), Uint32Array, keys / 8 + 1);
+      postings[mode] = {
+        keys: section(opened, file, tag('KEY'), Float64Array, keys / 8),
+        starts,
+        anchors: section(opened, file, tag('ANC'), Uint32Array, anchors / 4),
+      };
+      if (starts[starts.length - 1] !== anchors / 4) throw new IndexFileError(file, `damaged: the ${mode} key runs end at ${starts[starts.length - 1]}, not at the ${anchors / 4} postings`);
+    }
+    const fingerprints: IndexContents['fingerprints'] = {};
+    for (const mode of meta.modes) {
+      // Present and of consistent lengths now; read, and checked, when tempo-free matching first asks.
+      const length = (t: string): number => opened.sections.get(MODE_LETTER[mode] + t)?.length ?? -1;
+      const keys = length('FKY') / 4;
+      const triples = length('FAN') / 4;
+      if (!(keys >= 0 && triples >= 0)) throw new IndexFileError(file, `damaged: the ${mode} fingerprint sections are missing`);
+      const counts: Record<keyof FingerprintArrays, number> = { keys, starts: keys + 1, anchors: triples, codes: triples };
+      for (const [tag, field, ctor] of FINGERPRINT_SECTIONS) entryOf(opened, file, MODE_LETTER[mode] + tag, ctor, counts[field]);
+      fingerprints[mode] = () => {
+        const table = { shape: meta.fingerprint } as FingerprintTable;
+        for (const [tag, field, ctor] of FINGERPRINT_SECTIONS) (table as unknown as Record<string, Typed>)[field] = laterSection(file, opened.table, MODE_LETTER[mode] + tag, ctor, counts[field]);
+        if (table.starts[keys] !== triples) throw new IndexFileError(file, `damaged: the ${mode} fingerprint runs end at ${table.starts[keys]}, not at the ${triples} triples`);
+        return table;
+      };
+    }
+    return { shape: meta.shape, fingerprint: meta.fingerprint, percussion: meta.percussion, pieces: meta.pieces, files: meta.files, notes, postings, fingerprints };
+  });
+}
+
+/** Version of the optional BASE section's JSON, apart from the index's: a reader of the postings need not understand it. */
+export const BASELINE_VERSION = 1;
+
+/** The BASE section's JSON: its version and the baselines, each as a baseline file holds one. */
+const baseSchema = z.object({ version: z.literal(BASELINE_VERSION), baselines: z.array(baselineSchema).describe('a list of baselines') });
+
+/**
+ * The human baselines an index holds (empty when it was built without
+ * --baseline). The section is checked like any other; a damaged or newer
+ * one is an IndexFileError naming it.
+ */
+export function readIndexBaselines(file: string): Baseline[] {
+  return withIndex(file, (opened) => {
+    const entry = opened.sections.get('BASE');
+    if (!entry) return [];
+    const json = sectionJson(section<Uint8Array>(opened, file, 'BASE', Uint8Array, entry.length), file, 'BASE');
+    const version = (json as { version?: unknown } | null)?.version;
+    if (version !== BASELINE_VERSION) throw new IndexFileError(file, `baseline section version ${String(version)}; this earwitness reads version ${BASELINE_VERSION}`);
+    return readSaved(baseSchema, json, sectionProblem(file, 'BASE')).baselines;
+  });
+}

@@ -1,0 +1,76 @@
+/**
+ * Events the daemon pushes on the WebSocket `/events` (JSON, one per
+ * message, each with a `type`). The overlay and any other client read these;
+ * this file is the contract. Beats are quarter notes; `transposition` is the
+ * pitch shift from the corpus excerpt to what was played. A note and a
+ * warning are the session's own records (core/session-state.ts), sent with
+ * their `type`.
+ */
+import type { SessionNote, Warning } from '../core/session-state.js';
+
+export interface HelloEvent {
+  type: 'hello';
+  version: string;
+  corpus: { source: string; pieces: number; notes: number };
+  /** `pitch`: the dimension matched in; transpositions count semitones (chromatic, when absent) or diatonic steps (morphetic). */
+  preset: { name: string; window: number; threshold: number; minNotes: number; consecutive: number; warn: boolean; pitch?: 'chromatic' | 'morphetic'; tolerance?: number; tempoFree?: boolean; minDistinctiveness?: number };
+  midi: { available: boolean; detail: string };
+  osc: { port: number };
+  /** Recent score and warning events, so a page that reconnects can redraw its timeline. */
+  history: (ScoreEvent | WarningEvent | ClearEvent)[];
+}
+
+/** A played note once it is whole: seq, onset, duration, pitch, velocity, channel. */
+export interface NoteEvent extends SessionNote {
+  type: 'note';
+}
+
+/** A corpus note of the matched excerpt, at its own onset in the piece. */
+export interface ExcerptNote {
+  onset: number;
+  duration: number;
+  pitch: number;
+  /** True when the translation lands it on a played note. */
+  matched: boolean;
+}
+
+export interface ScoreEvent {
+  type: 'score';
+  /** Sequence number of the last note this evaluation includes. */
+  seq: number;
+  /** Wall-clock time of the evaluation, ms since the epoch. */
+  time: number;
+  score: number;
+  /** Path of the best piece in the corpus, or null when nothing matched. */
+  piece: string | null;
+  /** Its title, or its file name. */
+  title: string | null;
+  pieceStart: number | null;
+  transposition: number | null;
+  /** Beats from the corpus excerpt to the played window: played onset = corpus onset + timeShift. */
+  timeShift: number | null;
+  matched: number;
+  windowNotes: number;
+  windowStart: number;
+  windowEnd: number;
+  excerpt: ExcerptNote[] | null;
+  /** 1 when the matched material is found in one corpus place only, near 0 for a stock figure (core/distinctiveness.ts); null when nothing matched. */
+  distinctiveness?: number | null;
+}
+
+/** What a warning says about the match, as pushed on /events and kept in the session log. */
+export type WarnedMatch = Pick<Warning, 'piece' | 'title' | 'score' | 'transposition' | 'pieceStart' | 'startBeat'>;
+
+/** seq, time, piece, title, score, transposition, pieceStart, startBeat, and distinctiveness when counted. */
+export interface WarningEvent extends Warning {
+  type: 'warning';
+}
+
+export interface ClearEvent {
+  type: 'clear';
+  seq: number;
+  time: number;
+  piece: string;
+}
+
+export type DaemonEvent = HelloEvent | NoteEvent | ScoreEvent | WarningEvent | ClearEvent;

@@ -1,0 +1,85 @@
+/**
+ * Presets: the three shipped ones, a bad preset's error (naming the field
+ * and the values it allows), and flags overriding preset values — in
+ * process and as a user runs `earwitness listen`.
+ */
+import { spawnSync } from 'node:child_process';
+import { writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { BUILT_IN_PRESETS, loadPreset, withOverrides } from '../../../bridge/formats/presets.js';
+import type { HelloEvent } from '../../../contract/events.js';
+import { CLI, ROOT, listen, spawnDaemon, tempDir, writeCorpus } from '../../helpers/daemon.js';
+
+const presetFile = (fields: Record<string, unknown>): string => {
+  const file = join(tempDir('preset'), 'stage.json');
+  writeFileSync(file, JSON.stringify({ ...loadPreset('jam'), name: 'stage', ...fields }));
+  return file;
+};
+
+describe('the shipped presets', () => {
+  it('all load, and each is what its name promises', () => {
+    const [jam, livecode, record] = BUILT_IN_PRESETS.map(loadPreset);
+    expect(jam).toMatchObject({ name: 'jam', input: 'midi', window: 16, warn: true });
+    expect(livecode).toMatchObject({ name: 'livecode', input: 'osc', window: 8, warn: true });
+    expect(livecode.consecutive).toBeLessThan(jam.consecutive); // quicker warnings
+    expect(record).toMatchObject({ name: 'record', warn: false });
+  });
+});
+
+describe('a bad preset', () => {
+  it.each([
+    [{ threshold: 1.5 }, /field "threshold": got 1\.5; allowed: a number from 0 to 1\b/],
+    [{ input: 'usb' }, /field "input": got "usb"; allowed: one of "midi", "osc", "both"$/],
+    [{ window: 0 }, /field "window": got 0; allowed: a number of beats above 0, at most 64$/],
+    [{ minNotes: 2.5 }, /field "minNotes": got 2\.5; allowed: a whole number of at least 1$/],
+    [{ warn: 'yes' }, /field "warn": got "yes"; allowed: true or false$/],
+    [{ grid: 7 }, /field "grid": got 7; allowed: a whole number of divisions per beat that divides 3840/],
+    [{ bpm: undefined }, /field "bpm": got nothing; allowed: a tempo from 1 to 999/],
+    [{ thresold: 0.5 }, /field "thresold": no such field; the fields are name, description, input, window, bpm, threshold/],
+  ])('%j is refused, naming the field and the allowed values', (fields, message) => {
+    const file = presetFile(fields);
+    expect(() => loadPreset(file)).toThrow(`preset ${file}: `);
+    expect(() => loadPreset(file)).toThrow(message);
+  });
+
+  it('names what is wrong with an unknown name, a missing file, or a file that is not JSON', () => {
+    expect(() => loadPreset('gig')).toThrow('--preset gig: no such preset; the presets are jam, livecode, record, or give the path of a .json file');
+    expect(() => loadPreset('/nowhere/stage.json')).toThrow('--preset /nowhere/stage.json: cannot be read (ENOENT)');
+    const file = join(tempDir('preset'), 'broken.json');
+    writeFileSync(file, '{ "name": ');
+    expect(() => loadPreset(file)).toThrow(new RegExp(`^preset ${file}: not JSON`));
+  });
+
+  it('stops `earwitness listen` with exit code 2 and the message, before anything starts', () => {
+    const file = presetFile({ hysteresis: -1 });
+    const r = spawnSync('node', [CLI, 'listen', '--corpus', 'presets/demo/corpus', '--preset', file], { cwd: ROOT, encoding: 'utf8' });
+    expect(r.status).toBe(2);
+    expect(r.stderr).toBe(`earwitness: preset ${file}: field "hysteresis": got -1; allowed: a number from 0 to 1\n`);
+    expect(r.stdout).toBe('');
+  });
+});
+
+describe('flags override preset values', () => {
+  it('in process: the flag wins, and a bad flag value names the flag', () => {
+    const jam = loadPreset('jam');
+    expect(withOverrides(jam, { threshold: '0.8', minNotes: '4', warn: false, input: 'osc' })).toEqual({ ...jam, threshold: 0.8, minNotes: 4, warn: false, input: 'osc' });
+    expect(withOverrides(jam, {})).toEqual(jam);
+    expect(() => withOverrides(jam, { threshold: '2' })).toThrow('--threshold 2: allowed: a number from 0 to 1');
+    expect(() => withOverrides(jam, { consecutive: 'three' })).toThrow('--consecutive three: allowed: a whole number from 1 to 100');
+    expect(() => withOverrides(jam, { input: 'usb' })).toThrow('--input usb: allowed: one of "midi", "osc", "both"');
+  });
+
+  it('as a user runs it: the hello the overlay gets carries the overridden values', async () => {
+    const d = await spawnDaemon(['--corpus', writeCorpus().dir, '--preset', 'livecode', '--window', '4', '--threshold', '0.9', '--no-warn']);
+    try {
+      const events = await listen(d.http);
+      const hello = (await events.next((e) => e.type === 'hello')) as HelloEvent;
+      expect(hello.preset).toMatchObject({ name: 'livecode', window: 4, threshold: 0.9, warn: false, minNotes: loadPreset('livecode').minNotes });
+      expect(d.stdout()).toMatch(/preset: livecode — .*\(window 4 beats, threshold 0\.9, .*no warnings\)/);
+      events.close();
+    } finally {
+      await d.stop();
+    }
+  });
+});
