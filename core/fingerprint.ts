@@ -150,16 +150,30 @@ export function buildFingerprints(points: FlatPoints, shape: FingerprintShape = 
   return { shape, keys, starts, anchors: anchor, codes: Uint8Array.from(code) };
 }
 
-/** Position of `key` in the table's keys, or −1. */
-function findKey(keys: Uint32Array, key: number): number {
-  let lo = 0;
-  let hi = keys.length;
-  while (lo < hi) {
-    const mid = (lo + hi) >>> 1;
-    if (keys[mid] < key) lo = mid + 1;
-    else hi = mid;
+/** Open-addressing slots over a table's keys (position + 1, 0 = empty), made once per table when first searched. */
+const keySlots = new WeakMap<Uint32Array, Int32Array>();
+
+function slotsOf(keys: Uint32Array): Int32Array {
+  const known = keySlots.get(keys);
+  if (known) return known;
+  const slots = new Int32Array(2 ** Math.max(4, Math.ceil(Math.log2(keys.length * 2 + 1))));
+  const mask = slots.length - 1;
+  for (let k = 0; k < keys.length; k++) {
+    let s = Math.imul(keys[k], 0x9e3779b1) & mask;
+    while (slots[s] !== 0) s = (s + 1) & mask;
+    slots[s] = k + 1;
   }
-  return lo < keys.length && keys[lo] === key ? lo : -1;
+  keySlots.set(keys, slots);
+  return slots;
+}
+
+/** Position of `key` in the table's keys, or −1. */
+function findKey(keys: Uint32Array, slots: Int32Array, key: number): number {
+  const mask = slots.length - 1;
+  for (let s = Math.imul(key, 0x9e3779b1) & mask; ; s = (s + 1) & mask) {
+    const k = slots[s] - 1;
+    if (k < 0 || keys[k] === key) return k;
+  }
 }
 
 /** The piece holding global point `i`. */
@@ -267,16 +281,33 @@ class Cells {
 /** One table for every window: a fresh one would grow to the same size each time. */
 const cells = new Cells();
 
+/** The `n` cells with the most votes, most first (ties: the first voted for), without sorting them all. */
+function mostVoted(n: number): number[] {
+  const best: number[] = [];
+  for (let e = 0; e < cells.size; e++) {
+    const v = cells.votes[e];
+    if (best.length === n && v <= cells.votes[best[n - 1]]) continue;
+    let i = best.length < n ? best.length : n - 1;
+    while (i > 0 && cells.votes[best[i - 1]] < v) {
+      if (i < n) best[i] = best[i - 1];
+      i--;
+    }
+    best[i] = e;
+  }
+  return best;
+}
+
 /** Votes of the window's triples, rarest key first, into `cells`. */
 function vote(flat: FlatPoints, table: FingerprintTable, settings: FingerprintSettings, window: MatchWindow): void {
   const { at, pitch, offsets } = flat;
   const points = window.points;
   const qa = points.map((p) => p.at);
+  const slots = slotsOf(table.keys);
   // Each triple the table has, as one number: its postings, then the order found, sorted rarest first; the key and notes beside it.
   const order: number[] = [];
   const found: number[] = [];
   eachTriple(qa, 0, points.length, table.shape, (a, b, c) => {
-    const k = findKey(table.keys, fingerprintKey(qa[a], qa[b], qa[c], points[a].pitch, points[b].pitch, points[c].pitch));
+    const k = findKey(table.keys, slots, fingerprintKey(qa[a], qa[b], qa[c], points[a].pitch, points[b].pitch, points[c].pitch));
     if (k < 0) return;
     order.push((table.starts[k + 1] - table.starts[k]) * 2 ** 21 + found.length / 3);
     found.push(k, a, c);
@@ -336,9 +367,7 @@ function bestAlignments(count: number): Alignment[] {
   };
   const sum = (es: number[], of: Int32Array | Float64Array): number => es.reduce((t, n) => t + of[n], 0);
   // Neighbours' votes are summed for the best-voted cells only: a place worth verifying has many votes of its own.
-  const own = Array.from({ length: cells.size }, (_, e) => e)
-    .sort((x, y) => cells.votes[y] - cells.votes[x] || x - y)
-    .slice(0, OWN_VOTES_RANKED * count);
+  const own = mostVoted(OWN_VOTES_RANKED * count);
   const { piece, position, scale, pitch } = cells;
   const ranked = own
     .map((e) => ({ e, votes: sum(around(e), cells.votes) }))
