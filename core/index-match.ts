@@ -12,11 +12,11 @@
  * match of 0.5 so reads a little further and verifies more of the
  * translations voted for more than twice (FilterSettings.widenBelow).
  *
- * Within a tolerance, the window votes with its onsets snapped to the fine
- * one of the VOTE_GRIDS, and when it looks again also to the coarse one
- * (triple keys compare exact time differences, and a note played a little
- * early would share no key with the corpus); each run of nearby voted
- * shifts is verified as one search around them.
+ * Within a tolerance, the window votes with its onsets snapped to each of
+ * the VOTE_GRIDS, the first look's budget shared between them (triple keys
+ * compare exact time differences, and a note played a little early would
+ * share no key with the corpus); each run of nearby voted shifts is
+ * verified as one search around them.
  *
  * Windows of at most eight points are scanned instead (scanBest): a match of
  * 0.5 there needs only two to four points in common, too few for triples.
@@ -345,13 +345,14 @@ export function indexCandidates(index: CorpusIndex, settings: FilterSettings = D
       }
       const skipFrom = window.exclude === undefined ? 0 : offsets[window.exclude];
       const skipTo = window.exclude === undefined ? 0 : offsets[window.exclude + 1];
-      // Exactly, the window votes as it is. Within a tolerance it votes snapped to the fine grid, and only
-      // when that finds no match of widenBelow also to the coarse one: reading postings is most of the cost.
-      const fine = voter(0, tolGrains === 0 ? points : snapPoints(points, FINE_GRAINS), skipFrom, skipTo);
+      // Exactly, the window votes as it is. Within a tolerance it votes snapped to each grid, the vote
+      // budget shared between them: reading postings is most of the cost.
+      const views = tolGrains === 0 ? [points] : [snapPoints(points, FINE_GRAINS), snapPoints(points, COARSE_GRAINS)];
+      const voters = views.map((view, slot) => voter(slot, view, skipFrom, skipTo));
+      const share = (budget: number): number => Math.round(budget / voters.length);
       // Within a tolerance one shared triple (three notes in common) is not worth a search of its own.
-      const first = verifyAll(span, candidatesOf(fine(settings.voteBudget, settings.candidates, tolGrains === 0 ? 1 : 2), tolGrains), verify);
+      const first = verifyAll(span, candidatesOf(voters.flatMap((v) => v(share(settings.voteBudget), settings.candidates, tolGrains === 0 ? 1 : 2)), tolGrains), verify);
       if ((first?.score ?? 0) >= settings.widenBelow) return first;
-      const voters = tolGrains === 0 ? [fine] : [fine, voter(1, snapPoints(points, COARSE_GRAINS), skipFrom, skipTo)];
       return verifyAll(span, candidatesOf(voters.flatMap((v) => v(wideBudget, settings.wideCandidates, settings.wideVotes)), tolGrains), verify, first);
     },
   };
