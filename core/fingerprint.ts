@@ -31,6 +31,7 @@ import { type FlatPoints, lowerBoundAt, radixPass } from './triple-index.js';
 import { toleranceMatching } from './tolerance.js';
 import { type Span, type Verifier, excerptOf } from './verify.js';
 import type { CandidateSource } from './index-match.js';
+import { mostCounted } from './votes.js';
 
 /** Which triples the table holds: stored with it, since a query must make its triples the same way. */
 export interface FingerprintShape {
@@ -281,21 +282,6 @@ class Cells {
 /** One table for every window: a fresh one would grow to the same size each time. */
 const cells = new Cells();
 
-/** The `n` cells with the most votes, most first (ties: the first voted for), without sorting them all. */
-function mostVoted(n: number): number[] {
-  const best: number[] = [];
-  for (let e = 0; e < cells.size; e++) {
-    const v = cells.votes[e];
-    if (best.length === n && v <= cells.votes[best[n - 1]]) continue;
-    let i = best.length < n ? best.length : n - 1;
-    while (i > 0 && cells.votes[best[i - 1]] < v) {
-      if (i < n) best[i] = best[i - 1];
-      i--;
-    }
-    best[i] = e;
-  }
-  return best;
-}
 
 /** Votes of the window's triples, rarest key first, into `cells`. */
 function vote(flat: FlatPoints, table: FingerprintTable, settings: FingerprintSettings, window: MatchWindow): void {
@@ -367,7 +353,7 @@ function bestAlignments(count: number): Alignment[] {
   };
   const sum = (es: number[], of: Int32Array | Float64Array): number => es.reduce((t, n) => t + of[n], 0);
   // Neighbours' votes are summed for the best-voted cells only: a place worth verifying has many votes of its own.
-  const own = mostVoted(OWN_VOTES_RANKED * count);
+  const own = mostCounted(cells.votes, cells.size, OWN_VOTES_RANKED * count);
   const { piece, position, scale, pitch } = cells;
   const ranked = own
     .map((e) => ({ e, votes: sum(around(e), cells.votes) }))

@@ -96,18 +96,7 @@ export class VoteTable {
 
   /** The `n` most-voted entries with at least `atLeast` votes, most first; ties keep the order of first vote. */
   top(n: number, atLeast = 1): number[] {
-    const best: number[] = [];
-    for (let e = 0; e < this.size; e++) {
-      const c = this.count[e];
-      if (c < atLeast || (best.length === n && c <= this.count[best[n - 1]])) continue;
-      let i = best.length < n ? best.length : n - 1;
-      while (i > 0 && this.count[best[i - 1]] < c) {
-        if (i < n) best[i] = best[i - 1];
-        i--;
-      }
-      best[i] = e;
-    }
-    return best;
+    return mostCounted(this.count, this.size, n, atLeast);
   }
 
   pieceAt(entry: number): number {
@@ -125,4 +114,26 @@ export class VoteTable {
   countAt(entry: number): number {
     return this.count[entry];
   }
+}
+
+/**
+ * The `n` entries of `counts[0 … size)` with the highest counts (at least
+ * `atLeast`), highest first, ties in entry order, without sorting them all.
+ *
+ * @example
+ *   mostCounted(Int32Array.of(2, 7, 7, 1), 4, 2)   // → [1, 2]
+ */
+export function mostCounted(counts: ArrayLike<number>, size: number, n: number, atLeast = 1): number[] {
+  const best: number[] = [];
+  for (let e = 0; e < size; e++) {
+    const c = counts[e];
+    if (c < atLeast || (best.length === n && c <= counts[best[n - 1]])) continue;
+    let i = best.length < n ? best.length : n - 1;
+    while (i > 0 && counts[best[i - 1]] < c) {
+      if (i < n) best[i] = best[i - 1];
+      i--;
+    }
+    best[i] = e;
+  }
+  return best;
 }
