@@ -1,7 +1,7 @@
 /**
- * `--corpus PATH`: a folder of MIDI files, or a corpus index file written by
- * `earwitness corpus build`. A folder holding a current index (every MIDI
- * file's size and mtime as indexed) is opened through the index; a folder
+ * `--corpus PATH`: a folder of score files (MIDI, MusicXML, ABC), or a corpus
+ * index file written by `earwitness corpus build`. A folder holding a
+ * current index (every score file's size and mtime as indexed) is opened through the index; a folder
  * whose index is out of date is read file by file, with a note saying so.
  *
  * Opened through an index, pieces read their notes from it only when first
@@ -22,7 +22,7 @@ import { type WindowMatcher, exactMatcher } from '../core/match.js';
 import { notePoints, pieceNotes } from '../core/flat-notes.js';
 import { type CorpusIndex, type FlatPoints, buildTriples, corpusIndex, flattenPoints, piecePoints } from '../core/triple-index.js';
 import { indexMatcher } from '../core/index-match.js';
-import { type Skipped, findMidiFiles, loadCorpusFolder } from './corpus-files.js';
+import { type Skipped, findScoreFiles, loadCorpusFolder } from './corpus-files.js';
 import { type IndexContents, type Meta, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta } from './index-file.js';
 import { progressBar } from './progress.js';
 import { UsageError } from './usage.js';
@@ -31,7 +31,7 @@ export interface OpenedCorpus {
   source: string;
   corpus: Corpus;
   skipped: Skipped[];
-  /** The index file the corpus came from, or null when it was read from its MIDI files. */
+  /** The index file the corpus came from, or null when it was read from its score files. */
   indexFile: string | null;
   /** The point sets of one pitch dimension. */
   view(mode: PitchMode): CorpusPoints;
@@ -39,7 +39,7 @@ export interface OpenedCorpus {
   matcher(view: CorpusPoints, windowBeats: number, exact?: boolean): WindowMatcher;
   /** The corpus index of a pitch dimension, for StreamingMatch: the file's, or built in memory for a folder read file by file. */
   index(mode: PitchMode): CorpusIndex;
-  /** The index file's index of a pitch dimension, or undefined for a corpus read from its MIDI files. */
+  /** The index file's index of a pitch dimension, or undefined for a corpus read from its score files. */
   storedIndex(mode: PitchMode): CorpusIndex | undefined;
 }
 
@@ -59,8 +59,8 @@ export interface OpenOptions {
 /** Why a folder's index is not current, or null when it is. */
 function staleness(dir: string, meta: Meta, percussion: boolean): string | null {
   if (meta.percussion !== percussion) return `it was built ${meta.percussion ? 'with' : 'without'} --percussion`;
-  const files = findMidiFiles(dir);
-  if (files.length !== meta.files.length) return `it lists ${meta.files.length} MIDI files, the folder has ${files.length}`;
+  const files = findScoreFiles(dir);
+  if (files.length !== meta.files.length) return `it lists ${meta.files.length} score files, the folder has ${files.length}`;
   const known = new Map(meta.files.map((f) => [f.path, f]));
   for (const file of files) {
     const was = known.get(relative(dir, file).split(sep).join('/'));
@@ -131,7 +131,7 @@ function fromFolder(dir: string, options: OpenOptions): OpenedCorpus {
   const { corpus, skipped } = loadCorpusFolder(dir, { percussion: options.percussion, progress: bar.tick });
   bar.stop();
   for (const s of skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
-  if (corpus.pieces.length === 0) throw new UsageError(`--corpus ${dir}: holds no readable MIDI file with notes`);
+  if (corpus.pieces.length === 0) throw new UsageError(`--corpus ${dir}: holds no readable score file (MIDI, MusicXML or ABC) with notes`);
   const built = new Map<PitchMode, CorpusIndex>();
   return {
     source: dir,
@@ -163,7 +163,7 @@ export function openCorpus(path: string, options: OpenOptions = {}): OpenedCorpu
     why = e.reason;
   }
   if (why === null) return fromIndex(file, options);
-  process.stderr.write(`earwitness: not using ${file} (${why}); reading the MIDI files instead. Run "earwitness corpus build ${path}" to bring the index up to date.\n`);
+  process.stderr.write(`earwitness: not using ${file} (${why}); reading the score files instead. Run "earwitness corpus build ${path}" to bring the index up to date.\n`);
   return fromFolder(path, options);
 }
 
