@@ -43,9 +43,16 @@ interface AbcElement {
   currentTrackWholeNotes?: number | number[];
   type?: string;
   value?: { num: string; den: string }[];
+  cmd?: string;
+  params?: unknown[];
+}
+interface AbcKey {
+  accidentals?: { acc: string; note?: string }[];
 }
 interface AbcStaff {
   meter?: AbcElement;
+  key?: AbcKey & { root: string; mode: string };
+  clef?: { transpose?: number };
   voices?: AbcElement[][];
 }
 interface AbcEvent {
@@ -60,7 +67,7 @@ interface AbcEvent {
 interface AbcTune {
   lines: { staff?: AbcStaff[] }[];
   metaText: { title?: string };
-  getKeySignature(): { root: string; acc: string; mode: string; accidentals?: { acc: string }[] };
+  formatting: { midi?: { transpose?: unknown[] } };
   setUpAudio(options: Record<string, unknown>): { tracks: AbcEvent[][] };
 }
 
@@ -90,13 +97,28 @@ export function writtenMorph(step: number, pitch: number): number | null {
   return Math.abs(pitch - natural - 12 * octaves) <= 2 ? 60 + step + 7 * octaves : null;
 }
 
+/**
+ * Whether the tune sounds at another pitch than its letters say by more than
+ * whole octaves: transpose= on K: or V: (abcjs keeps it on the clef), or
+ * %%MIDI transpose in the header or the body.
+ */
+function transposed(tune: AbcTune): boolean {
+  const shifts = [
+    ...tune.lines.flatMap((l) => (l.staff ?? []).map((s) => s.clef?.transpose ?? 0)),
+    ...(tune.formatting.midi?.transpose ?? []),
+    ...elements(tune).filter((e) => e.el_type === 'midi' && e.cmd === 'transpose').map((e) => e.params?.[0]),
+  ];
+  return shifts.some((t) => Number(t) % 12 !== 0);
+}
+
 function elements(tune: AbcTune): AbcElement[] {
   return tune.lines.flatMap((l) => (l.staff ?? []).flatMap((s) => (s.voices ?? []).flat()));
 }
 
+/** The tune's first K: key, as a key signature. */
 function keyOf(tune: AbcTune): Key | null {
-  const k = tune.getKeySignature();
-  if (!/^[A-G]$/.test(k.root)) return null;
+  const k = tune.lines.flatMap((l) => l.staff ?? []).find((s) => s.key)?.key;
+  if (!k || !/^[A-G]$/.test(k.root)) return null;
   const fifths = (k.accidentals ?? []).reduce((s, a) => s + (a.acc === 'sharp' ? 1 : a.acc === 'flat' ? -1 : 0), 0);
   return keyFromSignature(Math.max(-7, Math.min(7, fifths)), MINOR_MODES.test(k.mode));
 }
@@ -129,6 +151,38 @@ function metersOf(tune: AbcTune): TimeSignature[] {
   return found.filter((m, i) => i === 0 || m.numerator !== found[i - 1].numerator || m.denominator !== found[i - 1].denominator);
 }
 
+/**
+ * abcjs plays a repeated section in the key that was in force where the
+ * repeat sign stands only when it goes back to the start; going back to a
+ * start-repeat sign after a key change, it would keep the new key. So the
+ * key in force is written again after each start-repeat sign, as a reader
+ * sees it. abcjs drops a key equal to the one before it, so the copy follows
+ * a placeholder key that differs from it (one with no accidentals, or one
+ * sharp for a key that has none); the copy then sets the key at once.
+ */
+function keysAtRepeats(tune: AbcTune): void {
+  const inForce = new Map<string, AbcKey>();
+  for (const line of tune.lines) {
+    (line.staff ?? []).forEach((staff, j) => {
+      (staff.voices ?? []).forEach((voice, k) => {
+        const id = `${j}/${k}`;
+        if (staff.key) inForce.set(id, staff.key);
+        for (let i = 0; i < voice.length; i++) {
+          const el = voice[i];
+          const key = inForce.get(id);
+          if (el.el_type === 'key') inForce.set(id, el as AbcKey);
+          else if (el.el_type === 'bar' && (el.type === 'bar_left_repeat' || el.type === 'bar_dbl_repeat') && key) {
+            const plain = !(key.accidentals ?? []).some((a) => a.acc !== 'natural');
+            const placeholder = { el_type: 'key', accidentals: plain ? [{ acc: 'sharp', note: 'f' }] : [] };
+            voice.splice(i + 1, 0, placeholder, { ...key, el_type: 'key' });
+            i += 2;
+          }
+        }
+      });
+    });
+  }
+}
+
 /** One tune's text → a piece. Throws a TuneError saying what is wrong with the tune. */
 function readTune(abc: string, id: string, options: { percussion?: boolean }): ScorePiece {
   const [tune] = abcjs.parseOnly(abc) as unknown as AbcTune[];
@@ -138,9 +192,10 @@ function readTune(abc: string, id: string, options: { percussion?: boolean }): S
     delete el.gracenotes;
     if (el.startChar !== undefined && el.el_type === 'note') byChar.set(el.startChar, el);
   }
+  keysAtRepeats(tune);
   const { tracks } = tune.setUpAudio({ chordsOff: true, drumOff: true });
   const notes: Note[] = [];
-  let spelled = true;
+  let spelled = !transposed(tune);
   for (const track of tracks) {
     const program = track.find((e) => e.cmd === 'program');
     const channel = Math.min(16, (program?.channel ?? 0) + 1);
@@ -182,7 +237,7 @@ function tuneIds(tunes: { pure: string }[]): string[] {
 /** Parses an ABC file's text into its tunes; a tune that cannot be read is listed with its reason. Throws ScoreFileError when the file holds no tune. */
 export function parseAbc(text: string, file: string, options: { percussion?: boolean } = {}): ScoreFile {
   const book = new abcjs.TuneBook(text.replace(/\r\n?/g, '\n')) as unknown as { tunes: { abc: string; pure: string }[] };
-  const tunes = book.tunes.filter((t) => /\S/.test(t.pure));
+  const tunes = book.tunes.filter((t) => /^[XK]:/m.test(t.pure)); // text with neither is a file's header or free text between tunes
   if (tunes.length === 0) throw new ScoreFileError(file, 'holds no ABC tune (a tune starts with an X: line, then its header fields and the K: key)');
   const ids = tuneIds(tunes);
   const pieces: ScorePiece[] = [];
