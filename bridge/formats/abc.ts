@@ -24,10 +24,10 @@
  *   // → { id: '1', title: 'Gull Point', notes: [{ onset: 0, duration: 0.5, pitch: 62, morph: 61, … }, …], key: { tonic: 'D', … }, … }
  */
 import abcjs from 'abcjs';
-import { type Note, GRAINS_PER_BEAT } from '../../core/note.js';
+import type { Note } from '../../core/note.js';
 import { notesLength } from '../../core/corpus.js';
 import { type Key, estimateKey, keyFromSignature, spellNotes } from '../../core/spelling.js';
-import { type ScoreFile, type ScorePiece, type SkippedPiece, type TimeSignature, MAX_SCORE_NOTES, ScoreFileError } from './score-piece.js';
+import { type ScoreFile, type ScorePiece, type SkippedPiece, type TimeSignature, MAX_SCORE_NOTES, ScoreFileError, onGrid } from './score-piece.js';
 
 /** The parts of abcjs's parsed tune this reader uses. */
 interface AbcPitch {
@@ -78,12 +78,8 @@ class TuneError extends Error {}
 const NATURAL = [0, 2, 4, 5, 7, 9, 11];
 const MINOR_MODES = /^(m|min|minor|aeo|dor|phr|loc)/i;
 
-/** abcjs's times are whole notes, rounded to 6 decimals: as beats, put back on the grain grid when that close to it. */
-function beats(wholeNotes: number): number {
-  const grains = wholeNotes * 4 * GRAINS_PER_BEAT;
-  const near = Math.round(grains);
-  return Math.abs(grains - near) < 0.05 ? near / GRAINS_PER_BEAT : wholeNotes * 4;
-}
+/** abcjs's times are whole notes, rounded to 6 decimals: as beats, back on the grain grid. */
+const beats = (wholeNotes: number): number => onGrid(wholeNotes * 4);
 
 /**
  * Morphetic pitch of a note written `step` letters from middle C that sounds

@@ -20,7 +20,7 @@
  */
 import { morphOf } from '../../core/spelling.js';
 import type { BarRepeats } from './repeats.js';
-import { ScoreFileError } from './score-piece.js';
+import { ScoreFileError, onGrid } from './score-piece.js';
 import { type XmlElement, child, childText, children } from './xml-tree.js';
 
 export interface BarNote {
@@ -172,7 +172,7 @@ export function readPartBars(part: XmlElement, file: string): Bar[] {
     const d = num(childText(el, 'duration'));
     if (d === null || d < 0) return 0;
     if (state.divisions === null) throw new ScoreFileError(file, `part ${part.attrs.id ?? '?'}, bar ${bar}: a <duration> comes before any <divisions>, so it cannot be turned into beats; give <divisions> in the part's first <attributes>`);
-    return d / state.divisions;
+    return onGrid(d / state.divisions);
   };
   return children(part, 'measure').map((measure) => {
     const bar: Bar = { beats: 0, notes: [], repeats: readRepeats(measure, ending), meter: null, key: null };
@@ -187,8 +187,8 @@ export function readPartBars(part: XmlElement, file: string): Bar[] {
       } else if (el.name === 'sound' || el.name === 'direction') {
         const v = velocityOf((el.name === 'sound' ? el : child(el, 'sound'))?.attrs.dynamics);
         if (v !== null) state.velocity = v;
-      } else if (el.name === 'backup') pos = Math.max(0, pos - beatsOf(el, where));
-      else if (el.name === 'forward') pos += beatsOf(el, where);
+      } else if (el.name === 'backup') pos = Math.max(0, onGrid(pos - beatsOf(el, where)));
+      else if (el.name === 'forward') pos = onGrid(pos + beatsOf(el, where));
       else if (el.name === 'note') {
         if (child(el, 'grace')) continue;
         const duration = beatsOf(el, where);
@@ -197,7 +197,7 @@ export function readPartBars(part: XmlElement, file: string): Bar[] {
         if (!child(el, 'cue')) bar.notes.push(...soundingNotes(el, at, duration, state));
         if (!chord) {
           chordAt = pos;
-          pos += duration;
+          pos = onGrid(pos + duration);
         }
       }
       bar.beats = Math.max(bar.beats, pos);

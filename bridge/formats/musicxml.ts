@@ -22,7 +22,7 @@ import { notesLength } from '../../core/corpus.js';
 import { estimateKey, keyFromSignature } from '../../core/spelling.js';
 import { type Bar, type BarNote, readPartBars } from './musicxml-part.js';
 import { type BarRepeats, playOrder } from './repeats.js';
-import { type ScorePiece, type TimeSignature, MAX_SCORE_NOTES, ScoreFileError } from './score-piece.js';
+import { type ScorePiece, type TimeSignature, MAX_SCORE_NOTES, ScoreFileError, onGrid } from './score-piece.js';
 import { type XmlElement, child, childText, children, xmlTree } from './xml-tree.js';
 
 const PERCUSSION_CHANNEL = 10;
@@ -84,7 +84,7 @@ function joinTies(notes: (BarNote & { onset: number })[]): (BarNote & { onset: n
   for (const n of notes) {
     const held = n.tie.stop ? open.get(n.pitch) : undefined;
     if (held && Math.abs(held.onset + held.duration - n.onset) < 1e-6) {
-      held.duration += n.duration;
+      held.duration = onGrid(held.duration + n.duration);
       if (!n.tie.start) open.delete(n.pitch);
       continue;
     }
@@ -120,13 +120,13 @@ export function parseMusicXml(bytes: Uint8Array, file: string, options: { percus
   let at = 0;
   for (const i of order) {
     starts.push(at);
-    at += beats[i];
+    at = onGrid(at + beats[i]);
   }
   const notes: Note[] = [];
   bars.forEach((partBars, p) => {
     const channel = partChannels[p];
     if (channel === PERCUSSION_CHANNEL && !options.percussion) return;
-    const played = order.flatMap((i, k) => (partBars[i]?.notes ?? []).map((n) => ({ ...n, onset: starts[k] + n.at })));
+    const played = order.flatMap((i, k) => (partBars[i]?.notes ?? []).map((n) => ({ ...n, onset: onGrid(starts[k] + n.at) })));
     if (notes.length + played.length > MAX_SCORE_NOTES) throw new ScoreFileError(file, `comes to more than ${MAX_SCORE_NOTES.toLocaleString('en')} notes with its repeats written out, the most earwitness reads from one score`);
     for (const n of joinTies(played)) notes.push({ onset: n.onset, duration: n.duration, pitch: n.pitch, morph: n.morph, velocity: n.velocity, channel });
   });

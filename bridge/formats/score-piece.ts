@@ -12,7 +12,7 @@
  *   pieceId('tunes/book.abc', '3')    // → 'tunes/book.abc#3'
  *   throw new ScoreFileError('song.musicxml', 'not MusicXML (its root element is <html>)')
  */
-import type { Note } from '../../core/note.js';
+import { type Note, GRAINS_PER_BEAT } from '../../core/note.js';
 import type { Key } from '../../core/spelling.js';
 
 /** Most notes one score or tune may come to with its repeats written out. */
@@ -66,3 +66,14 @@ export class ScoreFileError extends Error {
 
 /** How a piece of a file is named in a corpus: the file's path, and `#id` for one of several pieces. */
 export const pieceId = (path: string, id: string | null): string => (id === null ? path : `${path}#${id}`);
+
+/**
+ * A time in beats put back on the grain grid when it is that close to it
+ * (within 1/20 grain), so sums of thirds and fifths of a beat come out as
+ * the same numbers a MIDI file's ticks give; other times are kept as they are.
+ */
+export function onGrid(beats: number): number {
+  const grains = beats * GRAINS_PER_BEAT;
+  const near = Math.round(grains);
+  return Math.abs(grains - near) < 0.05 ? near / GRAINS_PER_BEAT : beats;
+}
