@@ -39,12 +39,15 @@ interface AbcElement {
   startChar?: number;
   pitches?: (AbcPitch | null)[];
   gracenotes?: unknown;
+  duration?: number;
   midiPitches?: { pitch: number }[];
   currentTrackWholeNotes?: number | number[];
   type?: string;
   value?: { num: string; den: string }[];
   cmd?: string;
   params?: unknown[];
+  rest?: { type: string; text?: number };
+  startEnding?: string;
 }
 interface AbcKey {
   accidentals?: { acc: string; note?: string }[];
@@ -72,6 +75,14 @@ interface AbcTune {
 }
 
 const PERCUSSION_CHANNEL = 10;
+/** Most bars of rest (Z, a rest of several bars) one tune may hold: abcjs lays out every bar of it, and a billion would end the process. */
+const MAX_REST_BARS = 10_000;
+/** Longest a tune may be as written, in whole notes (100,000 is 400,000 beats, a day and a half at 180 a minute): abcjs lays out time in steps, and a note of 10^16 whole notes would end the process. */
+const MAX_WHOLE_NOTES = 100_000;
+/** Highest ending number ([1, [2 … ): abcjs steps through every number up to the highest, so [99999900 would take minutes. */
+const MAX_ENDING = 64;
+/** Largest numerator and denominator of a time signature: abcjs lays out every beat of a bar, and a hundred million would end the process. */
+const MAX_METER = 256;
 
 /** What is wrong with one tune of a file (the file's other tunes may be fine). */
 class TuneError extends Error {}
@@ -184,6 +195,17 @@ function readTune(abc: string, id: string, options: { percussion?: boolean }): S
   const [tune] = abcjs.parseOnly(abc) as unknown as AbcTune[];
   if (!tune) throw new TuneError('holds no tune abcjs could read');
   const byChar = new Map<number, AbcElement>();
+  const written = elements(tune).reduce((sum, el) => sum + (el.el_type === 'note' && el.rest?.type !== 'multimeasure' ? Math.abs(Number(el.duration)) || 0 : 0), 0);
+  if (!(written <= MAX_WHOLE_NOTES)) throw new TuneError(`is ${written.toLocaleString('en')} whole notes long as written, longer than the ${MAX_WHOLE_NOTES.toLocaleString('en')} earwitness plays in one tune`);
+  const restBars = elements(tune).reduce((n, el) => n + (el.rest?.type === 'multimeasure' ? Number(el.rest.text) || 0 : 0), 0);
+  if (restBars > MAX_REST_BARS) throw new TuneError(`rests for ${restBars.toLocaleString('en')} bars (Z), more than the ${MAX_REST_BARS.toLocaleString('en')} earwitness plays in one tune`);
+  const ending = elements(tune).flatMap((e) => (e.startEnding ? String(e.startEnding).split(/[^0-9]+/) : [])).map(Number).find((n) => n > MAX_ENDING);
+  if (ending !== undefined) throw new TuneError(`has an ending numbered ${ending}; earwitness plays endings numbered up to ${MAX_ENDING}`);
+  const meters = [...tune.lines.flatMap((l) => (l.staff ?? []).map((st) => st.meter)), ...elements(tune).filter((e) => e.el_type === 'meter')];
+  for (const v of meters.flatMap((m) => m?.value ?? [])) {
+    const parts = [...String(v.num).split('+'), String(v.den)].map(Number);
+    if (parts.some((n) => !(Math.abs(n) <= MAX_METER))) throw new TuneError(`has the time signature ${v.num}/${v.den}; earwitness plays time signatures of at most ${MAX_METER} over ${MAX_METER}`);
+  }
   for (const el of elements(tune)) {
     delete el.gracenotes;
     if (el.startChar !== undefined && el.el_type === 'note') byChar.set(el.startChar, el);
@@ -197,13 +219,13 @@ function readTune(abc: string, id: string, options: { percussion?: boolean }): S
     const channel = Math.min(16, (program?.channel ?? 0) + 1);
     if (channel === PERCUSSION_CHANNEL && !options.percussion) continue;
     for (const e of track) {
-      if (e.cmd !== 'note' || !(e.pitch >= 0 && e.pitch <= 127)) continue;
+      if (e.cmd !== 'note' || !(e.pitch >= 0 && e.pitch <= 127) || !Number.isFinite(e.start) || !(e.start >= 0) || !Number.isFinite(e.duration)) continue;
       const el = e.startChar === undefined ? undefined : byChar.get(e.startChar);
       const i = el?.midiPitches?.findIndex((m) => m.pitch === e.pitch) ?? -1;
       const step = i >= 0 ? el!.pitches?.filter((p) => p)[i]?.pitch : undefined;
       const morph = step === undefined ? null : writtenMorph(step, e.pitch);
       if (morph === null) spelled = false;
-      notes.push({ onset: beats(e.start), duration: beats(e.duration), pitch: e.pitch, morph: morph ?? e.pitch, velocity: Math.min(127, Math.max(1, Math.round(e.volume))), channel });
+      notes.push({ onset: beats(e.start), duration: Math.max(0, beats(e.duration)), pitch: e.pitch, morph: morph ?? e.pitch, velocity: Math.min(127, Math.max(1, Math.round(e.volume))), channel });
       if (notes.length > MAX_SCORE_NOTES) throw new TuneError(`comes to more than ${MAX_SCORE_NOTES.toLocaleString('en')} notes with its repeats written out, the most earwitness reads from one tune`);
     }
   }

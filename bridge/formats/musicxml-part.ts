@@ -19,6 +19,7 @@
  *   //     repeats: { forward: false, times: 0, endings: null }, meter: { numerator: 4, denominator: 4 }, fifths: 0, minor: false }
  */
 import { morphOf } from '../../core/spelling.js';
+import { MAX_PITCH } from '../../core/triple-index.js';
 import type { BarRepeats } from './repeats.js';
 import { ScoreFileError, onGrid } from './score-piece.js';
 import { type XmlElement, child, childText, children } from './xml-tree.js';
@@ -78,9 +79,10 @@ const velocityOf = (dynamics: string | undefined): number | null => {
 function readTranspose(el: XmlElement): Transpose {
   const d = child(el, 'double');
   return {
-    chromatic: num(childText(el, 'chromatic')) ?? 0,
-    diatonic: num(childText(el, 'diatonic')) ?? 0,
-    octave: num(childText(el, 'octave-change')) ?? 0,
+    // MusicXML gives whole numbers; anything else is taken to the nearest.
+    chromatic: Math.round(num(childText(el, 'chromatic')) ?? 0),
+    diatonic: Math.round(num(childText(el, 'diatonic')) ?? 0),
+    octave: Math.round(num(childText(el, 'octave-change')) ?? 0),
     double: d ? (d.attrs.above === 'yes' ? 1 : -1) : 0,
   };
 }
@@ -110,7 +112,7 @@ function soundingNotes(note: XmlElement, at: number, duration: number, state: Pa
   if (!p) return [];
   const step = childText(p, 'step') ?? '';
   const octave = num(childText(p, 'octave'));
-  if (!(step in PC_OF_STEP) || octave === null || !Number.isInteger(octave)) return [];
+  if (!Object.hasOwn(PC_OF_STEP, step) || octave === null || !Number.isInteger(octave)) return [];
   const t = state.transpose;
   const written = 12 * (octave + 1) + PC_OF_STEP[step] + Math.round(num(childText(p, 'alter')) ?? 0);
   const pitch = written + t.chromatic + 12 * t.octave;
@@ -118,7 +120,8 @@ function soundingNotes(note: XmlElement, at: number, duration: number, state: Pa
   const ties = [...children(note, 'tie'), ...children(note, 'notations').flatMap((n) => children(n, 'tied'))].map((e) => e.attrs.type);
   const velocity = velocityOf(note.attrs.dynamics) ?? state.velocity;
   const one = (shift: number): BarNote => ({ at, duration, pitch: pitch + 12 * shift, morph: morph + 7 * shift, velocity, tie: { start: ties.includes('start'), stop: ties.includes('stop') } });
-  return (t.double ? [one(0), one(t.double)] : [one(0)]).filter((n) => n.pitch >= 0 && n.pitch <= 127 && n.morph >= 0);
+  // A pitch outside MIDI's range, or a letter a nonsensical <diatonic> moved past any pitch, cannot be played: left out.
+  return (t.double ? [one(0), one(t.double)] : [one(0)]).filter((n) => n.pitch >= 0 && n.pitch <= 127 && n.morph >= 0 && n.morph <= MAX_PITCH);
 }
 
 function readRepeats(measure: XmlElement, ending: { numbers: number[] | null }): BarRepeats {

@@ -26,6 +26,8 @@ import { type ScorePiece, type TimeSignature, MAX_SCORE_NOTES, ScoreFileError, o
 import { type XmlElement, child, childText, children, xmlTree } from './xml-tree.js';
 
 const PERCUSSION_CHANNEL = 10;
+/** Most bars a score may come to with its repeats written out: a long score with its repeats is a few thousand. */
+const MAX_PLAYED_BARS = 100_000;
 
 /** XML bytes → text: UTF-16 when the bytes start with its byte order mark, else UTF-8 (what MusicXML files use). */
 export function decodeXml(bytes: Uint8Array): string {
@@ -112,7 +114,7 @@ export function parseMusicXml(bytes: Uint8Array, file: string, options: { percus
   const { repeats, beats } = mergeBars(bars);
   let order: number[];
   try {
-    order = playOrder(repeats);
+    order = playOrder(repeats, MAX_PLAYED_BARS);
   } catch (e) {
     throw new ScoreFileError(file, (e as Error).message);
   }
@@ -122,12 +124,13 @@ export function parseMusicXml(bytes: Uint8Array, file: string, options: { percus
     starts.push(at);
     at = onGrid(at + beats[i]);
   }
+  const total = bars.reduce((sum, partBars) => sum + order.reduce((s, i) => s + (partBars[i]?.notes.length ?? 0), 0), 0);
+  if (total > MAX_SCORE_NOTES) throw new ScoreFileError(file, `comes to more than ${MAX_SCORE_NOTES.toLocaleString('en')} notes with its repeats written out, the most earwitness reads from one score`);
   const notes: Note[] = [];
   bars.forEach((partBars, p) => {
     const channel = partChannels[p];
     if (channel === PERCUSSION_CHANNEL && !options.percussion) return;
     const played = order.flatMap((i, k) => (partBars[i]?.notes ?? []).map((n) => ({ ...n, onset: onGrid(starts[k] + n.at) })));
-    if (notes.length + played.length > MAX_SCORE_NOTES) throw new ScoreFileError(file, `comes to more than ${MAX_SCORE_NOTES.toLocaleString('en')} notes with its repeats written out, the most earwitness reads from one score`);
     for (const n of joinTies(played)) notes.push({ onset: n.onset, duration: n.duration, pitch: n.pitch, morph: n.morph, velocity: n.velocity, channel });
   });
   notes.sort((a, b) => a.onset - b.onset || a.pitch - b.pitch);
