@@ -39,7 +39,7 @@ export function corpusPoints(corpus: Corpus, mode: PitchMode): CorpusPoints {
 }
 
 /** The name a person knows a piece by: its title, else its file name. */
-export const pieceName = (piece: Piece): string => piece.title ?? piece.path.split('/').pop()!.replace(/\.midi?$/i, '');
+export const pieceName = (piece: Piece): string => piece.title ?? piece.path.split('/').pop()!.replace(/\.(midi?|musicxml|xml|mxl)$/i, '');
 
 /** Length in beats of a set of notes: the end of the last note to sound. */
 export const notesLength = (notes: readonly Note[]): number => notes.reduce((end, n) => Math.max(end, n.onset + n.duration), 0);

@@ -103,6 +103,13 @@ export function estimateKey(notes: readonly Pick<Note, 'pitch' | 'duration'>[]):
   return { ...key, correlation: Number.isFinite(best.r) ? best.r : 0 };
 }
 
+/** Morphetic pitch of a letter name in an octave (scientific pitch: C4 → 60, D4 → 61, B3 → 59), whatever its accidental. */
+export function morphOf(letter: string, octave: number): number {
+  const step = STEP_OF_LETTER[letter];
+  if (step === undefined) throw new Error(`not a letter name: "${letter}" (expected A–G)`);
+  return 7 * octave + step + 32;
+}
+
 export interface Spelled {
   /** Scientific pitch name, C4 = MIDI 60. */
   name: string;
@@ -123,7 +130,7 @@ export function spell(pitch: number, key: Key): Spelled {
   const letter = pc[0];
   const alter = Math.floor((pos + 1) / 7);
   const octave = Math.floor((pitch - alter - PC_OF_LETTER[letter]) / 12) - 1;
-  return { name: `${pc}${octave}`, morph: 7 * octave + STEP_OF_LETTER[letter] + 32 };
+  return { name: `${pc}${octave}`, morph: morphOf(letter, octave) };
 }
 
 /** Gives every note its morphetic pitch in the given key (or one estimated from the notes). */

@@ -9,6 +9,7 @@ import { registerReview } from './commands/review.js';
 import { registerScore } from './commands/score.js';
 import { EXIT, Outcome } from './usage.js';
 import { UsageError } from '../formats/user-error.js';
+import { ScoreFileError } from '../formats/score-piece.js';
 
 export function program(): Command {
   const cli = new Command('earwitness')
@@ -44,7 +45,7 @@ export async function run(argv: string[]): Promise<number> {
   } catch (e) {
     if (e instanceof CommanderError) return e.exitCode === 0 ? EXIT.ok : EXIT.usage;
     if (e instanceof Outcome) return e.code;
-    const known = e instanceof UsageError || (e as Error).name === 'MidiFileError' || e instanceof RangeError;
+    const known = e instanceof UsageError || (e as Error).name === 'MidiFileError' || e instanceof ScoreFileError || e instanceof RangeError;
     process.stderr.write(`earwitness: ${(e as Error).message}\n`);
     if (!known) process.stderr.write(`${(e as Error).stack}\n`);
     return EXIT.usage;

@@ -1,6 +1,6 @@
 /**
- * A worker thread of `corpus build`: reads one MIDI file per message and
- * answers with its piece, notes flattened into transferable typed arrays (no
+ * A worker thread of `corpus build`: reads one score file per message and
+ * answers with its pieces (one, or a tune book's tunes), notes flattened into transferable typed arrays (no
  * copying of millions of note objects between threads), and the SHA-256 of
  * its bytes for the next rebuild. A file that cannot be read is answered with
  * its reason; the main thread ends a worker that takes too long.
@@ -8,15 +8,16 @@
  * @example
  *   const w = new Worker(new URL('./build-worker.js', import.meta.url));
  *   w.postMessage({ file: '/songs/a.mid', root: '/songs', percussion: false });
- *   w.once('message', (r: ParsedFile) => r.piece?.path)   // → 'a.mid'
+ *   w.once('message', (r: ParsedFile) => r.pieces[0]?.path)   // → 'a.mid'
  */
 import { createHash } from 'node:crypto';
 import { readFileSync, statSync } from 'node:fs';
 import { parentPort } from 'node:worker_threads';
 import { type FlatNotes, flattenNotes } from '../../core/flat-notes.js';
-import { readPiece } from './corpus-files.js';
+import { type Skipped, readPieces } from './corpus-files.js';
 import type { PieceInfo } from '../formats/index-file.js';
-import { MAX_MIDI_BYTES, MidiFileError } from '../formats/midi-file.js';
+import { MAX_MIDI_BYTES } from '../formats/midi-file.js';
+import { unreadableReason } from '../formats/read-file.js';
 
 export interface ParseTask {
   file: string;
@@ -28,11 +29,15 @@ export interface ParsedFile {
   file: string;
   /** Null for a file over the size limit, which is not read at all. */
   sha256: string | null;
-  piece: (PieceInfo & { notes: FlatNotes }) | null;
+  /** The file's pieces with notes, in order, and their notes (piece i of the file is piece i of `notes`); none when `error`. */
+  pieces: PieceInfo[];
+  notes: FlatNotes | null;
+  /** Pieces of the file that could not be read or hold no notes, while others could. */
+  skipped: Skipped[];
   error: string | null;
 }
 
-/** SHA-256 of a file's bytes, or null when it is over the MIDI size limit (it will be skipped unread). */
+/** SHA-256 of a file's bytes, or null when it is over the size limit (it will be skipped unread). */
 export function fileHash(file: string): string | null {
   if (statSync(file).size > MAX_MIDI_BYTES) return null;
   return createHash('sha256').update(readFileSync(file)).digest('hex');
@@ -40,16 +45,19 @@ export function fileHash(file: string): string | null {
 
 function parse(task: ParseTask): { message: ParsedFile; transfer: ArrayBuffer[] } {
   let sha256: string | null = null;
+  const unread = (error: string): { message: ParsedFile; transfer: ArrayBuffer[] } => ({ message: { file: task.file, sha256, pieces: [], notes: null, skipped: [], error }, transfer: [] });
   try {
     sha256 = fileHash(task.file);
-    const { notes, ...info } = readPiece(task.file, task.root, { percussion: task.percussion });
-    if (notes.length === 0) return { message: { file: task.file, sha256, piece: null, error: 'holds no notes' }, transfer: [] };
-    const flat = flattenNotes([{ path: info.path, notes }]);
+    const read = readPieces(task.file, task.root, { percussion: task.percussion });
+    const withNotes = read.pieces.filter((p) => p.notes.length > 0);
+    const skipped = [...read.pieces.filter((p) => p.notes.length === 0).map((p) => ({ file: p.path, error: 'holds no notes' })), ...read.skipped];
+    if (withNotes.length === 0) return unread(read.pieces.length + read.skipped.length > 1 ? `holds no tune with notes (${skipped.map((s) => `${s.file}: ${s.error}`).join('; ')})` : (skipped[0]?.error ?? 'holds no notes'));
+    const flat = flattenNotes(withNotes);
     const transfer = Object.values(flat).map((a: Uint8Array) => a.buffer as ArrayBuffer);
-    return { message: { file: task.file, sha256, piece: { ...info, notes: flat }, error: null }, transfer };
+    const pieces = withNotes.map(({ notes: _, ...info }) => info);
+    return { message: { file: task.file, sha256, pieces, notes: flat, skipped, error: null }, transfer };
   } catch (e) {
-    const error = e instanceof MidiFileError ? e.reason : (e as Error).message;
-    return { message: { file: task.file, sha256, piece: null, error }, transfer: [] };
+    return unread(unreadableReason(e));
   }
 }
 

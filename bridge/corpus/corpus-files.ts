@@ -1,28 +1,31 @@
 /**
- * Finding MIDI files on disk and loading them as corpus pieces or queries.
- * An unreadable file is skipped with its reason, never a crash.
+ * Finding score files on disk (MIDI, MusicXML, ABC: bridge/formats) and
+ * loading them as corpus pieces or queries. A tune book gives a piece per
+ * tune, known as `book.abc#X`. An unreadable file or tune is skipped with
+ * its reason, never a crash.
  */
 import { readdirSync, statSync } from 'node:fs';
 import { join, relative, sep } from 'node:path';
 import type { Corpus, Piece } from '../../core/corpus.js';
 import type { QueryInput } from '../../core/report.js';
-import { type MidiReadOptions, MidiFileError, readMidi } from '../formats/midi-file.js';
+import { MidiFileError } from '../formats/midi-file.js';
+import { type ScoreReadOptions, pieceId } from '../formats/score-piece.js';
+import { formatOf, readScoreFile, unreadableReason } from '../formats/read-file.js';
 
-export const isMidiPath = (p: string): boolean => /\.midi?$/i.test(p);
 
 export interface Skipped {
   file: string;
   error: string;
 }
 
-/** Every .mid/.midi file under `dir`, recursively, in a stable order. */
-export function findMidiFiles(dir: string): string[] {
+/** Every score file (MIDI, MusicXML, ABC) under `dir`, recursively, in a stable order. */
+export function findScoreFiles(dir: string): string[] {
   const out: string[] = [];
   const walk = (d: string): void => {
     for (const entry of readdirSync(d, { withFileTypes: true }).sort((a, b) => (a.name < b.name ? -1 : a.name > b.name ? 1 : 0))) {
       const p = join(d, entry.name);
       if (entry.isDirectory()) walk(p);
-      else if (entry.isFile() && isMidiPath(entry.name)) out.push(p);
+      else if (entry.isFile() && formatOf(entry.name) !== null) out.push(p);
     }
   };
   walk(dir);
@@ -31,44 +34,52 @@ export function findMidiFiles(dir: string): string[] {
 
 const portable = (p: string): string => p.split(sep).join('/');
 
-export function readPiece(file: string, root: string, options: MidiReadOptions = {}): Piece {
-  const m = readMidi(file, options);
-  return { path: portable(relative(root, file)), title: m.title, beats: m.beats, key: m.key, notes: m.notes };
+/** A file's pieces, each named by its path from `root` (and `#id` for one of several), and the pieces of it that could not be read. */
+export function readPieces(file: string, root: string, options: ScoreReadOptions = {}): { pieces: Piece[]; skipped: Skipped[] } {
+  const path = portable(relative(root, file));
+  const read = readScoreFile(file, options);
+  return {
+    pieces: read.pieces.map((p) => ({ path: pieceId(path, p.id), title: p.title, beats: p.beats, key: p.key, notes: p.notes })),
+    skipped: read.skipped.map((s) => ({ file: pieceId(path, s.id), error: s.error })),
+  };
 }
 
-const reason = (e: unknown): string => (e instanceof MidiFileError ? e.reason : (e as Error).message);
-
-/** Loads every MIDI file under `dir` as a piece; files that cannot be read are listed, not fatal. */
-export function loadCorpusFolder(dir: string, options: MidiReadOptions & { progress?: (done: number, total: number) => void } = {}): { corpus: Corpus; skipped: Skipped[] } {
-  const files = findMidiFiles(dir);
+/** Loads every score file under `dir` as pieces; files and tunes that cannot be read are listed, not fatal. */
+export function loadCorpusFolder(dir: string, options: ScoreReadOptions & { progress?: (done: number, total: number) => void } = {}): { corpus: Corpus; skipped: Skipped[] } {
+  const files = findScoreFiles(dir);
   const pieces: Piece[] = [];
   const skipped: Skipped[] = [];
   files.forEach((file, i) => {
     try {
-      const piece = readPiece(file, dir, options);
-      if (piece.notes.length === 0) skipped.push({ file: portable(relative(dir, file)), error: 'holds no notes' });
-      else pieces.push(piece);
+      const read = readPieces(file, dir, options);
+      for (const piece of read.pieces) {
+        if (piece.notes.length === 0) skipped.push({ file: piece.path, error: 'holds no notes' });
+        else pieces.push(piece);
+      }
+      skipped.push(...read.skipped);
     } catch (e) {
-      skipped.push({ file: portable(relative(dir, file)), error: reason(e) });
+      skipped.push({ file: portable(relative(dir, file)), error: unreadableReason(e) });
     }
     options.progress?.(i + 1, files.length);
   });
   return { corpus: { pieces }, skipped };
 }
 
-/** Loads query files (files or folders); unreadable ones are listed, not fatal. */
-export function loadQueries(paths: readonly string[], options: MidiReadOptions = {}): { queries: (QueryInput & { folder: string | null })[]; skipped: Skipped[] } {
+/** Loads query files (files or folders; a tune book gives a query per tune); unreadable ones are listed, not fatal. */
+export function loadQueries(paths: readonly string[], options: ScoreReadOptions = {}): { queries: (QueryInput & { folder: string | null })[]; skipped: Skipped[] } {
   const queries: (QueryInput & { folder: string | null })[] = [];
   const skipped: Skipped[] = [];
   for (const p of paths) {
     const isDir = statSafe(p)?.isDirectory() ?? false;
     // A MidiFileError, like any unreadable input: the message names the path, with no stack trace.
     if (!statSafe(p)) throw new MidiFileError(p, 'no such file or folder');
-    for (const file of isDir ? findMidiFiles(p) : [p]) {
+    for (const file of isDir ? findScoreFiles(p) : [p]) {
       try {
-        queries.push({ file: portable(file), notes: readMidi(file, options).notes, folder: isDir ? portable(p) : null });
+        const read = readScoreFile(file, options);
+        for (const piece of read.pieces) queries.push({ file: pieceId(portable(file), piece.id), notes: piece.notes, folder: isDir ? portable(p) : null });
+        for (const s of read.skipped) skipped.push({ file: pieceId(portable(file), s.id), error: s.error });
       } catch (e) {
-        skipped.push({ file: portable(file), error: reason(e) });
+        skipped.push({ file: portable(file), error: unreadableReason(e) });
       }
     }
   }

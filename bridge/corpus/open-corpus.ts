@@ -1,7 +1,7 @@
 /**
- * `--corpus PATH`: a folder of MIDI files, or a corpus index file written by
- * `earwitness corpus build`. A folder holding a current index (every MIDI
- * file's size and mtime as indexed) is opened through the index; a folder
+ * `--corpus PATH`: a folder of score files (MIDI, MusicXML, ABC), or a corpus
+ * index file written by `earwitness corpus build`. A folder holding a
+ * current index (every score file's size and mtime as indexed) is opened through the index; a folder
  * whose index is out of date is read file by file, with a note saying so.
  *
  * Opened through an index, pieces read their notes from it only when first
@@ -27,7 +27,7 @@ import { notePoints, pieceNotes } from '../../core/flat-notes.js';
 import { type CorpusIndex, type FlatPoints, buildTriples, corpusIndex, flattenPoints, piecePoints } from '../../core/triple-index.js';
 import { type FingerprintTable, buildFingerprints } from '../../core/fingerprint.js';
 import { type MatchCorpus, type MatchMode, candidatesFor, windowMatcher } from '../../core/pipeline.js';
-import { type Skipped, findMidiFiles, loadCorpusFolder } from './corpus-files.js';
+import { type Skipped, findScoreFiles, loadCorpusFolder } from './corpus-files.js';
 import { type IndexContents, type Meta, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta } from '../formats/index-file.js';
 import { UsageError } from '../formats/user-error.js';
 
@@ -35,7 +35,7 @@ export interface OpenedCorpus {
   source: string;
   corpus: Corpus;
   skipped: Skipped[];
-  /** The index file the corpus came from, or null when it was read from its MIDI files. */
+  /** The index file the corpus came from, or null when it was read from its score files. */
   indexFile: string | null;
   /** The point sets of one pitch dimension. */
   view(mode: PitchMode): CorpusPoints;
@@ -93,8 +93,8 @@ export interface OpenOptions {
 /** Why a folder's index is not current, or null when it is. */
 function staleness(dir: string, meta: Meta, percussion: boolean): string | null {
   if (meta.percussion !== percussion) return `it was built ${meta.percussion ? 'with' : 'without'} --percussion`;
-  const files = findMidiFiles(dir);
-  if (files.length !== meta.files.length) return `it lists ${meta.files.length} MIDI files, the folder has ${files.length}`;
+  const files = findScoreFiles(dir);
+  if (files.length !== meta.files.length) return `it lists ${meta.files.length} score files, the folder has ${files.length}`;
   const known = new Map(meta.files.map((f) => [f.path, f]));
   for (const file of files) {
     const was = known.get(relative(dir, file).split(sep).join('/'));
@@ -160,7 +160,7 @@ function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
 function fromFolder(dir: string, options: OpenOptions): OpenedCorpus {
   const { corpus, skipped } = loadCorpusFolder(dir, { percussion: options.percussion, progress: options.progress });
   for (const s of skipped) options.notify?.(`skipped ${s.file}: ${s.error}`);
-  if (corpus.pieces.length === 0) throw new UsageError(`--corpus ${dir}: holds no readable MIDI file with notes`);
+  if (corpus.pieces.length === 0) throw new UsageError(`--corpus ${dir}: holds no readable score file (MIDI, MusicXML or ABC) with notes`);
   const matchCorpus = perMode((mode) => {
     const flat = flattenPoints(corpusPoints(corpus, mode));
     let table: FingerprintTable | null = null;
@@ -188,7 +188,7 @@ export function openCorpus(path: string, options: OpenOptions = {}): OpenedCorpu
     why = e.reason;
   }
   if (why === null) return fromIndex(file, options);
-  options.notify?.(`not using ${file} (${why}); reading the MIDI files instead. Run "earwitness corpus build ${path}" to bring the index up to date.`);
+  options.notify?.(`not using ${file} (${why}); reading the score files instead. Run "earwitness corpus build ${path}" to bring the index up to date.`);
   return fromFolder(path, options);
 }
 

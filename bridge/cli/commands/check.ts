@@ -119,7 +119,7 @@ function checkText(r: CheckResult): string {
 
 export function registerCheck(cli: Command): void {
   corpusCommand(cli, 'check', 'gate: exit 0 when the queries\' pooled originality meets the bar, 1 when it falls below (for a training loop or CI)')
-    .argument('<query...>', 'MIDI files or folders (a model checkpoint\'s output, say)')
+    .argument('<query...>', 'score files (MIDI, MusicXML, ABC) or folders (a model checkpoint\'s output, say)')
     .option('--min-originality <x>', 'the bar: an originality from 0 to 1', unitBar)
     .option('--against-baseline', "the bar: the lower end of the 95% interval of the corpus's human baseline")
     .option('--samples <n>', 'with --against-baseline: pieces the baseline samples', wholeNumber('--samples'), 50)

@@ -1,13 +1,15 @@
 /**
- * `earwitness corpus build DIR`: reads every MIDI file under DIR in worker
- * threads and writes the corpus index (bridge/formats/index-file.ts). A rebuild
+ * `earwitness corpus build DIR`: reads every score file (MIDI, MusicXML,
+ * ABC) under DIR in worker threads and writes the corpus index (bridge/formats/index-file.ts). A rebuild
  * reuses each file whose size and mtime, or failing those its content hash,
  * are unchanged, and re-reads only the rest. A file that cannot be read, or
  * takes longer than --file-seconds, is listed with its reason, never fatal.
+ * A tune book's tunes are pieces of one file: reused or re-read together.
  *
  * @example
  *   earwitness corpus build songs --json
- *   // → { "pieces": 120, "notes": 81234, "skipped": [], "out": "songs/.earwitness-index", "seconds": 3.1, "reparsed": 120, "reused": 0 }
+ *   // → { "pieces": 120, "notes": 81234, "skipped": [], "out": "songs/.earwitness-index", "seconds": 3.1, "reparsed": 120, "reused": 0,
+ *   //     "formats": { "midi": { "files": 100, "pieces": 100, "skipped": 0 }, "musicxml": { … }, "abc": { "files": 2, "pieces": 18, "skipped": 0 } }, … }
  */
 import { existsSync, statSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
@@ -19,7 +21,8 @@ import { type FlatNotes, joinNotes, notePoints } from '../../../core/flat-notes.
 import { CORPUS_TRIPLES, buildTriples } from '../../../core/triple-index.js';
 import { FINGERPRINT_SHAPE, buildFingerprints } from '../../../core/fingerprint.js';
 import { EXACT_MODE } from '../../../core/pipeline.js';
-import { findMidiFiles } from '../../corpus/corpus-files.js';
+import { findScoreFiles } from '../../corpus/corpus-files.js';
+import { type ScoreFormat, FORMAT_NAMES, SCORE_FORMATS, formatOf } from '../../formats/read-file.js';
 import { type FileFingerprint, type IndexContents, type PieceInfo, INDEX_NAME, IndexFileError, readIndexFile, writeIndexFile } from '../../formats/index-file.js';
 import { type ParseTask, type ParsedFile, fileHash } from '../../corpus/build-worker.js';
 import { printJson } from '../options.js';
@@ -48,8 +51,16 @@ export interface BuildSummary {
   reparsed: number;
   /** Files taken unchanged from the previous index. */
   reused: number;
+  /** Per format: files found, pieces indexed from them, files skipped whole. */
+  formats: Record<ScoreFormat, FormatCount>;
   /** With --baseline: each stored baseline's window and p99 window score (what a preset threshold "auto" becomes). */
   baselines: { window: number; p99: number }[];
+}
+
+export interface FormatCount {
+  files: number;
+  pieces: number;
+  skipped: number;
 }
 
 export interface BaselineRequest {
@@ -107,7 +118,7 @@ async function parseAll(tasks: ParseTask[], limitMs: number, progress: ProgressF
         if (typeof r === 'string') {
           await worker.terminate();
           worker = new Worker(url);
-          results[i] = { file: tasks[i].file, sha256: fileHash(tasks[i].file), piece: null, error: r };
+          results[i] = { file: tasks[i].file, sha256: fileHash(tasks[i].file), pieces: [], notes: null, skipped: [], error: r };
         } else results[i] = r;
         progress(++done, tasks.length);
       }
@@ -117,6 +128,16 @@ async function parseAll(tasks: ParseTask[], limitMs: number, progress: ProgressF
   };
   await Promise.all(Array.from({ length: Math.min(availableParallelism(), tasks.length) }, lane));
   return results;
+}
+
+/**
+ * The previous index's pieces by the file they came from: a piece is known by
+ * its file's path, or by that path and `#id` for one of a tune book's tunes.
+ */
+function piecesByFile(index: IndexContents | null): Map<string, number[]> {
+  const byFile = new Map<string, number[]>(index?.files.map((f) => [f.path, []]) ?? []);
+  index?.pieces.forEach((p, i) => (byFile.get(p.path) ?? byFile.get(p.path.slice(0, p.path.lastIndexOf('#'))))?.push(i));
+  return byFile;
 }
 
 /** The previous index, or null when there is none or it cannot be used (then every file is read). */
@@ -139,10 +160,10 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
   const old = previous(out);
   const reusable = old && old.percussion === percussion ? old : null;
   const oldFiles = new Map(reusable?.files.map((f) => [f.path, f]) ?? []);
-  const oldPieces = new Map(reusable?.pieces.map((p, i) => [p.path, i]) ?? []);
+  const oldPieces = piecesByFile(reusable);
 
   type Slot = { path: string; size: number; mtimeMs: number; reuse: FileFingerprint | null };
-  const slots: Slot[] = findMidiFiles(dir).map((file) => {
+  const slots: Slot[] = findScoreFiles(dir).map((file) => {
     const path = portable(relative(dir, file));
     const { size, mtimeMs } = statSync(file);
     const was = oldFiles.get(path);
@@ -158,25 +179,32 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
   const parts: { notes: FlatNotes; piece: number }[] = [];
   const files: FileFingerprint[] = [];
   const skipped: { file: string; error: string }[] = [];
+  const formats = Object.fromEntries(SCORE_FORMATS.map((f) => [f, { files: 0, pieces: 0, skipped: 0 }])) as Record<ScoreFormat, FormatCount>;
   for (const s of slots) {
     const fresh = parsed.get(s.path);
     const error = fresh ? fresh.error : s.reuse!.error;
+    const count = formats[formatOf(s.path)!];
+    count.files++;
     files.push({ path: s.path, size: s.size, mtimeMs: s.mtimeMs, sha256: fresh ? fresh.sha256 : s.reuse!.sha256, error });
     if (error !== null) {
       skipped.push({ file: s.path, error });
+      count.skipped++;
     } else if (fresh) {
-      const { notes, ...info } = fresh.piece!;
-      pieces.push(info);
-      parts.push({ notes, piece: 0 });
+      pieces.push(...fresh.pieces);
+      fresh.pieces.forEach((_, k) => parts.push({ notes: fresh.notes!, piece: k }));
+      skipped.push(...fresh.skipped);
+      count.pieces += fresh.pieces.length;
     } else {
-      const i = oldPieces.get(s.path)!;
-      pieces.push(reusable!.pieces[i]);
-      parts.push({ notes: reusable!.notes, piece: i });
+      for (const i of oldPieces.get(s.path) ?? []) {
+        pieces.push(reusable!.pieces[i]);
+        parts.push({ notes: reusable!.notes, piece: i });
+        count.pieces++;
+      }
     }
   }
   if (pieces.length === 0) {
     for (const s of skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
-    throw new UsageError(`corpus build ${dir}: no readable MIDI file with notes under it${skipped.length ? ` (${skipped.length} skipped)` : ''}`);
+    throw new UsageError(`corpus build ${dir}: no readable score file (MIDI, MusicXML or ABC) with notes under it${skipped.length ? ` (${skipped.length} skipped)` : ''}`);
   }
   const notes = joinNotes(parts);
   const points = PITCH_MODES.map((mode) => [mode, notePoints(notes, mode)] as const);
@@ -194,8 +222,21 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
     seconds: Math.round((performance.now() - began) / 10) / 100,
     reparsed: tasks.length,
     reused: slots.length - tasks.length,
+    formats,
     baselines: baselines.map((b) => ({ window: b.settings.window, p99: b.percentiles.p99 })),
   };
+}
+
+const plural = (n: number, one: string, many = `${one}s`): string => `${n} ${n === 1 ? one : many}`;
+
+/** "2 MIDI files (2 pieces), 1 ABC file (12 tunes, 1 skipped)": the formats found. */
+export function formatLine(formats: Record<ScoreFormat, FormatCount>): string {
+  const found = SCORE_FORMATS.filter((f) => formats[f].files > 0).map((f) => {
+    const c = formats[f];
+    const what = [plural(c.pieces, f === 'abc' ? 'tune' : 'piece'), ...(c.skipped ? [`${c.skipped} skipped`] : [])].join(', ');
+    return `${plural(c.files, `${FORMAT_NAMES[f]} file`)} (${what})`;
+  });
+  return `by format: ${found.join(', ')}`;
 }
 
 export function registerCorpus(cli: Command): void {
@@ -203,7 +244,7 @@ export function registerCorpus(cli: Command): void {
     .command('corpus')
     .description('the corpus index, for fast matching on large corpora')
     .command('build')
-    .description(`index every .mid/.midi file under a folder (a rebuild re-reads only changed files); --corpus then takes the folder or the index file`)
+    .description(`index every MIDI (.mid, .midi), MusicXML (.musicxml, .xml, .mxl) and ABC (.abc) file under a folder (a rebuild re-reads only changed files); --corpus then takes the folder or the index file`)
     .argument('<dir>', 'corpus folder')
     .option('--out <file>', `index file to write (default: DIR/${INDEX_NAME})`)
     .option('--percussion', 'keep channel 10 (percussion)')
@@ -217,7 +258,7 @@ export function registerCorpus(cli: Command): void {
       const baseline = o.baseline ? { windows: o.baselineWindows ?? presetWindows(), samples: o.baselineSamples } : undefined;
       const r = await buildCorpusIndex(dir, { ...o, baseline });
       if (o.json) return printJson(r.baselines.length ? { ...r, caution: CAUTION } : r);
-      const lines = [`indexed ${r.pieces} pieces (${r.notes} notes) into ${r.out} in ${r.seconds} s: ${r.reparsed} files read, ${r.reused} unchanged`];
+      const lines = [`indexed ${r.pieces} pieces (${r.notes} notes) into ${r.out} in ${r.seconds} s: ${r.reparsed} files read, ${r.reused} unchanged`, `  ${formatLine(r.formats)}`];
       for (const s of r.skipped) lines.push(`  skipped ${s.file}: ${s.error}`);
       for (const b of r.baselines) lines.push(`  human baseline of ${b.window}-beat windows stored: p99 window score ${b.p99.toFixed(3)} (a preset threshold "auto")`);
       if (r.baselines.length) lines.push('', CAUTION);

@@ -79,8 +79,8 @@ export function computeBaseline(opened: OpenedCorpus, o: CorpusFlags & { samples
 }
 
 export function registerReport(cli: Command): void {
-  corpusCommand(cli, 'report', 'originality report of MIDI files (or folders of them) against a corpus')
-    .argument('<query...>', 'MIDI files or folders')
+  corpusCommand(cli, 'report', 'originality report of score files (MIDI, MusicXML, ABC; or folders of them) against a corpus')
+    .argument('<query...>', 'score files (MIDI, MusicXML, ABC) or folders')
     .option('--seed <n>', 'seed of the bootstrap interval', wholeNumber('--seed'), 1)
     .option('--csv <file>', 'also write one row per window to this CSV file')
     .option('--html <file>', 'also write a self-contained HTML report (several query folders show as a series)')

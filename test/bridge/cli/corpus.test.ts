@@ -84,7 +84,7 @@ describe('corpus build', () => {
     const out = join(dir, 'slow-index');
     const r = run('corpus', 'build', corpusDir, '--out', out, '--file-seconds', '0.001', '--json');
     expect(r.code).toBe(2);
-    expect(r.err).toMatch(/no readable MIDI file with notes/);
+    expect(r.err).toMatch(/no readable score file \(MIDI, MusicXML or ABC\) with notes/);
     expect(r.err).toMatch(/skipped more\/tune-1\.mid: took longer than 0\.001 s to read, so it was stopped/);
     expect(existsSync(out)).toBe(false);
   });
@@ -140,7 +140,7 @@ describe('--corpus with an index', () => {
     const r = run('report', 'quote.mid', '--corpus', corpusDir, '--json');
     rmSync(join(corpusDir, 'new.mid'));
     expect(r.code).toBe(0);
-    expect(r.err).toContain(`not using ${index} (it lists ${pieces.length + 2} MIDI files, the folder has ${pieces.length + 3})`);
+    expect(r.err).toContain(`not using ${index} (it lists ${pieces.length + 2} score files, the folder has ${pieces.length + 3})`);
     expect(r.err).toContain(`earwitness corpus build ${corpusDir}`);
   });
 

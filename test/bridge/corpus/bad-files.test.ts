@@ -68,6 +68,6 @@ describe('corpus build over good and damaged files', () => {
     expect(r.status).not.toBe(0);
     expect(r.stderr).toContain('skipped empty.mid: the file is empty');
     expect(r.stderr).toContain('skipped loop.mid: damaged MIDI data');
-    expect(r.stderr).toMatch(/no readable MIDI file with notes under it \(2 skipped\)/);
+    expect(r.stderr).toMatch(/no readable score file \(MIDI, MusicXML or ABC\) with notes under it \(2 skipped\)/);
   });
 });
