@@ -20,6 +20,7 @@
  *
  * @example
  *   npm run bench -- --quick
+ *   npm run bench -- --only 10M --reference-seconds 60    // one corpus of the full run
  *   // …tables…
  *   // {"quick":true,"corpora":[{"corpus":"synthetic 100k","notes":100123,...,"modes":[{"mode":"exact","candidates":"index",...}]}]}
  */
@@ -385,7 +386,11 @@ function main(): void {
     plan.push({ name: 'synthetic 10M', make: () => synthCorpus({ notes: 10_000_000, seed: 3 }), perKind: 12, referenceSeconds: 400, review: false });
     plan.push({ name: 'JSB chorales', make: jsbCorpus, needs: JSB, perKind: 12, referenceSeconds: 120, review: false });
   }
-  for (const step of plan) {
+  // `--only NAME` runs one corpus of the plan; `--reference-seconds N` gives the reference N seconds a corpus instead.
+  const only = process.argv.includes('--only') ? process.argv[process.argv.indexOf('--only') + 1] : null;
+  const referenceSeconds = process.argv.includes('--reference-seconds') ? Number(process.argv[process.argv.indexOf('--reference-seconds') + 1]) : null;
+  for (const step of plan.filter((p) => only === null || p.name.endsWith(only))) {
+    if (referenceSeconds !== null) step.referenceSeconds = referenceSeconds;
     if (step.needs && !existsSync(step.needs)) {
       process.stdout.write(`${step.name}: skipped, ${step.needs} is not here\n\n`);
       continue;
@@ -394,7 +399,7 @@ function main(): void {
     corpora.push(row);
     process.stdout.write(table(row) + '\n\n');
   }
-  const jsbModes = quick ? [] : jsbModeCosts(40);
+  const jsbModes = quick || only !== null ? [] : jsbModeCosts(40);
   if (jsbModes.length) process.stdout.write(`Matching modes on the JSB subset (40 corpus chorales), distinctiveness counted:\n${modeCostTable(jsbModes)}\n\n`);
   const summary = {
     quick,
