@@ -240,11 +240,12 @@ function storedBaselines(corpus: string): Baseline[] {
 export function earlyThresholds(preset: Preset, corpus: string): { earlyThresholds: number[]; earlyUncalibrated: number[] } {
   const lengths = preset.earlyBeats;
   const fixed = preset.earlyThreshold;
+  if (lengths.length === 0) return { earlyThresholds: [], earlyUncalibrated: [] };
   if (Array.isArray(fixed)) {
     if (fixed.length !== lengths.length) throw new UsageError(`preset ${preset.name}: field "earlyThreshold": got ${fixed.length} thresholds for the ${lengths.length} lengths of earlyBeats; give one per length, one number for all, or "auto"`);
     return { earlyThresholds: fixed, earlyUncalibrated: [] };
   }
-  if (fixed !== 'auto' || lengths.length === 0) return { earlyThresholds: lengths.map(() => (fixed === 'auto' ? EARLY_FALLBACK : fixed)), earlyUncalibrated: [] };
+  if (fixed !== 'auto') return { earlyThresholds: lengths.map(() => fixed), earlyUncalibrated: [] };
   const stored = storedBaselines(corpus);
   const p99 = (beats: number): number | undefined =>
     stored.find((b) => b.settings?.window === beats && b.settings?.pitch === 'chromatic' && typeof b.percentiles?.p99 === 'number')?.percentiles.p99;
