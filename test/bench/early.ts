@@ -123,7 +123,7 @@ interface Row {
   notes: number;
   latencyP50Ms: number;
   latencyP99Ms: number;
-  workerCpuP99Ms: number;
+  lastEvaluationMs: number;
   loadAverage: number[];
 }
 
@@ -169,7 +169,7 @@ async function run(dir: string, preset: string, extra: string[], s: Stream): Pro
     notes: s.notes.length,
     latencyP50Ms: round(percentile(latencies, 50)),
     latencyP99Ms: round(percentile(latencies, 99)),
-    workerCpuP99Ms: round(Math.max(...workerMs)),
+    lastEvaluationMs: round(Math.max(...workerMs)),
     loadAverage: loadavg().map((x) => round(x)),
   };
 }
