@@ -6,14 +6,14 @@
  * warning are the session's own records (core/session-state.ts), sent with
  * their `type`.
  */
-import type { SessionNote, Warning } from '../core/session-state.js';
+import type { SessionNote, StretchSummary, Warning } from '../core/session-state.js';
 
 export interface HelloEvent {
   type: 'hello';
   version: string;
   corpus: { source: string; pieces: number; notes: number };
   /** `pitch`: the dimension matched in; transpositions count semitones (chromatic, when absent) or diatonic steps (morphetic). */
-  preset: { name: string; window: number; threshold: number; minNotes: number; consecutive: number; warn: boolean; pitch?: 'chromatic' | 'morphetic'; tolerance?: number; tempoFree?: boolean; minDistinctiveness?: number };
+  preset: { name: string; window: number; threshold: number; minNotes: number; consecutive: number; warn: boolean; pitch?: 'chromatic' | 'morphetic'; tolerance?: number; tempoFree?: boolean; minDistinctiveness?: number; early?: EarlyRule };
   midi: { available: boolean; detail: string };
   osc: { port: number };
   /** Recent score and warning events, so a page that reconnects can redraw its timeline. */
@@ -56,12 +56,34 @@ export interface ScoreEvent {
   excerpt: ExcerptNote[] | null;
   /** 1 when the matched material is found in one corpus place only, near 0 for a stock figure (core/distinctiveness.ts); null when nothing matched. */
   distinctiveness?: number | null;
+  /** The recent stretch judged (core/stretch.ts), when the preset warns early and one matched; `hot` when it warns on its own. */
+  stretch?: ScoreStretch | null;
+}
+
+/** How early a preset warns: the recent stretch lengths (beats) judged on their own, each length's threshold, and the stretch's fewest notes and least distinctiveness. */
+export interface EarlyRule {
+  lengths: readonly number[];
+  thresholds: readonly number[];
+  minNotes: number;
+  minDistinctiveness: number;
+}
+
+/** A recent stretch of the window and its own best match: where it lies in the session's beats, and the corpus passage under the same translation. */
+export interface ScoreStretch extends StretchSummary {
+  hot: boolean;
+  piece: string;
+  title: string;
+  pieceStart: number;
+  transposition: number;
+  matched: number;
+  /** Counted only for a stretch that reaches its threshold; null otherwise. */
+  distinctiveness: number | null;
 }
 
 /** What a warning says about the match, as pushed on /events and kept in the session log. */
-export type WarnedMatch = Pick<Warning, 'piece' | 'title' | 'score' | 'transposition' | 'pieceStart' | 'startBeat'>;
+export type WarnedMatch = Pick<Warning, 'piece' | 'title' | 'score' | 'transposition' | 'pieceStart' | 'startBeat' | 'stretch'>;
 
-/** seq, time, piece, title, score, transposition, pieceStart, startBeat, and distinctiveness when counted. */
+/** seq, time, piece, title, score, transposition, pieceStart, startBeat, distinctiveness when counted, and `stretch` when a recent stretch raised it. */
 export interface WarningEvent extends Warning {
   type: 'warning';
 }

@@ -31,10 +31,14 @@ import type { CorpusIndex } from './triple-index.js';
 import { type CandidateSource, COARSE_GRAINS, FINE_GRAINS, SCAN_POINTS, candidatesOf, snapTo, verifyAll } from './index-match.js';
 import { StreamingMatch } from './stream.js';
 import { type MatchCorpus, type MatchMode, type Stage, bestOfStages, pieceCountOf, stagesOf } from './pipeline.js';
-import type { PieceCount } from './distinctiveness.js';
+import { type PieceCount, matchDistinctiveness } from './distinctiveness.js';
+import { type StretchMatch, stretchMatches } from './stretch.js';
 
 /** Most-voted translations verified per scoring pass, per vote grid. */
 export const LIVE_CANDIDATES = 16;
+
+/** Most-voted translations per vote grid that the recent stretches are verified against (core/stretch.ts). */
+export const STRETCH_CANDIDATES = 32;
 
 /** Played times are kept relative to an origin so that shifts stay well inside int32 however long a session runs. */
 const REBASE_GRAINS = 2 ** 30;
@@ -123,5 +127,25 @@ export class LiveMatcher {
     if (window.points.length === 0) return null;
     if (this.stale) this.rebuild(window.points, window.startGrains);
     return bestOfStages(this.stages, window, this.windowGrains, this.options.mode, this.count);
+  }
+
+  /**
+   * The best match of each trailing stretch of the window (core/stretch.ts),
+   * among the translations the votes propose now, verified as the window's
+   * plain stage verifies.
+   */
+  stretches(window: MatchWindow, lengths: readonly number[]): StretchMatch[] {
+    if (window.points.length === 0) return [];
+    if (this.stale) this.rebuild(window.points, window.startGrains);
+    const verify = this.stages[0].verify;
+    const voted = this.voters.flatMap((v) => v.stream.translations(STRETCH_CANDIDATES)).map((t) => ({ ...t, shift: t.shift + this.origin }));
+    return stretchMatches(window, candidatesOf(voted, toGrains(verify.toleranceBeats)), verify, lengths);
+  }
+
+  /** The distinctiveness of a stretch's match (of a window of `points`), counted through the index. */
+  stretchDistinctiveness(points: readonly Point[], s: StretchMatch): number {
+    if (!s.match) return 0;
+    const stretch = points.filter((p) => p.at >= s.startGrains);
+    return matchDistinctiveness(this.count, { points: stretch, startGrains: s.startGrains }, s.endGrains - s.startGrains + 1, s.match);
   }
 }

@@ -69,6 +69,18 @@ export interface VerdictMatch {
   distinctiveness?: number;
 }
 
+/** Which recent stretch of the window matched (core/stretch.ts), in the session's beats. */
+export interface StretchSummary {
+  /** Onsets of its first and last notes. */
+  startBeat: number;
+  endBeat: number;
+  notes: number;
+  /** Its nominal length, beats, and the score that length must reach. */
+  beats: number;
+  threshold: number;
+  score: number;
+}
+
 export interface Verdict {
   /** Seq of the last note the evaluation includes. */
   seq: number;
@@ -76,6 +88,8 @@ export interface Verdict {
   windowNotes: number;
   windowStart: number;
   match: VerdictMatch | null;
+  /** The recent stretch judged, when one matched; `hot` when it warns on its own. */
+  stretch?: (StretchSummary & { hot: boolean; match: VerdictMatch }) | null;
 }
 
 /** A warning as raised: what the WebSocket's warning event (contract/events.ts) and the session log say. */
@@ -93,6 +107,8 @@ export interface Warning {
   startBeat: number;
   /** Of the match warned about, as in the score event. */
   distinctiveness?: number;
+  /** When a recent stretch raised it: which (then piece, score and pieceStart are the stretch's). */
+  stretch?: StretchSummary;
 }
 
 export interface SessionState {
@@ -174,6 +190,11 @@ function act(step: Step, actions: PolicyAction[], verdict: Verdict | null, time:
     if (a.type === 'clear' && standing) {
       step.state = { ...step.state, standing: null };
       step.effects.push({ type: 'clear', warning: standing, seq: verdict?.seq ?? step.state.seq, time });
+    } else if (a.type === 'raise' && a.stretch && verdict?.stretch) {
+      const { hot, match: m, ...stretch } = verdict.stretch;
+      const warning: Warning = { seq: verdict.seq, time, piece: m.piece, title: m.title, score: stretch.score, transposition: m.transposition, pieceStart: m.pieceStart, startBeat: stretch.startBeat, distinctiveness: m.distinctiveness, stretch };
+      step.state = { ...step.state, standing: warning, warnings: step.state.warnings + 1 };
+      step.effects.push({ type: 'raise', warning });
     } else if (a.type === 'raise' && verdict?.match) {
       const m = verdict.match;
       const warning: Warning = { seq: verdict.seq, time, piece: m.piece, title: m.title, score: verdict.score, transposition: m.transposition, pieceStart: m.pieceStart, startBeat: verdict.windowStart, distinctiveness: m.distinctiveness };
@@ -238,7 +259,9 @@ export function stepSession(state: SessionState, event: SessionEvent, config: Se
   else {
     const v = event.verdict;
     const m = v.match;
-    const evaluation = { score: v.score, windowNotes: v.windowNotes, passage: m ? { piece: m.pieceIndex, pieceStart: m.pieceStart, beats: config.window } : null, distinctiveness: m?.distinctiveness };
+    const st = v.stretch;
+    const stretch = st ? { hot: st.hot, passage: { piece: st.match.pieceIndex, pieceStart: st.match.pieceStart, beats: st.beats } } : null;
+    const evaluation = { score: v.score, windowNotes: v.windowNotes, passage: m ? { piece: m.pieceIndex, pieceStart: m.pieceStart, beats: config.window } : null, distinctiveness: m?.distinctiveness, stretch };
     const r = stepPolicy(state.policy, evaluation, config);
     step.state = { ...step.state, policy: r.state };
     act(step, r.actions, v, event.time);

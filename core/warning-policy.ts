@@ -17,6 +17,10 @@
  *   raise a warning for that one.
  * - `reset` (a new passage begins) clears it at once.
  * - With `warn` false nothing is ever raised.
+ * - A recent stretch of the window that warns on its own (core/stretch.ts
+ *   judged it: `stretch.hot`) makes the evaluation hot too, naming the
+ *   stretch's passage, whatever the whole window scores: a quote is warned
+ *   about while it is still short.
  *
  * @example
  *   const config = { threshold: 0.6, hysteresis: 0.2, minNotes: 8, consecutive: 2, warn: true };
@@ -56,6 +60,8 @@ export interface Evaluation {
   passage: Passage | null;
   /** The best match's distinctiveness in [0, 1]; absent when not measured. */
   distinctiveness?: number;
+  /** The recent stretch judged by core/stretch.ts `hotStretch`, when one was: hot when it warns on its own. */
+  stretch?: { hot: boolean; passage: Passage } | null;
 }
 
 export interface PolicyState {
@@ -67,7 +73,8 @@ export interface PolicyState {
   cool: number;
 }
 
-export type PolicyAction = { type: 'raise'; passage: Passage } | { type: 'clear'; passage: Passage };
+/** A raise names the passage; `stretch` is true when a recent stretch raised it and the whole window was not hot. */
+export type PolicyAction = { type: 'raise'; passage: Passage; stretch?: boolean } | { type: 'clear'; passage: Passage };
 
 export const initialPolicy = (): PolicyState => ({ standing: null, hot: 0, cool: 0 });
 
@@ -78,18 +85,22 @@ export const samePassage = (a: Passage, b: Passage): boolean =>
 export function stepPolicy(s: PolicyState, e: Evaluation, c: PolicyConfig): { state: PolicyState; actions: PolicyAction[] } {
   if (!c.warn) return { state: s, actions: [] };
   const full = e.windowNotes >= c.minNotes;
-  const isHot = full && e.score >= c.threshold && e.passage !== null && (e.distinctiveness ?? 1) >= (c.minDistinctiveness ?? 0);
-  const isCool = !full || e.score < c.threshold - c.hysteresis || e.passage === null;
+  const windowHot = full && e.score >= c.threshold && e.passage !== null && (e.distinctiveness ?? 1) >= (c.minDistinctiveness ?? 0);
+  const stretchHot = !windowHot && e.stretch?.hot === true;
+  const isHot = windowHot || stretchHot;
+  const passage = (windowHot ? e.passage : e.stretch?.passage) ?? null;
+  const isCool = !isHot && (!full || e.score < c.threshold - c.hysteresis || e.passage === null);
+  const raise: PolicyAction = { type: 'raise', passage: passage!, ...(stretchHot ? { stretch: true } : {}) };
   if (!s.standing) {
     const hot = isHot ? s.hot + 1 : 0;
-    if (hot >= c.consecutive) return { state: { standing: e.passage, hot: 0, cool: 0 }, actions: [{ type: 'raise', passage: e.passage! }] };
+    if (hot >= c.consecutive) return { state: { standing: passage, hot: 0, cool: 0 }, actions: [raise] };
     return { state: { ...s, hot }, actions: [] };
   }
-  if (isHot && samePassage(e.passage!, s.standing)) return { state: { standing: e.passage, hot: 0, cool: 0 }, actions: [] };
+  if (isHot && samePassage(passage!, s.standing)) return { state: { standing: passage, hot: 0, cool: 0 }, actions: [] };
   if (isHot) {
     const hot = s.hot + 1;
     if (hot >= c.consecutive) {
-      return { state: { standing: e.passage, hot: 0, cool: 0 }, actions: [{ type: 'clear', passage: s.standing }, { type: 'raise', passage: e.passage! }] };
+      return { state: { standing: passage, hot: 0, cool: 0 }, actions: [{ type: 'clear', passage: s.standing }, raise] };
     }
     return { state: { ...s, hot, cool: 0 }, actions: [] };
   }

@@ -18,8 +18,9 @@
 import { join } from 'node:path';
 import { beatAt } from '../../core/clock.js';
 import { type SessionEffect, type SessionEvent, initialSession, stepSession } from '../../core/session-state.js';
-import type { ClearEvent, DaemonEvent, HelloEvent, ScoreEvent, WarningEvent } from '../../contract/events.js';
-import type { LivePreset } from '../formats/presets.js';
+import type { ClearEvent, DaemonEvent, HelloEvent, ScoreEvent, ScoreStretch, WarningEvent } from '../../contract/events.js';
+import type { StretchRule } from '../../core/stretch.js';
+import { EARLY_FALLBACK, type LivePreset } from '../formats/presets.js';
 import { SessionLog, SessionLogError } from '../formats/session-log.js';
 import { UsageError } from '../formats/user-error.js';
 import { badInputLog } from './bad-input.js';
@@ -77,6 +78,21 @@ export interface Daemon {
 
 /** Score, warning and clear events a (re)connecting page gets in its hello. */
 export const HISTORY_EVENTS = 240;
+
+/** The preset's recent-stretch rule (core/stretch.ts), or undefined when it judges the whole window only. */
+export function earlyRule(preset: LivePreset): StretchRule | undefined {
+  const lengths = preset.earlyBeats ?? [];
+  if (lengths.length === 0) return undefined;
+  return { lengths, thresholds: preset.earlyThresholds ?? lengths.map(() => EARLY_FALLBACK), minNotes: preset.earlyMinNotes ?? 6, minDistinctiveness: preset.earlyMinDistinctiveness ?? 0 };
+}
+
+/** The score event's stretch: where it lies, how it scored, and its own match. */
+function stretchOf(v: LiveVerdict): ScoreStretch | null {
+  const s = v.stretch;
+  if (!s) return null;
+  const { match: m, ...where } = s;
+  return { ...where, piece: m.piece, title: m.title, pieceStart: m.pieceStart, transposition: m.transposition, matched: m.matched, distinctiveness: m.distinctiveness ?? null };
+}
 
 export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
   const preset = options.preset;
@@ -138,7 +154,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
         const w = e.warning;
         let row = -1;
         logged(() => {
-          row = log.addWarning(session, { seq: w.seq, raisedAt: w.time, piece: w.piece, title: w.title, score: w.score, transposition: w.transposition, pieceStart: w.pieceStart, startBeat: w.startBeat });
+          row = log.addWarning(session, { seq: w.seq, raisedAt: w.time, piece: w.piece, title: w.title, score: w.score, transposition: w.transposition, pieceStart: w.pieceStart, startBeat: w.startBeat, stretch: w.stretch });
         });
         standingRow = row;
         push({ type: 'warning', ...w });
@@ -165,6 +181,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
       type: 'score', seq: v.seq, time, score: v.score,
       piece: m?.piece ?? null, title: m?.title ?? null, pieceStart: m?.pieceStart ?? null, transposition: m?.transposition ?? null,
       timeShift: v.timeShift, matched: m?.matched ?? 0, windowNotes: v.windowNotes, windowStart: v.windowStart, windowEnd: v.windowEnd, excerpt: v.excerpt, distinctiveness: m?.distinctiveness ?? null,
+      stretch: stretchOf(v),
     });
     oscOut?.score(v.score);
     if (current) dispatch({ type: 'verdict', verdict: v, time });
@@ -173,7 +190,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
   let scorer: Scorer;
   let corpus: CorpusSummary;
   try {
-    ({ scorer, corpus } = await startScorer({ corpus: options.corpus, windowBeats: preset.window, grid: preset.grid, tolerance: preset.tolerance, tempoFree: preset.tempoFree }, onVerdict, {
+    ({ scorer, corpus } = await startScorer({ corpus: options.corpus, windowBeats: preset.window, grid: preset.grid, tolerance: preset.tolerance, tempoFree: preset.tempoFree, early: earlyRule(preset) }, onVerdict, {
       workerUrl: options.workerUrl,
       onCrash: (message) => notice(`earwitness: the scoring worker failed (${message}); started a fresh one, the window starts empty`),
       onNotice: (line) => notice(`earwitness: ${line}`),
@@ -226,7 +243,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
       type: 'hello',
       version: packageVersion(),
       corpus,
-      preset: { name: preset.name, window: preset.window, threshold: preset.threshold, minNotes: preset.minNotes, consecutive: preset.consecutive, warn: preset.warn, pitch: 'chromatic', tolerance: preset.tolerance, tempoFree: preset.tempoFree, minDistinctiveness: preset.minDistinctiveness },
+      preset: { name: preset.name, window: preset.window, threshold: preset.threshold, minNotes: preset.minNotes, consecutive: preset.consecutive, warn: preset.warn, pitch: 'chromatic', tolerance: preset.tolerance, tempoFree: preset.tempoFree, minDistinctiveness: preset.minDistinctiveness, ...(earlyRule(preset) ? { early: earlyRule(preset) } : {}) },
       midi,
       osc: { port: osc?.port ?? 0 },
       history: recent,

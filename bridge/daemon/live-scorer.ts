@@ -28,6 +28,9 @@ import type { MatchCorpus } from '../../core/pipeline.js';
 import { LiveMatcher } from '../../core/live-match.js';
 import { LiveWindow } from '../../core/live-window.js';
 import { excerptPair, snapOnsets } from '../../core/review.js';
+import { type StretchMatch, type StretchRule, hotStretch, nearestStretch, thresholdOf } from '../../core/stretch.js';
+import type { StretchSummary } from '../../core/session-state.js';
+import type { WindowMatch } from '../../core/match.js';
 import type { ExcerptNote, NoteEvent } from '../../contract/events.js';
 
 /** A played note as the scorer gets it (the `note` event's fields): seq numbers start at 1 each session. */
@@ -46,6 +49,9 @@ export interface LiveMatch {
   distinctiveness: number;
 }
 
+/** The recent stretch judged (core/stretch.ts): `hot` when it warns on its own; distinctiveness is counted only for a stretch that reaches its threshold. */
+export type LiveStretch = StretchSummary & { hot: boolean; match: Omit<LiveMatch, 'distinctiveness'> & { distinctiveness?: number } };
+
 export interface LiveVerdict {
   /** Seq of the last note this evaluation includes. */
   seq: number;
@@ -57,6 +63,8 @@ export interface LiveVerdict {
   /** Played onset = corpus onset + timeShift. */
   timeShift: number | null;
   excerpt: ExcerptNote[] | null;
+  /** The recent stretch judged, when the preset warns early and one matched. */
+  stretch: LiveStretch | null;
   /** Running totals: notes the window let go early (full), and restarts (the sender's clock went back). */
   dropped: number;
   restarts: number;
@@ -77,6 +85,8 @@ export interface LiveScorerOptions {
   tolerance?: number;
   /** Also find passages played at 0.5–2 times the corpus tempo (core/fingerprint.ts); absent = false. */
   tempoFree?: boolean;
+  /** Recent stretches judged on each evaluation (core/stretch.ts); absent or no lengths = the whole window only. */
+  early?: StretchRule;
 }
 
 /** Most notes in the live window: a bound on one evaluation's work whatever a sender floods in. */
@@ -99,6 +109,22 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
   const live = new LiveMatcher(matching, { windowBeats: options.windowBeats, mode: { tolerance: options.tolerance ?? 0, tempoFree: options.tempoFree ?? false } });
   const window = new LiveWindow<Note & { seq: number }>({ beats: options.windowBeats, maxNotes: MAX_WINDOW_NOTES });
   let lastSeq = 0;
+  const early = options.early && options.early.lengths.length ? options.early : null;
+  const matchOf = (m: WindowMatch): Omit<LiveMatch, 'distinctiveness'> => {
+    const piece = corpus.pieces[m.piece];
+    return { piece: piece.path, title: pieceName(piece), pieceIndex: m.piece, pieceStart: m.pieceStart, transposition: m.transposition, matched: m.matched, excerptNotes: m.excerptNotes };
+  };
+  const judged = (rule: StretchRule, points: ReturnType<typeof toPoints>, startGrains: number): LiveStretch | null => {
+    const stretches = live.stretches({ points, startGrains }, rule.lengths);
+    const hot = hotStretch(stretches, rule, (s) => live.stretchDistinctiveness(points, s));
+    const s: StretchMatch | null = hot?.stretch ?? nearestStretch(stretches, rule);
+    if (!s?.match) return null;
+    const beats = (g: number): number => g / GRAINS_PER_BEAT;
+    return {
+      startBeat: beats(s.startGrains), endBeat: beats(s.endGrains), notes: s.notes, beats: s.beats, threshold: thresholdOf(rule, s.beats), score: s.score,
+      hot: hot !== null, match: { ...matchOf(s.match), ...(hot ? { distinctiveness: hot.distinctiveness } : {}) },
+    };
+  };
   return {
     add(n) {
       lastSeq = n.seq;
@@ -120,19 +146,11 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
       const windowStart = startGrains / GRAINS_PER_BEAT;
       const windowEnd = windowStart + options.windowBeats;
       const m = live.best({ points, startGrains });
-      const base = { seq: lastSeq, windowNotes: points.length, windowStart, windowEnd, dropped: window.dropped, restarts: window.restarts };
+      const stretch = early && points.length ? judged(early, points, startGrains) : null;
+      const base = { seq: lastSeq, windowNotes: points.length, windowStart, windowEnd, stretch, dropped: window.dropped, restarts: window.restarts };
       if (!m || m.matched === 0) return { ...base, score: 0, match: null, timeShift: null, excerpt: null };
       const piece = corpus.pieces[m.piece];
-      const match: LiveMatch = {
-        piece: piece.path,
-        title: pieceName(piece),
-        pieceIndex: m.piece,
-        pieceStart: m.pieceStart,
-        transposition: m.transposition,
-        matched: m.matched,
-        excerptNotes: m.excerptNotes,
-        distinctiveness: m.distinctiveness!,
-      };
+      const match: LiveMatch = { ...matchOf(m), distinctiveness: m.distinctiveness! };
       const summary = { ...match, score: m.score };
       const { corpus: excerpt } = excerptPair(notes, { start: windowStart, end: windowEnd, notes: points.length, score: m.score, tooShort: false, match: summary }, piece, 'chromatic', options.tolerance ?? 0);
       return {

@@ -13,6 +13,7 @@
  */
 import { Worker } from 'node:worker_threads';
 import type { LiveNote, LiveVerdict } from './live-scorer.js';
+import type { StretchRule } from '../../core/stretch.js';
 import { UsageError } from '../formats/user-error.js';
 
 export interface WorkerSetup {
@@ -23,6 +24,8 @@ export interface WorkerSetup {
   tolerance: number;
   /** Also match passages played at another tempo. */
   tempoFree: boolean;
+  /** Recent stretches that may warn on their own (core/stretch.ts); absent = the whole window only. */
+  early?: StretchRule;
 }
 
 export interface CorpusSummary {

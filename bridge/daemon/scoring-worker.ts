@@ -27,7 +27,7 @@ try {
   const { source, corpus } = opened;
   const matching = opened.matchCorpus('chromatic');
   if (setup.tempoFree) matching.fingerprints?.();
-  scorer = liveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance, tempoFree: setup.tempoFree }, matching);
+  scorer = liveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance, tempoFree: setup.tempoFree, early: setup.early }, matching);
   post({ type: 'ready', corpus: { source, pieces: corpus.pieces.length, notes: corpus.pieces.reduce((s, p) => s + p.notes.length, 0) } });
 } catch (e) {
   post({ type: 'failed', message: (e as Error).message });

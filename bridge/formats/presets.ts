@@ -17,6 +17,7 @@ import { z } from 'zod';
 import { MAX_BPM, MIN_BPM } from '../../core/clock.js';
 import { packageRoot } from './package-root.js';
 import type { Baseline } from '../../core/report.js';
+import { stretchThresholds } from '../../core/stretch.js';
 import { INDEX_NAME, IndexFileError, readIndexBaselines } from './index-file.js';
 import { UsageError } from './user-error.js';
 import { savedProblem } from './saved.js';
@@ -53,6 +54,10 @@ const ALLOWED = {
   tolerance: 'a number of beats from 0 (exact) up to, not including, 1',
   tempoFree: 'true (also find passages played at 0.5–2 times the corpus tempo) or false',
   minDistinctiveness: 'a number from 0 (warn however common the matched material) to 1 (only material found in one corpus place)',
+  earlyBeats: `lengths in beats of the recent stretches that may warn on their own, ascending, each above 0 and at most ${MAX_WINDOW_BEATS} ([] = the whole window only), as in [2, 4, 8]`,
+  earlyThreshold: 'the score a stretch must reach: a number from 0 to 1, a list of them, one per length of earlyBeats, or "auto" (each length\'s p99 window score in the human baseline "earwitness corpus build DIR --baseline" stores, plus 0.05)',
+  earlyMinNotes: 'a whole number of at least 1',
+  earlyMinDistinctiveness: 'a number from 0 to 1',
 } as const;
 
 export type PresetField = keyof typeof ALLOWED;
@@ -71,7 +76,19 @@ export const FLAG_OF: Record<Exclude<PresetField, 'name' | 'description'>, strin
   tolerance: '--tolerance',
   tempoFree: '--tempo-free / --no-tempo-free',
   minDistinctiveness: '--min-distinctiveness',
+  earlyBeats: '--early-beats',
+  earlyThreshold: '--early-threshold',
+  earlyMinNotes: '--early-min-notes',
+  earlyMinDistinctiveness: '--early-min-distinctiveness',
 };
+
+/** A stretch length without a stored baseline, under "auto", must score this: most of a stretch played as the corpus has it. */
+export const EARLY_FALLBACK = 0.9;
+/** Under "auto", a stretch must score this much above its length's p99 in the human baseline. */
+export const EARLY_MARGIN = 0.05;
+
+/** "2,4,8" (a flag) or [2, 4, 8] (a file) → [2, 4, 8]; "auto" and anything else are left for the schema. */
+const beatsList = (v: unknown): unknown => (typeof v === 'string' && v !== 'auto' ? (v.trim() === '' ? [] : v.split(',').map((x) => (x.trim() !== '' && Number.isFinite(Number(x)) ? Number(x) : x))) : v);
 
 const unit = z.number().min(0).max(1);
 /** The preset file's one schema: what loadPreset and withOverrides check, and the Preset type. */
@@ -95,13 +112,26 @@ export const presetSchema = z
     tempoFree: z.boolean().default(false).describe(ALLOWED.tempoFree),
     /** Matches less distinctive than this never warn. */
     minDistinctiveness: unit.default(0).describe(ALLOWED.minDistinctiveness),
+    /** Recent stretches judged on their own (core/stretch.ts): how early a quote can warn. */
+    earlyBeats: z
+      .preprocess(beatsList, z.array(z.number().positive().max(MAX_WINDOW_BEATS)).max(16).refine((xs) => xs.every((x, i) => i === 0 || xs[i - 1] < x)))
+      .default([])
+      .describe(ALLOWED.earlyBeats),
+    earlyThreshold: z.preprocess(beatsList, z.union([unit, z.array(unit).min(1).max(16), z.literal('auto')])).default('auto').describe(ALLOWED.earlyThreshold),
+    earlyMinNotes: z.number().int().min(1).default(6).describe(ALLOWED.earlyMinNotes),
+    earlyMinDistinctiveness: unit.default(0.5).describe(ALLOWED.earlyMinDistinctiveness),
   })
   .strict();
 
 export type Preset = z.infer<typeof presetSchema>;
 
-/** A preset ready to run: its threshold a number, "auto" resolved (resolveThreshold). */
-export type LivePreset = Preset & { threshold: number };
+/**
+ * A preset ready to run: its threshold a number, "auto" resolved
+ * (resolveThreshold), and each early stretch length's threshold (absent:
+ * EARLY_FALLBACK for each). `earlyUncalibrated` lists the lengths "auto"
+ * found no stored baseline for.
+ */
+export type LivePreset = Preset & { threshold: number; earlyThresholds?: number[]; earlyUncalibrated?: number[] };
 
 
 export function parsePreset(value: unknown, source: string): Preset {
@@ -168,7 +198,8 @@ function indexFileOf(corpus: string): string | null {
  * says "this borrows more than 99% of the corpus's own windows do".
  */
 export function resolveThreshold(preset: Preset, corpus: string): LivePreset {
-  if (preset.threshold !== 'auto') return { ...preset, threshold: preset.threshold };
+  const early = earlyThresholds(preset, corpus);
+  if (preset.threshold !== 'auto') return { ...preset, threshold: preset.threshold, ...early };
   const how = `"earwitness corpus build DIR --baseline" stores one`;
   const file = indexFileOf(corpus);
   if (!file) throw new UsageError(`preset ${preset.name}: threshold "auto" needs the corpus's human baseline, and ${corpus} has no corpus index; ${how}`);
@@ -185,5 +216,41 @@ export function resolveThreshold(preset: Preset, corpus: string): LivePreset {
     const has = held.length ? `holds baselines for windows of ${held.join(', ')} beats only` : 'holds no baseline';
     throw new UsageError(`preset ${preset.name}: threshold "auto" needs a human baseline of ${preset.window}-beat windows, and ${file} ${has}; ${how} (--baseline-windows ${preset.window})`);
   }
-  return { ...preset, threshold: fits.percentiles.p99 };
+  return { ...preset, threshold: fits.percentiles.p99, ...early };
+}
+
+/** The baselines an index stores, or none when the corpus has no index (a damaged one is an error). */
+function storedBaselines(corpus: string): Baseline[] {
+  const file = indexFileOf(corpus);
+  if (!file) return [];
+  try {
+    return readIndexBaselines(file);
+  } catch (e) {
+    if (e instanceof IndexFileError) throw new UsageError(e.message);
+    throw e;
+  }
+}
+
+/**
+ * Each early stretch length's threshold: the preset's number, or under
+ * "auto" the p99 window score of the stored human baseline of that length
+ * plus EARLY_MARGIN (core/stretch.ts stretchThresholds), EARLY_FALLBACK
+ * for a length none is stored for.
+ */
+export function earlyThresholds(preset: Preset, corpus: string): { earlyThresholds: number[]; earlyUncalibrated: number[] } {
+  const lengths = preset.earlyBeats;
+  const fixed = preset.earlyThreshold;
+  if (lengths.length === 0) return { earlyThresholds: [], earlyUncalibrated: [] };
+  if (Array.isArray(fixed)) {
+    if (fixed.length !== lengths.length) throw new UsageError(`preset ${preset.name}: field "earlyThreshold": got ${fixed.length} thresholds for the ${lengths.length} lengths of earlyBeats; give one per length, one number for all, or "auto"`);
+    return { earlyThresholds: fixed, earlyUncalibrated: [] };
+  }
+  if (fixed !== 'auto') return { earlyThresholds: lengths.map(() => fixed), earlyUncalibrated: [] };
+  const stored = storedBaselines(corpus);
+  const p99 = (beats: number): number | undefined =>
+    stored.find((b) => b.settings?.window === beats && b.settings?.pitch === 'chromatic' && typeof b.percentiles?.p99 === 'number')?.percentiles.p99;
+  return {
+    earlyThresholds: stretchThresholds(lengths, p99, { margin: EARLY_MARGIN, fallback: EARLY_FALLBACK }),
+    earlyUncalibrated: lengths.filter((l) => p99(l) === undefined),
+  };
 }

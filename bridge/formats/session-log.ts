@@ -10,6 +10,7 @@ import Database from 'better-sqlite3';
 import { z } from 'zod';
 import { GRAINS_PER_BEAT, PITCH_MODES, type PitchMode } from '../../core/note.js';
 import type { WarnedMatch } from '../../contract/events.js';
+import type { StretchSummary } from '../../core/session-state.js';
 
 export const LOG_SCHEMA_VERSION = 1;
 const APPLICATION_ID = 0x45574c47; // "EWLG": marks the file as an earwitness log
@@ -45,9 +46,13 @@ CREATE TABLE IF NOT EXISTS warnings (
   transposition INTEGER NOT NULL,
   piece_start REAL NOT NULL,
   start_beat REAL NOT NULL,
-  cleared_at REAL
+  cleared_at REAL,
+  stretch TEXT
 );
 `;
+
+/** Added to the warnings table of format 1 since: the recent stretch that raised a warning, as JSON (null for the whole window). A log without it gets it when opened to write. */
+const STRETCH_COLUMN = 'stretch';
 
 /**
  * The session's settings as stored (JSON in sessions.settings): the daemon
@@ -130,7 +135,7 @@ export class SessionLog {
       'INSERT INTO notes (session_id, seq, onset, duration, pitch, velocity, channel, received_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?)',
     );
     this.insertWarning = db.prepare(
-      'INSERT INTO warnings (session_id, seq, raised_at, piece, title, score, transposition, piece_start, start_beat) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)',
+      'INSERT INTO warnings (session_id, seq, raised_at, piece, title, score, transposition, piece_start, start_beat, stretch) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)',
     );
   }
 
@@ -158,6 +163,8 @@ export class SessionLog {
         throw new Error(`session log format ${version}, this earwitness reads format ${LOG_SCHEMA_VERSION}`);
       }
       if (!options.readonly) {
+        const columns = db.prepare('SELECT name FROM pragma_table_info(\'warnings\')').all() as { name: string }[];
+        if (!columns.some((c) => c.name === STRETCH_COLUMN)) db.exec(`ALTER TABLE warnings ADD COLUMN ${STRETCH_COLUMN} TEXT`);
         db.pragma('journal_mode = WAL');
         // NORMAL in WAL mode: a committed note survives the process being killed; only power loss can take the last commits.
         db.pragma('synchronous = NORMAL');
@@ -183,7 +190,7 @@ export class SessionLog {
   }
 
   addWarning(session: number, w: NewWarning): number {
-    const r = this.insertWarning.run(session, w.seq, w.raisedAt, w.piece, w.title, w.score, w.transposition, w.pieceStart, w.startBeat);
+    const r = this.insertWarning.run(session, w.seq, w.raisedAt, w.piece, w.title, w.score, w.transposition, w.pieceStart, w.startBeat, w.stretch ? JSON.stringify(w.stretch) : null);
     return Number(r.lastInsertRowid);
   }
 
@@ -218,6 +225,7 @@ export class SessionLog {
     const warnings = (this.db.prepare('SELECT * FROM warnings WHERE session_id = ? ORDER BY id').all(summary.id) as Record<string, never>[]).map((r) => ({
       id: r['id'], seq: r['seq'], raisedAt: r['raised_at'], piece: r['piece'], title: r['title'], score: r['score'],
       transposition: r['transposition'], pieceStart: r['piece_start'], startBeat: r['start_beat'], clearedAt: r['cleared_at'],
+      ...(r['stretch'] ? { stretch: loggedStretch(r['stretch']) } : {}),
     }));
     return { summary, notes, warnings };
   }
@@ -226,6 +234,14 @@ export class SessionLog {
     if (this.db.open) this.db.close();
   }
 }
+
+/** A warning row's stretch, checked; a row whose stretch cannot be read is shown without it. */
+function loggedStretch(text: string): StretchSummary | undefined {
+  const r = stretchSchema.safeParse(safeJson(text));
+  return r.success ? r.data : undefined;
+}
+
+const stretchSchema = z.object({ startBeat: z.number(), endBeat: z.number(), notes: z.number().int().min(0), beats: z.number().positive(), threshold: z.number(), score: z.number().min(0).max(1) });
 
 function safeJson(s: string): Record<string, unknown> {
   try {

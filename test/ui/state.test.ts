@@ -114,7 +114,14 @@ describe('overlay view state', () => {
       played: [{ onset: 100, duration: 0.5, pitch: 65 }, { onset: 101, duration: 0.5, pitch: 66 }],
       // played onset = corpus onset + timeShift, played pitch = corpus pitch + transposition (contract/events.ts)
       corpus: [{ onset: 100, duration: 1, pitch: 65, matched: true }, { onset: 101.5, duration: 0.5, pitch: 67, matched: false }],
+      stretch: null,
     });
+  });
+
+  it('shows the recent stretch a score judged, in played beats', () => {
+    const stretch = { startBeat: 104, endBeat: 107.5, notes: 8, beats: 4, threshold: 0.95, score: 1, hot: true, piece: 'a.mid', title: 'a', pieceStart: 12, transposition: 5, matched: 8, distinctiveness: 1 };
+    const s = run(ev(hello()), ev(note(1, 104, 65)), ev(score(T0, 0.3, { windowStart: 100, windowEnd: 116, stretch })));
+    expect(roll(s)?.stretch).toEqual({ start: 104, end: 107.5, hot: true });
   });
 
   it('keeps at most MAX_NOTES notes when no score arrives to move the window on', () => {

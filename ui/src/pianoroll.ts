@@ -3,6 +3,8 @@
  * the matched corpus excerpt, outlined. Excerpt notes the match's
  * translation lands on played notes get a solid frame around the played
  * note; the others a thin dashed frame — told apart by line, not colour.
+ * The recent stretch the score judged (core/stretch.ts) lies behind them as
+ * a band, with a solid line beneath when it warns on its own, dashed when not.
  *
  * @example
  *   drawRoll(surface(canvas)!, roll(state)!);
@@ -51,6 +53,21 @@ export function drawRoll(s: Surface, r: Roll): void {
     ctx.stroke();
     ctx.fillStyle = tint('sky', 0.8);
     ctx.fillText(`C${p / 12 - 1}`, 0, y(p) + row / 2);
+  }
+
+  // The recent stretch judged: a band behind its notes, bordered below; solid when it warns on its own.
+  if (r.stretch) {
+    const [sx, ex] = [x(r.stretch.start), Math.max(x(r.stretch.start) + 2, x(r.stretch.end + 0.25))];
+    ctx.fillStyle = tint('orange', r.stretch.hot ? 0.22 : 0.1);
+    ctx.fillRect(sx, top, ex - sx, bottom - top);
+    ctx.strokeStyle = PALETTE.orange;
+    ctx.lineWidth = 2;
+    ctx.setLineDash(r.stretch.hot ? [] : [4, 3]);
+    ctx.beginPath();
+    ctx.moveTo(sx, bottom - 1);
+    ctx.lineTo(ex, bottom - 1);
+    ctx.stroke();
+    ctx.setLineDash([]);
   }
 
   const h = Math.max(2, row - 1);

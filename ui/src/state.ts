@@ -167,6 +167,8 @@ export interface Roll {
   played: RollNote[];
   /** The matched corpus excerpt moved onto the played window by the match's translation. */
   corpus: (RollNote & { matched: boolean })[];
+  /** The recent stretch judged, in played beats, and whether it warns on its own; null when none matched. */
+  stretch: { start: number; end: number; hot: boolean } | null;
 }
 
 /**
@@ -183,5 +185,6 @@ export function roll(s: ViewState): Roll | null {
   const shift = sc.timeShift ?? 0;
   const up = sc.transposition ?? 0;
   const corpus = (sc.excerpt ?? []).map((n) => ({ onset: n.onset + shift, duration: n.duration, pitch: n.pitch + up, matched: n.matched }));
-  return { start: sc.windowStart, end: sc.windowEnd, played, corpus };
+  const st = sc.stretch;
+  return { start: sc.windowStart, end: sc.windowEnd, played, corpus, stretch: st ? { start: st.startBeat, end: st.endBeat, hot: st.hot } : null };
 }

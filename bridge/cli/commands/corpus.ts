@@ -69,8 +69,8 @@ export interface BaselineRequest {
   samples: number;
 }
 
-/** The windows of the built-in presets: what "auto" thresholds need unless told otherwise. */
-export const presetWindows = (): number[] => [...new Set(BUILT_IN_PRESETS.map((name) => loadPreset(name).window))].sort((a, b) => a - b);
+/** The windows and recent stretch lengths of the built-in presets: what "auto" thresholds need unless told otherwise. */
+export const presetWindows = (): number[] => [...new Set(BUILT_IN_PRESETS.flatMap((name) => [loadPreset(name).window, ...loadPreset(name).earlyBeats]))].sort((a, b) => a - b);
 
 /**
  * Human baselines of a freshly written index, exact mode, chromatic pitch, hop half a window: the scores

@@ -16,7 +16,7 @@ import { listPorts } from '../../daemon/midi-input.js';
 import { parseOscTarget } from '../../daemon/osc-output.js';
 import { defaultLogFile } from '../../formats/paths.js';
 import { printNotice } from '../notices.js';
-import { INPUTS, type Overrides, loadPreset, resolveThreshold, withOverrides } from '../../formats/presets.js';
+import { EARLY_FALLBACK, INPUTS, type Overrides, loadPreset, resolveThreshold, withOverrides } from '../../formats/presets.js';
 import { printJson } from '../options.js';
 import { parseNumber } from '../usage.js';
 import { UsageError } from '../../formats/user-error.js';
@@ -85,6 +85,10 @@ export function registerListen(cli: Command): void {
     .option('--tempo-free', 'also find passages played at 0.5–2 times the corpus tempo (overrides the preset)')
     .option('--no-tempo-free', 'match at the corpus tempo only (overrides the preset)')
     .option('--min-distinctiveness <d>', 'matches less distinctive than this (0–1) never warn (overrides the preset)')
+    .option('--early-beats <beats,...>', 'lengths of the recent stretches that may warn on their own, as in 3,4,6; "" = the whole window only (overrides the preset)')
+    .option('--early-threshold <score,...>', 'score a recent stretch must reach: one number, one per length, or "auto" from the baseline corpus build --baseline stores (overrides the preset)')
+    .option('--early-min-notes <n>', 'fewest notes in a recent stretch for it to warn (overrides the preset)')
+    .option('--early-min-distinctiveness <d>', 'recent stretches less distinctive than this (0–1) never warn (overrides the preset)')
     .option('--warn', 'raise warnings (overrides the preset)')
     .option('--no-warn', 'log and score only, no warnings (overrides the preset)')
     .option('--osc-port <port>', 'UDP port for OSC in, on 127.0.0.1 (0 = any free port)', portNumber('--osc-port'), DEFAULT_OSC_PORT)
@@ -102,8 +106,12 @@ export function registerListen(cli: Command): void {
         input: o.input, window: o.window, bpm: o.bpm, threshold: o.threshold, minNotes: o.minNotes,
         consecutive: o.consecutive, hysteresis: o.hysteresis, grid: o.grid, warn: o.warn,
         tolerance: o.tolerance, tempoFree: o.tempoFree, minDistinctiveness: o.minDistinctiveness,
+        earlyBeats: o.earlyBeats, earlyThreshold: o.earlyThreshold, earlyMinNotes: o.earlyMinNotes, earlyMinDistinctiveness: o.earlyMinDistinctiveness,
       });
       const preset = resolveThreshold(chosen, o.corpus);
+      if (preset.earlyUncalibrated?.length) {
+        printNotice(`earwitness: no human baseline of ${preset.earlyUncalibrated.join(', ')}-beat windows is stored, so recent stretches of those lengths warn at ${EARLY_FALLBACK}; "earwitness corpus build DIR --baseline" stores them`);
+      }
       const log = o.log ?? defaultLogFile();
       const daemon = await startDaemon({
         corpus: o.corpus,

@@ -7,7 +7,7 @@ import { spawnSync } from 'node:child_process';
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { BUILT_IN_PRESETS, loadPreset, withOverrides } from '../../../bridge/formats/presets.js';
+import { BUILT_IN_PRESETS, EARLY_FALLBACK, loadPreset, resolveThreshold, withOverrides } from '../../../bridge/formats/presets.js';
 import type { HelloEvent } from '../../../contract/events.js';
 import { CLI, ROOT, listen, spawnDaemon, tempDir, writeCorpus } from '../../helpers/daemon.js';
 
@@ -22,8 +22,21 @@ describe('the shipped presets', () => {
     const [jam, livecode, record] = BUILT_IN_PRESETS.map(loadPreset);
     expect(jam).toMatchObject({ name: 'jam', input: 'midi', window: 16, warn: true });
     expect(livecode).toMatchObject({ name: 'livecode', input: 'osc', window: 8, warn: true });
-    expect(livecode.consecutive).toBeLessThan(jam.consecutive); // quicker warnings
+    expect(livecode.window).toBeLessThan(jam.window);
+    // Both warn early: a recent stretch of at most four beats may warn on its own, with a threshold for each length.
+    for (const p of [jam, livecode]) {
+      expect(p.earlyBeats[0]).toBeLessThanOrEqual(4);
+      expect(p.earlyThreshold).toHaveLength(p.earlyBeats.length);
+    }
     expect(record).toMatchObject({ name: 'record', warn: false });
+  });
+
+  it('early thresholds: one per length of earlyBeats, one number for all, or "auto" (a fallback where no baseline is stored)', () => {
+    const jam = loadPreset('jam');
+    expect(resolveThreshold(jam, tempDir('no-index')).earlyThresholds).toEqual(jam.earlyThreshold);
+    expect(resolveThreshold({ ...jam, earlyThreshold: 0.9 }, tempDir('no-index')).earlyThresholds).toEqual(jam.earlyBeats.map(() => 0.9));
+    expect(resolveThreshold({ ...jam, earlyThreshold: 'auto' }, tempDir('no-index'))).toMatchObject({ earlyThresholds: jam.earlyBeats.map(() => EARLY_FALLBACK), earlyUncalibrated: jam.earlyBeats });
+    expect(() => resolveThreshold({ ...jam, earlyThreshold: [0.9] }, tempDir('no-index'))).toThrow(/field "earlyThreshold": got 1 thresholds for the 5 lengths of earlyBeats/);
   });
 });
 

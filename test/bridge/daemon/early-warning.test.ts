@@ -1,0 +1,69 @@
+/**
+ * Warned early: through `earwitness listen` as shipped (preset jam, OSC in),
+ * 24 beats of unrelated playing, then a verbatim 8-beat quote of a corpus
+ * melody, then unrelated playing again. The warning must come within 4
+ * beats of the quote's first note — a quarter of the 16-beat window — name
+ * the piece and the recent stretch that matched, and the session log must
+ * keep that stretch. Melodies are invented (test/helpers/daemon.ts); OSC
+ * messages are encoded by the `osc` package (OSC 1.0).
+ */
+import { createSocket } from 'node:dgram';
+import osc from 'osc';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Note } from '../../../core/note.js';
+import type { ScoreEvent, WarningEvent } from '../../../contract/events.js';
+import { SessionLog } from '../../../bridge/formats/session-log.js';
+import { type SpawnedDaemon, type TestCorpus, listen, melody, passage, spawnDaemon, writeCorpus } from '../../helpers/daemon.js';
+
+const QUOTE_AT = 24;
+
+describe('a quote spliced into unrelated playing', () => {
+  let corpus: TestCorpus;
+  let d: SpawnedDaemon;
+  beforeAll(async () => {
+    corpus = writeCorpus();
+    d = await spawnDaemon(['--corpus', corpus.dir, '--preset', 'jam', '--input', 'osc']);
+  });
+  afterAll(async () => {
+    await d?.stop();
+  });
+
+  it('is warned about within 4 beats of its first note, naming the recent stretch', async () => {
+    const own = (seed: number, at: number, beats: number): Note[] => melody(seed, beats).map((n) => ({ ...n, onset: n.onset + at }));
+    const quote = passage(corpus.pieces['cinderpath.mid'], 8, 16, QUOTE_AT, 0);
+    const played = [...own(501, 0, QUOTE_AT), ...quote, ...own(503, QUOTE_AT + 8, 8)];
+    const events = await listen(d.http);
+    const socket = createSocket('udp4');
+    for (const [i, n] of played.entries()) {
+      const bytes = osc.writePacket({ address: '/ew/note', args: [{ type: 'i', value: n.pitch }, { type: 'i', value: n.velocity }, { type: 'f', value: n.duration }, { type: 'f', value: n.onset }] }, { metadata: true });
+      socket.send(bytes, d.osc, '127.0.0.1');
+      // One note at a time, each scored on its own: the warning's note is then the note it was raised at.
+      await events.next<ScoreEvent>((e) => e.type === 'score' && e.seq === i + 1);
+    }
+    socket.close();
+    const warnings = events.events.filter((e): e is WarningEvent => e.type === 'warning');
+    events.close();
+    expect(warnings.length).toBeGreaterThan(0);
+    const first = warnings[0];
+    const raisedAt = played[first.seq - 1].onset;
+    console.log(`early warning: raised ${raisedAt - QUOTE_AT} beats into the quote, stretch ${JSON.stringify(first.stretch)}`);
+    expect(raisedAt).toBeGreaterThanOrEqual(QUOTE_AT);
+    expect(raisedAt - QUOTE_AT).toBeLessThanOrEqual(4);
+    expect(first).toMatchObject({ piece: 'cinderpath.mid', transposition: 0 });
+    expect(first.stretch).toBeDefined();
+    const s = first.stretch!;
+    expect(s.startBeat).toBeGreaterThanOrEqual(QUOTE_AT);
+    expect(s.endBeat).toBe(raisedAt);
+    expect(s.notes).toBe(played.filter((n) => n.onset >= s.startBeat && n.onset <= s.endBeat).length);
+    expect(s.score).toBeGreaterThanOrEqual(s.threshold);
+    // The excerpt warned about starts where the stretch does in the piece: 8 beats in, as quoted.
+    expect(first.startBeat - first.pieceStart).toBeCloseTo(QUOTE_AT - 8, 6);
+    // The unrelated playing before the quote raised nothing.
+    expect(warnings.filter((w) => played[w.seq - 1].onset < QUOTE_AT)).toEqual([]);
+
+    const log = SessionLog.open(d.log, { readonly: true });
+    const logged = log.session('latest')!.warnings;
+    log.close();
+    expect(logged[0].stretch).toEqual(s);
+  });
+});
