@@ -79,11 +79,11 @@ export interface Daemon {
 /** Score, warning and clear events a (re)connecting page gets in its hello. */
 export const HISTORY_EVENTS = 240;
 
-/** The preset's recent-stretch rule (core/stretch.ts), or undefined when it judges the whole window only. */
+/** The preset's recent-stretch rule (core/stretch.ts), or undefined when it judges the whole window only; a stretch is never held to less distinctiveness than the whole window. */
 export function earlyRule(preset: LivePreset): StretchRule | undefined {
   const lengths = preset.earlyBeats ?? [];
   if (lengths.length === 0) return undefined;
-  return { lengths, thresholds: preset.earlyThresholds ?? lengths.map(() => EARLY_FALLBACK), minNotes: preset.earlyMinNotes ?? 6, minDistinctiveness: preset.earlyMinDistinctiveness ?? 0 };
+  return { lengths, thresholds: preset.earlyThresholds ?? lengths.map(() => EARLY_FALLBACK), minNotes: preset.earlyMinNotes ?? 6, minDistinctiveness: Math.max(preset.earlyMinDistinctiveness ?? 0, preset.minDistinctiveness) };
 }
 
 /** The score event's stretch: where it lies, how it scored, and its own match. */
