@@ -66,6 +66,9 @@ export interface VerdictMatch {
   title: string;
   transposition: number;
   pieceStart: number;
+  /** pieceStart as bar and beat in the piece's metre (core/bars.ts); null before the piece begins. */
+  pieceBar?: number | null;
+  pieceBeatInBar?: number | null;
   distinctiveness?: number;
 }
 
@@ -89,6 +92,9 @@ export interface Warning {
   score: number;
   transposition: number;
   pieceStart: number;
+  /** pieceStart as bar and beat in the piece's metre, when known; null before the piece begins. */
+  pieceBar?: number | null;
+  pieceBeatInBar?: number | null;
   /** Where the window warned about starts, in the session's beats. */
   startBeat: number;
   /** Of the match warned about, as in the score event. */
@@ -176,7 +182,7 @@ function act(step: Step, actions: PolicyAction[], verdict: Verdict | null, time:
       step.effects.push({ type: 'clear', warning: standing, seq: verdict?.seq ?? step.state.seq, time });
     } else if (a.type === 'raise' && verdict?.match) {
       const m = verdict.match;
-      const warning: Warning = { seq: verdict.seq, time, piece: m.piece, title: m.title, score: verdict.score, transposition: m.transposition, pieceStart: m.pieceStart, startBeat: verdict.windowStart, distinctiveness: m.distinctiveness };
+      const warning: Warning = { seq: verdict.seq, time, piece: m.piece, title: m.title, score: verdict.score, transposition: m.transposition, pieceStart: m.pieceStart, ...(m.pieceBar === undefined ? {} : { pieceBar: m.pieceBar, pieceBeatInBar: m.pieceBeatInBar ?? null }), startBeat: verdict.windowStart, distinctiveness: m.distinctiveness };
       step.state = { ...step.state, standing: warning, warnings: step.state.warnings + 1 };
       step.effects.push({ type: 'raise', warning });
     }

@@ -33,7 +33,7 @@ const portable = (p: string): string => p.split(sep).join('/');
 
 export function readPiece(file: string, root: string, options: MidiReadOptions = {}): Piece {
   const m = readMidi(file, options);
-  return { path: portable(relative(root, file)), title: m.title, beats: m.beats, key: m.key, notes: m.notes };
+  return { path: portable(relative(root, file)), title: m.title, beats: m.beats, key: m.key, meter: m.meter, notes: m.notes };
 }
 
 const reason = (e: unknown): string => (e instanceof MidiFileError ? e.reason : (e as Error).message);
@@ -66,7 +66,8 @@ export function loadQueries(paths: readonly string[], options: MidiReadOptions =
     if (!statSafe(p)) throw new MidiFileError(p, 'no such file or folder');
     for (const file of isDir ? findMidiFiles(p) : [p]) {
       try {
-        queries.push({ file: portable(file), notes: readMidi(file, options).notes, folder: isDir ? portable(p) : null });
+        const m = readMidi(file, options);
+        queries.push({ file: portable(file), notes: m.notes, meter: m.meter, folder: isDir ? portable(p) : null });
       } catch (e) {
         skipped.push({ file: portable(file), error: reason(e) });
       }

@@ -28,6 +28,7 @@ import type { MatchCorpus } from '../../core/pipeline.js';
 import { LiveMatcher } from '../../core/live-match.js';
 import { LiveWindow } from '../../core/live-window.js';
 import { excerptPair, snapOnsets } from '../../core/review.js';
+import { barBeat } from '../../core/bars.js';
 import type { ExcerptNote, NoteEvent } from '../../contract/events.js';
 
 /** A played note as the scorer gets it (the `note` event's fields): seq numbers start at 1 each session. */
@@ -39,6 +40,9 @@ export interface LiveMatch {
   title: string;
   pieceIndex: number;
   pieceStart: number;
+  /** pieceStart as bar and beat in the piece's metre (core/bars.ts); null before the piece begins. */
+  pieceBar: number | null;
+  pieceBeatInBar: number | null;
   transposition: number;
   matched: number;
   excerptNotes: number;
@@ -123,18 +127,21 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
       const base = { seq: lastSeq, windowNotes: points.length, windowStart, windowEnd, dropped: window.dropped, restarts: window.restarts };
       if (!m || m.matched === 0) return { ...base, score: 0, match: null, timeShift: null, excerpt: null };
       const piece = corpus.pieces[m.piece];
+      const at = barBeat(piece.meter ?? [], m.pieceStart);
       const match: LiveMatch = {
         piece: piece.path,
         title: pieceName(piece),
         pieceIndex: m.piece,
         pieceStart: m.pieceStart,
+        pieceBar: at?.bar ?? null,
+        pieceBeatInBar: at?.beatInBar ?? null,
         transposition: m.transposition,
         matched: m.matched,
         excerptNotes: m.excerptNotes,
         distinctiveness: m.distinctiveness!,
       };
-      const summary = { ...match, score: m.score };
-      const { corpus: excerpt } = excerptPair(notes, { start: windowStart, end: windowEnd, notes: points.length, score: m.score, tooShort: false, match: summary }, piece, 'chromatic', options.tolerance ?? 0);
+      const summary = { ...match, bar: match.pieceBar, beatInBar: match.pieceBeatInBar, score: m.score };
+      const { corpus: excerpt } = excerptPair(notes, { start: windowStart, end: windowEnd, bar: null, beatInBar: null, notes: points.length, score: m.score, tooShort: false, match: summary }, piece, 'chromatic', options.tolerance ?? 0);
       return {
         ...base,
         score: m.score,

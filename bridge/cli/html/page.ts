@@ -11,6 +11,7 @@
 import type { MatchMode } from '../../../core/pipeline.js';
 import type { PitchMode } from '../../../core/note.js';
 import { CAUTION } from '../../../core/report.js';
+import { pitchWords } from '../../../core/words.js';
 import type { WindowShape } from '../../../core/windows.js';
 
 /** Okabe–Ito colours by the role they play on these pages. */
@@ -20,6 +21,7 @@ export const COLOUR = {
   hot: '#D55E00',
   baseline: '#009E73',
   picked: '#F0E442',
+  live: '#56B4E9',
   caution: '#E69F00',
   sky: '#56B4E9',
   purple: '#CC79A7',
@@ -50,8 +52,8 @@ export interface PageContent {
 
 /** How the scores were made, in words: "windows of 16 beats with hop 8, chromatic pitch, exact timing". */
 export function scoringText(s: WindowShape & { pitch: PitchMode }, mode: MatchMode): string {
-  const timing = mode.tolerance > 0 ? `ontimes within ±${mode.tolerance} beat` : 'exact timing';
-  return `windows of ${s.window} beats with hop ${s.hop}, ${s.pitch} pitch, ${timing}${mode.tempoFree ? ', any tempo from half to double' : ''}`;
+  const timing = mode.tolerance > 0 ? `onsets within ±${mode.tolerance} beat` : 'exact timing';
+  return `windows of ${s.window} beats with hop ${s.hop}, ${pitchWords(s.pitch)} pitch, ${timing}${mode.tempoFree ? ', any tempo from half to double' : ''}`;
 }
 
 export const section = (heading: string, body: string, intro?: string): string =>
