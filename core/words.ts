@@ -41,6 +41,9 @@ export function transpositionWords(t: number, pitch: PitchMode = 'chromatic'): s
 /** The pitch dimension as a musician names it. */
 export const pitchWords = (pitch: PitchMode): string => (pitch === 'morphetic' ? 'diatonic' : 'chromatic');
 
+/** What `--pitch` means, for its help. */
+export const PITCH_HELP = 'match by semitone (chromatic) or by scale step (diatonic; "morphetic", the published method\'s term, is the same)';
+
 /** `--pitch` values: `diatonic` (matching by scale step; `morphetic`, the published method's term, is the same). */
 export const PITCH_CHOICES = ['chromatic', 'diatonic', 'morphetic'] as const;
 

@@ -1,6 +1,6 @@
 /** Options several commands share, so each means the same everywhere. */
 import { Option } from 'commander';
-import { PITCH_CHOICES, parsePitch } from '../../core/words.js';
+import { PITCH_CHOICES, PITCH_HELP, parsePitch } from '../../core/words.js';
 import { DEFAULT_WINDOW } from '../../core/windows.js';
 import { DEFAULT_MIN_NOTES } from '../../core/report.js';
 import { parseNumber, positive } from './usage.js';
@@ -8,7 +8,7 @@ import { UsageError } from '../formats/user-error.js';
 
 /** `--pitch`: chromatic (semitones), or diatonic (scale steps; `morphetic`, the published method's term, means the same). */
 export const pitchOption = () =>
-  new Option('--pitch <mode>', 'match by semitone (chromatic) or by scale step (diatonic; "morphetic" is the same)')
+  new Option('--pitch <mode>', PITCH_HELP)
     .choices(PITCH_CHOICES as unknown as string[])
     .argParser((v: string) => {
       const mode = parsePitch(v);

@@ -133,7 +133,7 @@ export const loggedScoreSchema = z.object({
   windowStart: z.number().min(0).describe('a beat ≥ 0'),
   windowNotes: z.number().int().min(0).describe('a whole number ≥ 0'),
   piece: z.string().nullable().describe('a corpus path, or null'),
-  transposition: z.number().int().nullable().describe('a whole number of semitones, or null'),
+  transposition: z.number().int().nullable().describe('a whole number, or null'),
   pieceStart: z.number().nullable().describe('a beat, or null'),
   matched: z.number().int().min(0).describe('a whole number ≥ 0'),
 });
