@@ -72,13 +72,16 @@ export interface Placed {
   beatInBar: number | null;
 }
 
-/** A position already placed in bars, short: "3:1"; before the start, in words. */
+/**
+ * A position already placed in bars, short: "3:1". Before the start, in
+ * words; with no bar fields at all (a piece without metre information), in 4/4.
+ */
 export const placedText = (at: Placed, beat: number, what = 'the piece'): string =>
-  at.bar === null || at.beatInBar === null ? `${beatsWords(-beat)} before ${what} begins` : `${at.bar}:${numberWords(at.beatInBar)}`;
+  at.bar === null || at.beatInBar === null ? (beat < 0 ? `${beatsWords(-beat)} before ${what} begins` : barBeatText([], beat)) : `${at.bar}:${numberWords(at.beatInBar)}`;
 
-/** A position already placed in bars, in words: "bar 3, beat 1". */
+/** A position already placed in bars, in words: "bar 3, beat 1" (as placedText). */
 export const placedWords = (at: Placed, beat: number, what = 'the piece'): string =>
-  at.bar === null || at.beatInBar === null ? `${beatsWords(-beat)} before ${what} begins` : `bar ${at.bar}, beat ${numberWords(at.beatInBar)}`;
+  at.bar === null || at.beatInBar === null ? positionWords([], beat, what) : `bar ${at.bar}, beat ${numberWords(at.beatInBar)}`;
 
 /** A stretch, short: "5:1–9:1". */
 export const spanText = (meter: Meter, from: number, to: number): string => `${barBeatText(meter, from)}–${barBeatText(meter, to)}`;

@@ -93,7 +93,8 @@ function pitchSpans(a: readonly Note[], b: readonly Note[]): [[number, number], 
   return [centre(ra), centre(rb)];
 }
 
-export function pairFigure(pair: ExcerptPair, o: { mode: PitchMode; queryLabel: string }): string {
+/** `id`: the figure's anchor, `worst` (the default) for a worst window, `warning` for a live warning; numbered by the pair's rank. */
+export function pairFigure(pair: ExcerptPair, o: { mode: PitchMode; queryLabel: string; id?: 'worst' | 'warning' }): string {
   const w = pair.window;
   const mt = w.match;
   const beats = w.end - w.start;
@@ -106,7 +107,7 @@ export function pairFigure(pair: ExcerptPair, o: { mode: PitchMode; queryLabel: 
   const count = (ns: readonly MarkedNote<Note>[]): string => `${ns.filter((n) => n.matched).length} of ${ns.length} notes matched`;
   const transposed = transpositionWords(mt.transposition, o.mode) + (scale === 1 ? '' : `, ${scale}× as long`);
   return (
-    `<div class="pair" id="worst-${pair.rank}">` +
+    `<div class="pair" id="${o.id ?? 'worst'}-${pair.rank}">` +
     `<h3><span class="rank">${pair.rank}</span>score ${w.score.toFixed(3)}: bars ${played} resemble “${esc(mt.title)}” bars ${inPiece}, ${transposed}</h3>` +
     '<div class="rolls">' +
     `<figure style="margin:0"><h4>${esc(o.queryLabel)}, bars ${played}</h4><p class="where">${count(pair.query)}</p>` +

@@ -124,7 +124,7 @@ export function reviewHtml(r: SessionReview, baseline: Baseline | null): string 
     ? 'This session was logged before live scores were kept, so only its warnings show what was heard live. '
     : `The dashed line is the live score of each of the ${r.live.length} ${SCORING_PASSES}, as the performer saw it. `;
   const warned = r.warned.length
-    ? rollLegend() + r.warned.map((p) => pairFigure(p, { mode: 'chromatic', queryLabel: `Played (warning ${p.rank})` })).join('')
+    ? rollLegend() + r.warned.map((p) => pairFigure(p, { mode: 'chromatic', queryLabel: `Played (warning ${p.rank})`, id: 'warning' })).join('')
     : '<p class="empty">No warning was raised during this session.</p>';
   const pairs = r.worst.length
     ? rollLegend() + r.worst.map((p) => pairFigure(p, { mode: s.pitch, queryLabel: 'Played' })).join('')
