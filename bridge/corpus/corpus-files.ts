@@ -1,8 +1,14 @@
 /**
  * Finding MIDI files on disk and loading them as corpus pieces or queries.
- * An unreadable file is skipped with its reason, never a crash.
+ * An unreadable file is skipped with its reason, never a crash. Symbolic
+ * links to files and folders are followed (a folder of links is a common
+ * way to pick a subset of a large collection); a link that leads back into
+ * a folder being walked is a loop, reported and not followed.
+ *
+ * @example
+ *   walkCorpus('picks')   // → { files: ['picks/reel.mid', …], skipped: [{ file: 'loop', error: 'a link back to …' }] }
  */
-import { readdirSync, statSync } from 'node:fs';
+import { readdirSync, realpathSync, statSync } from 'node:fs';
 import { join, relative, sep } from 'node:path';
 import type { Corpus, Piece } from '../../core/corpus.js';
 import type { QueryInput } from '../../core/report.js';
@@ -15,19 +21,42 @@ export interface Skipped {
   error: string;
 }
 
-/** Every .mid/.midi file under `dir`, recursively, in a stable order. */
-export function findMidiFiles(dir: string): string[] {
-  const out: string[] = [];
-  const walk = (d: string): void => {
+/**
+ * Every .mid/.midi file under `dir`, recursively, in a stable order, links
+ * followed; a link back into a folder on the way down (a loop), or a link
+ * that leads nowhere, is listed in `skipped` with its path relative to `dir`.
+ */
+export function walkCorpus(dir: string): { files: string[]; skipped: Skipped[] } {
+  const files: string[] = [];
+  const skipped: Skipped[] = [];
+  const walk = (d: string, above: readonly string[]): void => {
     for (const entry of readdirSync(d, { withFileTypes: true }).sort((a, b) => (a.name < b.name ? -1 : a.name > b.name ? 1 : 0))) {
       const p = join(d, entry.name);
-      if (entry.isDirectory()) walk(p);
-      else if (entry.isFile() && isMidiPath(entry.name)) out.push(p);
+      if (!entry.isSymbolicLink()) {
+        if (entry.isDirectory()) walk(p, [...above, realpathSync(p)]);
+        else if (entry.isFile() && isMidiPath(entry.name)) files.push(p);
+        continue;
+      }
+      let target: string;
+      try {
+        target = realpathSync(p);
+      } catch {
+        if (isMidiPath(entry.name)) skipped.push({ file: portable(relative(dir, p)), error: 'a symbolic link to nothing (its target is gone)' });
+        continue;
+      }
+      const stat = statSync(target);
+      if (stat.isDirectory()) {
+        if (above.includes(target)) skipped.push({ file: portable(relative(dir, p)), error: `a symbolic link back to ${target}, a folder it is inside: a loop, not followed` });
+        else walk(p, [...above, target]);
+      } else if (stat.isFile() && isMidiPath(entry.name)) files.push(p);
     }
   };
-  walk(dir);
-  return out;
+  walk(dir, [realpathSync(dir)]);
+  return { files, skipped };
 }
+
+/** The MIDI files `walkCorpus` finds. */
+export const findMidiFiles = (dir: string): string[] => walkCorpus(dir).files;
 
 const portable = (p: string): string => p.split(sep).join('/');
 
@@ -40,9 +69,8 @@ const reason = (e: unknown): string => (e instanceof MidiFileError ? e.reason : 
 
 /** Loads every MIDI file under `dir` as a piece; files that cannot be read are listed, not fatal. */
 export function loadCorpusFolder(dir: string, options: MidiReadOptions & { progress?: (done: number, total: number) => void } = {}): { corpus: Corpus; skipped: Skipped[] } {
-  const files = findMidiFiles(dir);
+  const { files, skipped } = walkCorpus(dir);
   const pieces: Piece[] = [];
-  const skipped: Skipped[] = [];
   files.forEach((file, i) => {
     try {
       const piece = readPiece(file, dir, options);
@@ -64,7 +92,9 @@ export function loadQueries(paths: readonly string[], options: MidiReadOptions =
     const isDir = statSafe(p)?.isDirectory() ?? false;
     // A MidiFileError, like any unreadable input: the message names the path, with no stack trace.
     if (!statSafe(p)) throw new MidiFileError(p, 'no such file or folder');
-    for (const file of isDir ? findMidiFiles(p) : [p]) {
+    const found = isDir ? walkCorpus(p) : { files: [p], skipped: [] };
+    skipped.push(...found.skipped.map((x) => ({ ...x, file: portable(join(p, x.file)) })));
+    for (const file of found.files) {
       try {
         const m = readMidi(file, options);
         queries.push({ file: portable(file), notes: m.notes, meter: m.meter, folder: isDir ? portable(p) : null });

@@ -19,7 +19,7 @@ import { type FlatNotes, joinNotes, notePoints } from '../../../core/flat-notes.
 import { CORPUS_TRIPLES, buildTriples } from '../../../core/triple-index.js';
 import { FINGERPRINT_SHAPE, buildFingerprints } from '../../../core/fingerprint.js';
 import { EXACT_MODE } from '../../../core/pipeline.js';
-import { findMidiFiles } from '../../corpus/corpus-files.js';
+import { walkCorpus } from '../../corpus/corpus-files.js';
 import { type FileFingerprint, type IndexContents, type PieceInfo, INDEX_NAME, IndexFileError, readIndexFile, writeIndexFile } from '../../formats/index-file.js';
 import { type ParseTask, type ParsedFile, fileHash } from '../../corpus/build-worker.js';
 import { printJson } from '../options.js';
@@ -142,7 +142,8 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
   const oldPieces = new Map(reusable?.pieces.map((p, i) => [p.path, i]) ?? []);
 
   type Slot = { path: string; size: number; mtimeMs: number; reuse: FileFingerprint | null };
-  const slots: Slot[] = findMidiFiles(dir).map((file) => {
+  const walked = walkCorpus(dir);
+  const slots: Slot[] = walked.files.map((file) => {
     const path = portable(relative(dir, file));
     const { size, mtimeMs } = statSync(file);
     const was = oldFiles.get(path);
@@ -157,7 +158,7 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
   const pieces: PieceInfo[] = [];
   const parts: { notes: FlatNotes; piece: number }[] = [];
   const files: FileFingerprint[] = [];
-  const skipped: { file: string; error: string }[] = [];
+  const skipped: { file: string; error: string }[] = [...walked.skipped];
   for (const s of slots) {
     const fresh = parsed.get(s.path);
     const error = fresh ? fresh.error : s.reuse!.error;
