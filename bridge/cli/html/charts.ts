@@ -121,11 +121,11 @@ export function scoreTimeline(t: TimelineInput): string {
   for (const p of t.picks) {
     const x0 = x(p.start);
     const x1 = x(Math.min(p.end, xMax));
-    parts.push(`<rect x="${r1(x0)}" width="${r1(Math.max(2, x1 - x0))}" y="${pickRow}" height="${y(0) - pickRow}" fill="${COLOUR.picked}" fill-opacity="0.4" stroke="#000" stroke-opacity="0.35"><title>worst window ${p.rank}: bars ${spanText(t.meter, p.start, p.end)}</title></rect>`);
+    parts.push(`<rect x="${r1(x0)}" width="${r1(Math.max(2, x1 - x0))}" y="${pickRow}" height="${y(0) - pickRow}" fill="${COLOUR.ink}" fill-opacity="0.07" stroke="#000" stroke-opacity="0.35"><title>worst window ${p.rank}: bars ${spanText(t.meter, p.start, p.end)}</title></rect>`);
     parts.push(`<circle cx="${r1((x0 + x1) / 2)}" cy="${pickRow}" r="9" fill="#000"/><text x="${r1((x0 + x1) / 2)}" y="${pickRow + 4}" text-anchor="middle" style="fill:#fff;font-weight:700">${p.rank}</text>`);
   }
   if (t.threshold !== null) {
-    parts.push(`<line x1="${m.l}" x2="${W - m.r}" y1="${r1(y(t.threshold))}" y2="${r1(y(t.threshold))}" stroke="#000" stroke-width="1.5" stroke-dasharray="6 4"/>`);
+    parts.push(`<line x1="${m.l}" x2="${W - m.r}" y1="${r1(y(t.threshold))}" y2="${r1(y(t.threshold))}" stroke="${COLOUR.threshold}" stroke-width="2" stroke-dasharray="6 4"/>`);
     parts.push(`<text x="${W - m.r}" y="${r1(y(t.threshold) - 5)}" text-anchor="end">warning threshold ${t.threshold.toFixed(2)}</text>`);
   }
   const pts = t.windows.map((w) => [x((w.start + w.end) / 2), y(w.score)] as const);
@@ -154,12 +154,12 @@ export function scoreTimeline(t: TimelineInput): string {
   ];
   if (t.threshold !== null) {
     items.push([swatch(`<polygon points="${diamond(11, 7, 6)}" fill="${COLOUR.hot}" stroke="#000"/>`), 'window at or above the threshold']);
-    items.push([swatch(`<line x1="0" x2="22" y1="7" y2="7" stroke="#000" stroke-width="1.5" stroke-dasharray="6 4"/>`), 'warning threshold']);
+    items.push([swatch(`<line x1="0" x2="22" y1="7" y2="7" stroke="${COLOUR.threshold}" stroke-width="2" stroke-dasharray="6 4"/>`), 'warning threshold']);
   }
   if (live.length > 1) items.push([swatch(`<line x1="0" x2="22" y1="7" y2="7" stroke="${COLOUR.live}" stroke-width="1.5" stroke-dasharray="4 3"/>`), 'live score as it was heard, at the middle of its window']);
   if (t.warnings.length) items.push([swatch(`<polygon points="${triangleDown(11, 6, 6)}" fill="${COLOUR.hot}" stroke="#000"/>`), 'warning raised live']);
   if (t.band) items.push([swatch(`<rect x="1" y="2" width="20" height="10" fill="${COLOUR.baseline}" fill-opacity="0.22" stroke="${COLOUR.baseline}"/>`), t.band.label]);
-  if (t.picks.length) items.push([swatch(`<rect x="1" y="1" width="20" height="12" fill="${COLOUR.picked}" fill-opacity="0.4" stroke="#000" stroke-opacity="0.35"/><circle cx="11" cy="7" r="4.5" fill="#000"/>`), 'worst window, numbered as below']);
+  if (t.picks.length) items.push([swatch(`<rect x="1" y="1" width="20" height="12" fill="${COLOUR.ink}" fill-opacity="0.07" stroke="#000" stroke-opacity="0.35"/><circle cx="11" cy="7" r="4.5" fill="#000"/>`), 'worst window, numbered as below']);
   return svg + legend(items);
 }
 

@@ -35,8 +35,8 @@ export interface RollInput {
   label: string;
 }
 
-const MATCHED = `fill="${COLOUR.hot}" stroke="#000" stroke-width="1.5"`;
-const OTHER = `fill="#fff" stroke="${COLOUR.score}" stroke-width="1.3" stroke-dasharray="3 2"`;
+const MATCHED = `fill="${COLOUR.matched}" stroke="#000" stroke-width="1.5"`;
+const OTHER = `fill="#fff" stroke="${COLOUR.unmatched}" stroke-width="1.3" stroke-dasharray="3 2"`;
 
 export function pianoRoll(r: RollInput): string {
   const W = 470;
