@@ -81,7 +81,7 @@ export function registerDemo(cli: Command): void {
         if (e.type !== 'warning') return;
         const w = e as WarningEvent;
         const where = placedWords({ bar: w.pieceBar ?? null, beatInBar: w.pieceBeatInBar ?? null }, w.pieceStart, 'the tune');
-        process.stdout.write(`warning: "${w.title}" (${w.piece}), score ${w.score.toFixed(2)}, ${transpositionWords(w.transposition)}, from ${where} of the tune\n`);
+        process.stdout.write(`warning: "${w.title}" (${w.piece}), score ${w.score.toFixed(2)}, ${transpositionWords(w.transposition)}, from ${where}${w.pieceStart < 0 ? '' : ' of the tune'}\n`);
       });
       process.stdout.write(
         [
