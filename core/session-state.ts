@@ -42,7 +42,9 @@ export type InputCommand =
   | { kind: 'start' }
   | { kind: 'continue' }
   | { kind: 'stop' }
-  | { kind: 'position'; value: number };
+  | { kind: 'position'; value: number }
+  /** The session's time signature, for the bars and beats of its positions (core/bars.ts). */
+  | { kind: 'meter'; numerator: number; denominator: number };
 
 /** A played note as the scorer takes it and the `note` event shows it. */
 export interface SessionNote {
@@ -129,6 +131,8 @@ export type SessionEffect =
   /** Empty the scorer's window: a new passage. */
   | { type: 'reset-scorer' }
   | { type: 'raise'; warning: Warning }
+  /** The session's time signature is now this: keep it with the session. */
+  | { type: 'meter'; numerator: number; denominator: number }
   /** The standing warning clears; `seq` is the verdict's, or the latest note's on a reset. */
   | { type: 'clear'; warning: Warning; seq: number; time: number };
 
@@ -234,6 +238,8 @@ function input(step: Step, c: InputCommand, atMs: number, now: number): void {
       return setClock(midiStop(clock, atMs));
     case 'position':
       return setClock(songPosition(clock, c.value, atMs));
+    case 'meter':
+      return void step.effects.push({ type: 'meter', numerator: c.numerator, denominator: c.denominator });
   }
 }
 

@@ -115,6 +115,8 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
   };
 
   let state = initialSession(preset.bpm, Date.now());
+  /** The session's time signature: the preset's until /ew/meter says otherwise. */
+  let meter = preset.meter;
   let session = 0;
   /** The session log's row of the standing warning, to mark it cleared. */
   let standingRow = -1;
@@ -151,6 +153,9 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
         oscOut?.warning(w.piece, w.score, w.transposition);
         return;
       }
+      case 'meter':
+        meter = `${e.numerator}/${e.denominator}`;
+        return logged(() => log.setMeter(session, meter));
       case 'clear': {
         const row = standingRow;
         logged(() => log.clearWarning(row, e.time));
@@ -262,6 +267,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     clients: web?.clients() ?? 0,
     slowClients: web?.slowClients() ?? 0,
     oscOutFailures: oscOut?.failures() ?? 0,
+    meter,
     clock: { source: state.clock.source, running: state.clock.running, beat: beatAt(state.clock, Date.now()), bpm: state.clock.bpm },
     corpus,
     corpusIndex: indexWatch.file === null ? null : { file: indexWatch.file, onDisk: indexWatch.onDisk() },

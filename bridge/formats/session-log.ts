@@ -256,6 +256,11 @@ export class SessionLog {
     this.db.prepare('UPDATE warnings SET cleared_at = ? WHERE id = ?').run(at, warning);
   }
 
+  /** The session's time signature from now on, as `/ew/meter` says it: kept in its settings (`meter`). */
+  setMeter(session: number, meter: string): void {
+    this.db.prepare("UPDATE sessions SET settings = json_set(settings, '$.meter', ?) WHERE id = ?").run(meter, session);
+  }
+
   endSession(session: number, endedAt = new Date()): void {
     this.db.prepare('UPDATE sessions SET ended_at = ? WHERE id = ?').run(endedAt.toISOString(), session);
   }

@@ -134,7 +134,7 @@ export function registerListen(cli: Command): void {
         `preset: ${preset.name} — ${preset.description} (window ${preset.window} beats, threshold ${preset.threshold}${chosen.threshold === 'auto' ? ' (auto: the corpus baseline\'s p99)' : ''}, grid ${gridWords(preset.grid)}, ${preset.meter}, tolerance ${preset.tolerance} beat${preset.tempoFree ? ', tempo-free' : ''}, min distinctiveness ${preset.minDistinctiveness}, ${preset.minNotes} notes, ${preset.consecutive} in a row, hysteresis ${preset.hysteresis}, ${preset.warn ? 'warnings on' : 'no warnings'})`,
         midiLine,
         o.percussion ? 'channel 10 (percussion): heard as pitches (--percussion)' : 'channel 10 (percussion): left out, as in corpus files; --percussion hears it',
-        s.osc ? `OSC: udp 127.0.0.1:${s.osc.port} (/ew/note, /ew/on, /ew/off, /ew/tempo, /ew/beat, /ew/reset)` : 'OSC: not listening (the preset listens to MIDI only)',
+        s.osc ? `OSC: udp 127.0.0.1:${s.osc.port} (/ew/note, /ew/on, /ew/off, /ew/tempo, /ew/beat, /ew/reset, /ew/meter)` : 'OSC: not listening (the preset listens to MIDI only)',
         `overlay: ${s.http.url}${o.token ? `?token=${o.token}` : ''}${isWildcard(o.host) ? ' (and on every other address of this machine)' : ''}`,
         `log: ${s.log.file} (session ${s.log.session})`,
         `listening osc=${s.osc?.port ?? 0} http=${s.http.port}`,
