@@ -147,8 +147,11 @@ describe('earwitness report', () => {
     const r = earwitness('report', join(queries, 'quote.mid'), '--corpus', corpus);
     expect(r.status).toBe(EXIT.ok);
     expect(r.stdout).toMatch(/^originality 0\.0% over \d+ windows of 16 beats \(hop 8, chromatic pitch\)/);
-    // The chorales carry no time signature: 4/4, so beat 0 is bar 1, beat 1; the quote is played 3 semitones higher.
-    expect(r.stdout).toMatch(/\n  1:1–5:1 .* chorale-2 from bar 1, beat 1, 3 semitones up/);
+    // The chorales carry no time signature: 4/4. The quote's windows lie 8 beats after the chorale's: its first, from bar 1,
+    // begins 8 beats before the chorale does, said in words; its second, from bar 3, is the chorale's bar 1, beat 1.
+    expect(r.stdout).toMatch(/\n  1:1–5:1 .* chorale-2 from 8 beats before the piece begins, 3 semitones up/);
+    expect(r.stdout).toMatch(/\n  3:1–7:1 .* chorale-2 from bar 1, beat 1, 3 semitones up/);
+    expect(r.stdout).not.toMatch(/[\s(]-\d/); // no negative position
     expect(r.stdout.trimEnd().endsWith(CAUTION)).toBe(true);
   });
 });
