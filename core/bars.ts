@@ -102,6 +102,12 @@ export function barBeat(meter: Meter, beat: number): BarBeat | null {
   return { bar: s.firstBar + bars, beatInBar: tidy(1 + (into - bars * barQuarters(s)) / beatQuarters(s)) };
 }
 
+/** A position's `bar` and `beatInBar` fields as JSON carries them: null before the start, or for no position at all. */
+export function barFields(meter: Meter, beat: number | null): { bar: number | null; beatInBar: number | null } {
+  const at = beat === null ? null : barBeat(meter, beat);
+  return { bar: at?.bar ?? null, beatInBar: at?.beatInBar ?? null };
+}
+
 /** The position in quarter-note beats of a bar and beat (the inverse of barBeat). */
 export function beatOf(meter: Meter, at: BarBeat): number {
   const segs = segments(meter);

@@ -9,7 +9,7 @@
  *   // → [{ seq: 12, beat: 4, bar: 2, beatInBar: 1, score: 0.72, piece: 'reel.mid', pieceBar: 5, … }]
  *   warningPairs(notes, warnings, { pieces, window: 8, tolerance: 0.1, meter: [] })[0].query   // the warned notes, matched ones flagged
  */
-import { type Meter, type TimeSignature, barBeat, normalMeter } from './bars.js';
+import { type Meter, type TimeSignature, barFields, normalMeter } from './bars.js';
 import { type Piece, pieceName } from './corpus.js';
 import type { Note } from './note.js';
 import { type ExcerptPair, type MatchedWindow, excerptPair } from './review.js';
@@ -56,18 +56,13 @@ export interface WarnedWindow {
 /** A piece by its path; passes and warnings name pieces by path. */
 const byPath = (pieces: readonly Piece[]): Map<string, Piece> => new Map(pieces.map((p) => [p.path, p]));
 
-const placed = (meter: Meter, beat: number | null): { bar: number | null; beatInBar: number | null } => {
-  const at = beat === null ? null : barBeat(meter, beat);
-  return { bar: at?.bar ?? null, beatInBar: at?.beatInBar ?? null };
-};
-
 /** Every live pass in bars: the session's metre for where its window starts, the piece's for where the match sits. */
 export function heardPasses(passes: readonly LivePass[], o: { meter: Meter; pieces: readonly Piece[] }): HeardPass[] {
   const pieces = byPath(o.pieces);
   return passes.map(({ windowStart, ...p }) => {
     const piece = p.piece === null ? undefined : pieces.get(p.piece);
-    const inPiece = placed(piece?.meter ?? [], p.pieceStart);
-    return { ...p, beat: windowStart, ...placed(o.meter, windowStart), title: piece ? pieceName(piece) : p.piece, pieceBar: inPiece.bar, pieceBeatInBar: inPiece.beatInBar };
+    const inPiece = barFields(piece?.meter ?? [], p.pieceStart);
+    return { ...p, beat: windowStart, ...barFields(o.meter, windowStart), title: piece ? pieceName(piece) : p.piece, pieceBar: inPiece.bar, pieceBeatInBar: inPiece.beatInBar };
   });
 }
 
@@ -99,11 +94,11 @@ export function warningPairs<N extends Note & { seq: number }>(notes: readonly N
     const window: MatchedWindow = {
       start: w.startBeat,
       end: w.startBeat + o.window,
-      ...placed(o.meter, w.startBeat),
+      ...barFields(o.meter, w.startBeat),
       notes: 0,
       score: w.score,
       tooShort: false,
-      match: { piece: w.piece, title: w.title, pieceStart: w.pieceStart, ...placed(piece.meter ?? [], w.pieceStart), transposition: w.transposition, matched: 0, excerptNotes: 0 },
+      match: { piece: w.piece, title: w.title, pieceStart: w.pieceStart, ...barFields(piece.meter ?? [], w.pieceStart), transposition: w.transposition, matched: 0, excerptNotes: 0 },
     };
     const pair = excerptPair(heard, window, piece, 'chromatic', o.tolerance);
     window.notes = pair.query.length;

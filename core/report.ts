@@ -18,7 +18,7 @@ import { type Note, type PitchMode, type Point, toGrains, toPoints } from './not
 import { type CorpusPoints, pieceName } from './corpus.js';
 import type { WindowMatcher } from './match.js';
 import { type WindowShape, windows } from './windows.js';
-import { type Meter, type TimeSignature, barBeat, normalMeter } from './bars.js';
+import { type Meter, type TimeSignature, barFields, normalMeter } from './bars.js';
 import { bootstrapMeanCi, mean, percentile, sampleIndices, seededRandom } from './stats.js';
 
 export const CAUTION =
@@ -114,12 +114,6 @@ export interface OriginalityReport {
 export interface Progress {
   (done: number, total: number): void;
 }
-
-/** A position's bar and beat fields, null before the start. */
-const barFields = (meter: Meter, beat: number): { bar: number | null; beatInBar: number | null } => {
-  const at = barBeat(meter, beat);
-  return { bar: at?.bar ?? null, beatInBar: at?.beatInBar ?? null };
-};
 
 /** Scores every window of a point set in `meter` (4/4 when absent). `exclude` leaves one corpus piece out. */
 export function scoreWindows(points: readonly Point[], corpus: CorpusPoints, matcher: WindowMatcher, shape: WindowShape & { minNotes: number; meter?: Meter }, exclude?: number): WindowResult[] {

@@ -16,7 +16,7 @@
  *   positionWords([], -2)                    // → "2 beats before the piece begins"
  *   parseGrid('1/16T')                       // → 6 (divisions of a beat)
  */
-import { type Meter, barBeat } from './bars.js';
+import { type BarBeat, type Meter, barBeat, barFields } from './bars.js';
 import type { PitchMode } from './note.js';
 
 /** What the daemon does each time it scores the window: a word a live coder will not read as running code. */
@@ -53,38 +53,38 @@ export function parsePitch(text: string): PitchMode | null {
   return text === 'diatonic' || text === 'morphetic' ? 'morphetic' : null;
 }
 
-/** Bar and beat, short: "12:2", "3:2.5". Before the start: "before the start". */
-export function barBeatText(meter: Meter, beat: number): string {
-  const at = barBeat(meter, beat);
-  return at ? `${at.bar}:${numberWords(at.beatInBar)}` : 'before the start';
-}
-
-/** A position in words: "bar 12, beat 2"; before the start, how far: "2 beats before the piece begins". */
-export function positionWords(meter: Meter, beat: number, what = 'the piece'): string {
-  const at = barBeat(meter, beat);
-  if (!at) return `${plural(Number(numberWords(-beat)), 'beat')} before ${what} begins`;
-  return `bar ${at.bar}, beat ${numberWords(at.beatInBar)}`;
-}
-
-/** Bar and beat fields as a result carries them (null before the start). */
+/** Bar and beat fields as a result carries them (null before the start, or when not worked out). */
 export interface Placed {
   bar: number | null;
   beatInBar: number | null;
 }
 
-/**
- * A position already placed in bars, short: "3:1". Before the start, in
- * words; with no bar fields at all (a piece without metre information), in 4/4.
- */
-export const placedText = (at: Placed, beat: number, what = 'the piece'): string =>
-  at.bar === null || at.beatInBar === null ? (beat < 0 ? `${beatsWords(-beat)} before ${what} begins` : barBeatText([], beat)) : `${at.bar}:${numberWords(at.beatInBar)}`;
+const before = (beat: number, what: string): string => `${beatsWords(-beat)} before ${what} begins`;
 
-/** A position already placed in bars, in words: "bar 3, beat 1" (as placedText). */
-export const placedWords = (at: Placed, beat: number, what = 'the piece'): string =>
-  at.bar === null || at.beatInBar === null ? positionWords([], beat, what) : `bar ${at.bar}, beat ${numberWords(at.beatInBar)}`;
+/** The fields when they hold a position; else the position worked out in 4/4 (a piece without metre), null before the start. */
+const resolved = (at: Placed, beat: number): BarBeat | null =>
+  at.bar !== null && at.beatInBar !== null ? { bar: at.bar, beatInBar: at.beatInBar } : barBeat([], beat);
 
-/** A stretch, short: "5:1–9:1". */
-export const spanText = (meter: Meter, from: number, to: number): string => `${barBeatText(meter, from)}–${barBeatText(meter, to)}`;
+/** A position already placed in bars, short: "3:1"; before the start, in words: "2 beats before the piece begins". */
+export function placedText(at: Placed, beat: number, what = 'the piece'): string {
+  const r = resolved(at, beat);
+  return r ? `${r.bar}:${numberWords(r.beatInBar)}` : before(beat, what);
+}
+
+/** A position already placed in bars, in words: "bar 3, beat 1" (before the start as placedText). */
+export function placedWords(at: Placed, beat: number, what = 'the piece'): string {
+  const r = resolved(at, beat);
+  return r ? `bar ${r.bar}, beat ${numberWords(r.beatInBar)}` : before(beat, what);
+}
+
+/** Bar and beat in `meter`, short: "12:2", "3:2.5". */
+export const barBeatText = (meter: Meter, beat: number, what = 'the piece'): string => placedText(barFields(meter, beat), beat, what);
+
+/** A position in `meter` in words: "bar 12, beat 2"; before the start, how far: "2 beats before the piece begins". */
+export const positionWords = (meter: Meter, beat: number, what = 'the piece'): string => placedWords(barFields(meter, beat), beat, what);
+
+/** A stretch, short: "5:1–9:1"; one beginning before the start: "before the start–2:1". */
+export const spanText = (meter: Meter, from: number, to: number): string => `${from < 0 ? 'before the start' : barBeatText(meter, from)}–${barBeatText(meter, to)}`;
 
 /** A length in quarter-note beats: "16 beats", "1 beat". */
 export const beatsWords = (beats: number): string => plural(Number(numberWords(beats)), 'beat');

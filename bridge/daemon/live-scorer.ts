@@ -28,7 +28,7 @@ import type { MatchCorpus } from '../../core/pipeline.js';
 import { LiveMatcher } from '../../core/live-match.js';
 import { LiveWindow } from '../../core/live-window.js';
 import { excerptPair, snapOnsets } from '../../core/review.js';
-import { barBeat } from '../../core/bars.js';
+import { barFields } from '../../core/bars.js';
 import type { ExcerptNote, NoteEvent } from '../../contract/events.js';
 
 /** A played note as the scorer gets it (the `note` event's fields): seq numbers start at 1 each session. */
@@ -127,14 +127,14 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
       const base = { seq: lastSeq, windowNotes: points.length, windowStart, windowEnd, dropped: window.dropped, restarts: window.restarts };
       if (!m || m.matched === 0) return { ...base, score: 0, match: null, timeShift: null, excerpt: null };
       const piece = corpus.pieces[m.piece];
-      const at = barBeat(piece.meter ?? [], m.pieceStart);
+      const at = barFields(piece.meter ?? [], m.pieceStart);
       const match: LiveMatch = {
         piece: piece.path,
         title: pieceName(piece),
         pieceIndex: m.piece,
         pieceStart: m.pieceStart,
-        pieceBar: at?.bar ?? null,
-        pieceBeatInBar: at?.beatInBar ?? null,
+        pieceBar: at.bar,
+        pieceBeatInBar: at.beatInBar,
         transposition: m.transposition,
         matched: m.matched,
         excerptNotes: m.excerptNotes,

@@ -32,7 +32,7 @@ import { minNotesOption, printJson } from '../options.js';
 import { writeOutputFile } from '../../formats/output-file.js';
 import { defaultLogFile } from '../../formats/paths.js';
 import { pct } from '../report-text.js';
-import { barBeat, parseSignature } from '../../../core/bars.js';
+import { barFields, parseSignature } from '../../../core/bars.js';
 import { heardPasses, warningPairs } from '../../../core/live-review.js';
 import { SCORING_PASSES, pitchWords, placedWords, positionWords, spanText, transpositionWords } from '../../../core/words.js';
 import { type LoggedNote, type LoggedScore, type LoggedWarning, type SessionSummary, SessionLog, loggedNoteSchema, loggedScoreSchema, sessionSettingsSchema } from '../../formats/session-log.js';
@@ -143,10 +143,9 @@ function buildReview(s: LoggedSession, settings: ReviewSettings, opened: OpenedC
     seconds: durationSeconds(s),
     originality: q.originality,
     warnings: s.warnings.map((w) => {
-      const at = barBeat(settings.meter, w.startBeat);
       const piece = view.pieces.find((p) => p.path === w.piece);
-      const inPiece = piece ? barBeat(piece.meter ?? [], w.pieceStart) : null;
-      return { ...w, bar: at?.bar ?? null, beatInBar: at?.beatInBar ?? null, pieceBar: inPiece?.bar ?? null, pieceBeatInBar: inPiece?.beatInBar ?? null, elapsed: Number.isFinite(start) ? (w.raisedAt - start) / 1000 : null };
+      const inPiece = barFields(piece?.meter ?? [], piece ? w.pieceStart : null);
+      return { ...w, ...barFields(settings.meter, w.startBeat), pieceBar: inPiece.bar, pieceBeatInBar: inPiece.beatInBar, elapsed: Number.isFinite(start) ? (w.raisedAt - start) / 1000 : null };
     }),
     live: settings.liveScores ? heardPasses(s.scores, { meter: settings.meter, pieces: view.pieces }) : null,
     windows: q.windows,
