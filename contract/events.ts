@@ -46,6 +46,9 @@ export interface ScoreEvent {
   /** Its title, or its file name. */
   title: string | null;
   pieceStart: number | null;
+  /** pieceStart as bar and beat in the piece's metre, counted from 1 (core/bars.ts); null when nothing matched or before the piece begins. */
+  pieceBar?: number | null;
+  pieceBeatInBar?: number | null;
   transposition: number | null;
   /** Beats from the corpus excerpt to the played window: played onset = corpus onset + timeShift. */
   timeShift: number | null;

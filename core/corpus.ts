@@ -7,6 +7,7 @@
  *   view.points[0]   // sorted, de-duplicated points of the first piece
  */
 import type { Key } from './spelling.js';
+import type { TimeSignature } from './bars.js';
 import { type Note, type PitchMode, type Point, toPoints } from './note.js';
 
 export interface Piece {
@@ -17,6 +18,8 @@ export interface Piece {
   /** Length in beats (end of the last note). */
   beats: number;
   key: Key;
+  /** Its time signatures (core/bars.ts), as the file gives them; absent or empty counts as 4/4. */
+  meter?: TimeSignature[];
   /** Spelled notes, sorted by onset. */
   notes: Note[];
 }

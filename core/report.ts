@@ -18,6 +18,7 @@ import { type Note, type PitchMode, type Point, toGrains, toPoints } from './not
 import { type CorpusPoints, pieceName } from './corpus.js';
 import type { WindowMatcher } from './match.js';
 import { type WindowShape, windows } from './windows.js';
+import { type Meter, type TimeSignature, barFields, normalMeter } from './bars.js';
 import { bootstrapMeanCi, mean, percentile, sampleIndices, seededRandom } from './stats.js';
 
 export const CAUTION =
@@ -30,6 +31,9 @@ export interface MatchSummary {
   /** The piece's title, or its file name. */
   title: string;
   pieceStart: number;
+  /** pieceStart as bar and beat in the piece's metre (core/bars.ts); null when it falls before the piece begins. */
+  bar: number | null;
+  beatInBar: number | null;
   transposition: number;
   matched: number;
   excerptNotes: number;
@@ -42,6 +46,9 @@ export interface MatchSummary {
 export interface WindowResult {
   start: number;
   end: number;
+  /** start as bar and beat in the query's metre (core/bars.ts). */
+  bar: number | null;
+  beatInBar: number | null;
   notes: number;
   score: number;
   /** Fewer notes than the report's minNotes: listed, but left out of originality, its interval and the gate. */
@@ -71,11 +78,15 @@ export const judgedScores = (windows: readonly WindowResult[]): number[] => wind
 export interface QueryInput {
   file: string;
   notes: Note[];
+  /** Its time signatures; absent counts as 4/4. */
+  meter?: Meter;
 }
 
 export interface QueryReport {
   file: string;
   notes: number;
+  /** Its time signatures, 4/4 filled in (core/bars.ts): the bars its positions are counted in. */
+  meter: TimeSignature[];
   /** Null for a query with no notes. */
   originality: number | null;
   windows: WindowResult[];
@@ -104,14 +115,15 @@ export interface Progress {
   (done: number, total: number): void;
 }
 
-/** Scores every window of a point set. `exclude` leaves one corpus piece out. */
-export function scoreWindows(points: readonly Point[], corpus: CorpusPoints, matcher: WindowMatcher, shape: WindowShape & { minNotes: number }, exclude?: number): WindowResult[] {
+/** Scores every window of a point set in `meter` (4/4 when absent). `exclude` leaves one corpus piece out. */
+export function scoreWindows(points: readonly Point[], corpus: CorpusPoints, matcher: WindowMatcher, shape: WindowShape & { minNotes: number; meter?: Meter }, exclude?: number): WindowResult[] {
   checkMinNotes(shape.minNotes);
   return windows(points, shape).map((w) => {
     const m = matcher.best({ points: w.points, startGrains: toGrains(w.start), exclude });
     return {
       start: w.start,
       end: w.end,
+      ...barFields(shape.meter ?? [], w.start),
       notes: w.points.length,
       score: m ? m.score : 0,
       tooShort: w.points.length < shape.minNotes,
@@ -119,6 +131,7 @@ export function scoreWindows(points: readonly Point[], corpus: CorpusPoints, mat
         piece: corpus.pieces[m.piece].path,
         title: pieceName(corpus.pieces[m.piece]),
         pieceStart: m.pieceStart,
+        ...barFields(corpus.pieces[m.piece].meter ?? [], m.pieceStart),
         transposition: m.transposition,
         matched: m.matched,
         excerptNotes: m.excerptNotes,
@@ -148,9 +161,9 @@ export function originalityReport(
   const seed = settings.seed ?? 1;
   const shape = { window: settings.window, hop: settings.hop, minNotes: settings.minNotes ?? DEFAULT_MIN_NOTES };
   const reports = queries.map((q, i) => {
-    const windowsOf = scoreWindows(toPoints(q.notes, corpus.mode), corpus, matcher, shape);
+    const windowsOf = scoreWindows(toPoints(q.notes, corpus.mode), corpus, matcher, { ...shape, meter: q.meter });
     progress?.(i + 1, queries.length);
-    return { file: q.file, notes: q.notes.length, originality: originalityOf(judgedScores(windowsOf)), windows: windowsOf };
+    return { file: q.file, notes: q.notes.length, meter: normalMeter(q.meter ?? []), originality: originalityOf(judgedScores(windowsOf)), windows: windowsOf };
   });
   const groups = reports.map((r) => judgedScores(r.windows));
   return {
@@ -195,7 +208,7 @@ export function humanBaseline(corpus: CorpusPoints, matcher: WindowMatcher, opti
   const shape = { window: options.window, hop: options.hop, minNotes: options.minNotes ?? DEFAULT_MIN_NOTES };
   const picked = sampleIndices(corpus.pieces.length, options.samples, seededRandom(options.seed));
   const groups = picked.map((piece, i) => {
-    const scores = judgedScores(scoreWindows(corpus.points[piece], corpus, matcher, shape, piece));
+    const scores = judgedScores(scoreWindows(corpus.points[piece], corpus, matcher, { ...shape, meter: corpus.pieces[piece].meter }, piece));
     progress?.(i + 1, picked.length);
     return scores;
   });

@@ -13,6 +13,7 @@
 import { type Note, type PitchMode, type Point, comparePoints, toGrains } from './note.js';
 import { type PitchLines, firstAtLeast, pitchLines } from './tolerance.js';
 import type { CorpusPoints, Piece } from './corpus.js';
+import { type Meter, type TimeSignature, normalMeter } from './bars.js';
 import { type MatchSummary, type QueryReport, type WindowResult, judgedScores, originalityCi, originalityOf } from './report.js';
 
 /** How many worst windows a review shows when not told otherwise. */
@@ -37,10 +38,13 @@ export interface ExcerptPair<N extends Note = Note> {
   /** Which of the scored queries the window belongs to. */
   queryIndex: number;
   window: MatchedWindow;
-  /** The query's (or session's) notes with ontime in the window, at their own onsets. */
+  /** The query's (or session's) notes with onset in the window, at their own onsets. */
   query: MarkedNote<N>[];
-  /** The piece's notes with ontime in the matched excerpt, at their own onsets in the piece. */
+  /** The piece's notes with onset in the matched excerpt, at their own onsets in the piece. */
   corpus: MarkedNote<Note>[];
+  /** The bars each side counts in: the query's (or session's) metre and the piece's. */
+  queryMeter: TimeSignature[];
+  pieceMeter: TimeSignature[];
 }
 
 /** A window that found a match in the corpus. */
@@ -129,6 +133,8 @@ export interface Scored<N extends Note> {
   /** The notes the windows were scored from (spelled, for morphetic pitch). */
   notes: readonly N[];
   windows: readonly WindowResult[];
+  /** Its time signatures; absent counts as 4/4. */
+  meter?: Meter;
 }
 
 /**
@@ -144,7 +150,8 @@ export function worstPairs<N extends Note>(queries: readonly Scored<N>[], corpus
   return picked.map(({ queryIndex, window }, i) => {
     const piece = corpus.pieces.find((p) => p.path === window.match.piece);
     if (!piece) throw new RangeError(`window at beat ${window.start} matched "${window.match.piece}", which is not in the corpus it was scored against`);
-    return { rank: i + 1, queryIndex, window, ...excerptPair(queries[queryIndex].notes, window, piece, corpus.mode, tolerance) };
+    const meters = { queryMeter: normalMeter(queries[queryIndex].meter ?? []), pieceMeter: normalMeter(piece.meter ?? []) };
+    return { rank: i + 1, queryIndex, window, ...meters, ...excerptPair(queries[queryIndex].notes, window, piece, corpus.mode, tolerance) };
   });
 }
 

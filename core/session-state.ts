@@ -42,7 +42,9 @@ export type InputCommand =
   | { kind: 'start' }
   | { kind: 'continue' }
   | { kind: 'stop' }
-  | { kind: 'position'; value: number };
+  | { kind: 'position'; value: number }
+  /** The session's time signature, for the bars and beats of its positions (core/bars.ts). */
+  | { kind: 'meter'; numerator: number; denominator: number };
 
 /** A played note as the scorer takes it and the `note` event shows it. */
 export interface SessionNote {
@@ -66,6 +68,9 @@ export interface VerdictMatch {
   title: string;
   transposition: number;
   pieceStart: number;
+  /** pieceStart as bar and beat in the piece's metre (core/bars.ts); null before the piece begins. */
+  pieceBar?: number | null;
+  pieceBeatInBar?: number | null;
   distinctiveness?: number;
 }
 
@@ -103,6 +108,9 @@ export interface Warning {
   score: number;
   transposition: number;
   pieceStart: number;
+  /** pieceStart as bar and beat in the piece's metre, when known; null before the piece begins. */
+  pieceBar?: number | null;
+  pieceBeatInBar?: number | null;
   /** Where the window warned about starts, in the session's beats. */
   startBeat: number;
   /** Of the match warned about, as in the score event. */
@@ -139,6 +147,8 @@ export type SessionEffect =
   /** Empty the scorer's window: a new passage. */
   | { type: 'reset-scorer' }
   | { type: 'raise'; warning: Warning }
+  /** The session's time signature is now this: keep it with the session. */
+  | { type: 'meter'; numerator: number; denominator: number }
   /** The standing warning clears; `seq` is the verdict's, or the latest note's on a reset. */
   | { type: 'clear'; warning: Warning; seq: number; time: number };
 
@@ -197,7 +207,7 @@ function act(step: Step, actions: PolicyAction[], verdict: Verdict | null, time:
       step.effects.push({ type: 'raise', warning });
     } else if (a.type === 'raise' && verdict?.match) {
       const m = verdict.match;
-      const warning: Warning = { seq: verdict.seq, time, piece: m.piece, title: m.title, score: verdict.score, transposition: m.transposition, pieceStart: m.pieceStart, startBeat: verdict.windowStart, distinctiveness: m.distinctiveness };
+      const warning: Warning = { seq: verdict.seq, time, piece: m.piece, title: m.title, score: verdict.score, transposition: m.transposition, pieceStart: m.pieceStart, ...(m.pieceBar === undefined ? {} : { pieceBar: m.pieceBar, pieceBeatInBar: m.pieceBeatInBar ?? null }), startBeat: verdict.windowStart, distinctiveness: m.distinctiveness };
       step.state = { ...step.state, standing: warning, warnings: step.state.warnings + 1 };
       step.effects.push({ type: 'raise', warning });
     }
@@ -249,6 +259,8 @@ function input(step: Step, c: InputCommand, atMs: number, now: number): void {
       return setClock(midiStop(clock, atMs));
     case 'position':
       return setClock(songPosition(clock, c.value, atMs));
+    case 'meter':
+      return void step.effects.push({ type: 'meter', numerator: c.numerator, denominator: c.denominator });
   }
 }
 

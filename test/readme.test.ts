@@ -132,6 +132,7 @@ describe('the README', () => {
           '/ew/tempo': (h) => h.clock.bpm === Number(line.split(/\s+/)[5]),
           '/ew/beat': (h) => h.clock.beat < 1,
           '/ew/reset': () => true,
+          '/ew/meter': (h) => h.meter === `${line.split(/\s+/)[5]}/${line.split(/\s+/)[6]}`,
         };
         expect(Object.keys(expectations)).toContain(address);
         const after = await eventually(() => health(running!.http), expectations[address]);

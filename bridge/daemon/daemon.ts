@@ -47,6 +47,8 @@ export interface DaemonOptions {
   token?: string | null;
   oscOut: OscTarget | null;
   midi: { input: string | null; thru: string | null; channels: ReadonlySet<number> | null };
+  /** Hear channel 10 (General MIDI percussion) as pitches; left out when absent, as in corpus files. */
+  percussion?: boolean;
   log: string;
   /** An in-process port in place of easymidi's (tests). */
   midiSource?: MidiSource;
@@ -75,6 +77,10 @@ export interface Daemon {
   onEvent(listener: (e: DaemonEvent) => void): void;
   stop(): Promise<void>;
 }
+
+/** General MIDI's percussion channel: drum sounds, not pitches. */
+export const PERCUSSION_CHANNEL = 10;
+const isPercussion = (c: InputCommand): boolean => (c.kind === 'note' || c.kind === 'on' || c.kind === 'off') && c.channel === PERCUSSION_CHANNEL;
 
 /** Score, warning and clear events a (re)connecting page gets in its hello. */
 export const HISTORY_EVENTS = 240;
@@ -125,6 +131,8 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
   };
 
   let state = initialSession(preset.bpm, Date.now());
+  /** The session's time signature: the preset's until /ew/meter says otherwise. */
+  let meter = preset.meter;
   let session = 0;
   /** The session log's row of the standing warning, to mark it cleared. */
   let standingRow = -1;
@@ -161,6 +169,9 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
         oscOut?.warning(w.piece, w.score, w.transposition);
         return;
       }
+      case 'meter':
+        meter = `${e.numerator}/${e.denominator}`;
+        return logged(() => log.setMeter(session, meter));
       case 'clear': {
         const row = standingRow;
         logged(() => log.clearWarning(row, e.time));
@@ -179,10 +190,11 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     const m = v.match;
     push({
       type: 'score', seq: v.seq, time, score: v.score,
-      piece: m?.piece ?? null, title: m?.title ?? null, pieceStart: m?.pieceStart ?? null, transposition: m?.transposition ?? null,
+      piece: m?.piece ?? null, title: m?.title ?? null, pieceStart: m?.pieceStart ?? null, pieceBar: m?.pieceBar ?? null, pieceBeatInBar: m?.pieceBeatInBar ?? null, transposition: m?.transposition ?? null,
       timeShift: v.timeShift, matched: m?.matched ?? 0, windowNotes: v.windowNotes, windowStart: v.windowStart, windowEnd: v.windowEnd, excerpt: v.excerpt, distinctiveness: m?.distinctiveness ?? null,
       stretch: stretchOf(v),
     });
+    logged(() => log.addScore(session, { seq: v.seq, time, score: v.score, windowStart: v.windowStart, windowNotes: v.windowNotes, piece: m?.piece ?? null, transposition: m?.transposition ?? null, pieceStart: m?.pieceStart ?? null, matched: m?.matched ?? 0 }));
     oscOut?.score(v.score);
     if (current) dispatch({ type: 'verdict', verdict: v, time });
   };
@@ -203,7 +215,10 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
   const indexWatch = watchIndexFile(corpus, notice);
   cleanup.push(() => indexWatch.close());
 
-  const handle = (command: InputCommand, atMs: number): void => dispatch({ type: 'input', command, atMs, now: Date.now() });
+  const handle = (command: InputCommand, atMs: number): void => {
+    if (isPercussion(command) && !options.percussion) return;
+    dispatch({ type: 'input', command, atMs, now: Date.now() });
+  };
 
   let midi: MidiStatus = { available: false, detail: 'not opened: the preset listens to OSC only' };
   let osc: OscInput | null = null;
@@ -269,6 +284,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     clients: web?.clients() ?? 0,
     slowClients: web?.slowClients() ?? 0,
     oscOutFailures: oscOut?.failures() ?? 0,
+    meter,
     clock: { source: state.clock.source, running: state.clock.running, beat: beatAt(state.clock, Date.now()), bpm: state.clock.bpm },
     corpus,
     corpusIndex: indexWatch.file === null ? null : { file: indexWatch.file, onDisk: indexWatch.onDisk() },
@@ -286,7 +302,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
   const server = web;
   cleanup.push(() => server.close());
 
-  session = log.startSession({ corpus: corpus.source, preset: preset.name, settings: { ...preset, osc: osc?.port ?? null, http: server.port, midi: midi.detail } });
+  session = log.startSession({ corpus: corpus.source, preset: preset.name, settings: { ...preset, liveScores: true, osc: osc?.port ?? null, http: server.port, midi: midi.detail } });
 
   let stopping: Promise<void> | null = null;
   return {

@@ -31,6 +31,7 @@ import { excerptPair, snapOnsets } from '../../core/review.js';
 import { type StretchMatch, type StretchRule, hotStretch, nearestStretch, thresholdOf } from '../../core/stretch.js';
 import type { StretchSummary } from '../../core/session-state.js';
 import type { WindowMatch } from '../../core/match.js';
+import { barFields } from '../../core/bars.js';
 import type { ExcerptNote, NoteEvent } from '../../contract/events.js';
 
 /** A played note as the scorer gets it (the `note` event's fields): seq numbers start at 1 each session. */
@@ -42,6 +43,9 @@ export interface LiveMatch {
   title: string;
   pieceIndex: number;
   pieceStart: number;
+  /** pieceStart as bar and beat in the piece's metre (core/bars.ts); null before the piece begins. */
+  pieceBar: number | null;
+  pieceBeatInBar: number | null;
   transposition: number;
   matched: number;
   excerptNotes: number;
@@ -112,7 +116,8 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
   const early = options.early && options.early.lengths.length ? options.early : null;
   const matchOf = (m: WindowMatch): Omit<LiveMatch, 'distinctiveness'> => {
     const piece = corpus.pieces[m.piece];
-    return { piece: piece.path, title: pieceName(piece), pieceIndex: m.piece, pieceStart: m.pieceStart, transposition: m.transposition, matched: m.matched, excerptNotes: m.excerptNotes };
+    const at = barFields(piece.meter ?? [], m.pieceStart);
+    return { piece: piece.path, title: pieceName(piece), pieceIndex: m.piece, pieceStart: m.pieceStart, pieceBar: at.bar, pieceBeatInBar: at.beatInBar, transposition: m.transposition, matched: m.matched, excerptNotes: m.excerptNotes };
   };
   const judged = (rule: StretchRule, points: ReturnType<typeof toPoints>, startGrains: number): LiveStretch | null => {
     const stretches = live.stretches({ points, startGrains }, rule.lengths);
@@ -151,8 +156,8 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
       if (!m || m.matched === 0) return { ...base, score: 0, match: null, timeShift: null, excerpt: null };
       const piece = corpus.pieces[m.piece];
       const match: LiveMatch = { ...matchOf(m), distinctiveness: m.distinctiveness! };
-      const summary = { ...match, score: m.score };
-      const { corpus: excerpt } = excerptPair(notes, { start: windowStart, end: windowEnd, notes: points.length, score: m.score, tooShort: false, match: summary }, piece, 'chromatic', options.tolerance ?? 0);
+      const summary = { ...match, bar: match.pieceBar, beatInBar: match.pieceBeatInBar, score: m.score };
+      const { corpus: excerpt } = excerptPair(notes, { start: windowStart, end: windowEnd, bar: null, beatInBar: null, notes: points.length, score: m.score, tooShort: false, match: summary }, piece, 'chromatic', options.tolerance ?? 0);
       return {
         ...base,
         score: m.score,

@@ -61,6 +61,13 @@ const ADDRESSES: Record<string, { params: Param[]; build: (v: (number | undefine
   '/ew/tempo': { params: [{ name: 'bpm', whole: false, check: isTempo, bad: 'tempo', allowed: `not a tempo from ${MIN_BPM} to ${MAX_BPM} BPM` }], build: ([bpm]) => ({ kind: 'tempo', bpm: bpm! }) },
   '/ew/beat': { params: [beat('position', false)], build: ([b]) => ({ kind: 'beat', beat: b! }) },
   '/ew/reset': { params: [], build: () => ({ kind: 'reset' }) },
+  '/ew/meter': {
+    params: [
+      { name: 'numerator', whole: true, check: (n) => n >= 1 && n <= 64, bad: 'meter', allowed: 'not a count of beats from 1 to 64' },
+      { name: 'denominator', whole: true, check: (n) => n >= 1 && n <= 64 && (n & (n - 1)) === 0, bad: 'meter', allowed: 'not a note value 1, 2, 4, 8, 16, 32 or 64' },
+    ],
+    build: ([n, d]) => ({ kind: 'meter', numerator: n!, denominator: d! }),
+  },
 };
 
 export const OSC_ADDRESSES = Object.keys(ADDRESSES);

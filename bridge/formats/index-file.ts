@@ -116,6 +116,10 @@ const metaSchema = z.object({
       title: z.string().nullable().describe('a title, or null'),
       beats: z.number().min(0).describe('a length in beats'),
       key: z.object({ tonic: z.string(), mode: z.enum(['major', 'minor']), fifths: z.number().int(), correlation: z.number() }),
+      /** Time signatures; an index written without them reads as 4/4. */
+      meter: z
+        .array(z.object({ beat: z.number().min(0).describe('a beat ≥ 0'), numerator: z.number().int().min(1).describe('a whole number ≥ 1'), denominator: z.number().int().min(1).describe('a whole number ≥ 1') }))
+        .optional(),
     }),
   ),
   files: z.array(fileFingerprintSchema),

@@ -4,7 +4,8 @@
  * Any resolution, formats 0 and 1, every track. Onsets and durations are
  * converted from ticks to beats; the tempo map is kept for seconds ↔ beats.
  * Channel 10 (General MIDI percussion: drum sounds, not pitches) is left out
- * unless asked for. A key signature meta event, when present, decides the
+ * unless asked for. Time signatures give the bars and beats positions are
+ * shown in (core/bars.ts). A key signature meta event, when present, decides the
  * spelling; otherwise the key is estimated from the notes.
  *
  * Damaged or hostile bytes are refused before the parser underneath sees
@@ -21,6 +22,7 @@ import type { Note } from '../../core/note.js';
 import { type Key, estimateKey, fifthsOfName, keyFromSignature, spellNotes } from '../../core/spelling.js';
 import { type TempoMap, tempoMap } from '../../core/tempo.js';
 import { notesLength } from '../../core/corpus.js';
+import { type TimeSignature, normalMeter } from '../../core/bars.js';
 
 const { Midi } = tonejs;
 
@@ -38,6 +40,8 @@ export interface MidiPiece {
   /** True when the key came from a key signature in the file. */
   keyFromFile: boolean;
   tempo: TempoMap;
+  /** Time signatures (SMF 1.0 meta event 0xFF 0x58) at their beats; 4/4 from the start when the file has none. */
+  meter: TimeSignature[];
   ppq: number;
   beats: number;
 }
@@ -182,6 +186,7 @@ export function parseMidi(bytes: Uint8Array, file: string, options: MidiReadOpti
     key,
     keyFromFile: fromFile,
     tempo: tempoMap(midi.header.tempos.map((t) => ({ beat: t.ticks / ppq, bpm: t.bpm }))),
+    meter: normalMeter(midi.header.timeSignatures.map((t) => ({ beat: t.ticks / ppq, numerator: t.timeSignature[0], denominator: t.timeSignature[1] }))),
     ppq,
     beats: notesLength(raw),
   };

@@ -14,6 +14,8 @@
 import { existsSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { z } from 'zod';
+import { parseSignature } from '../../core/bars.js';
+import { parseGrid } from '../../core/words.js';
 import { MAX_BPM, MIN_BPM } from '../../core/clock.js';
 import { packageRoot } from './package-root.js';
 import type { Baseline } from '../../core/report.js';
@@ -50,7 +52,7 @@ const ALLOWED = {
   consecutive: 'a whole number from 1 to 100',
   hysteresis: 'a number from 0 to 1',
   warn: 'true or false',
-  grid: `a whole number of divisions per beat that divides 3840, from 0 (off) to ${MAX_GRID}`,
+  grid: `a note value such as "1/16", "1/16T" or "1/32", or a whole number of divisions per beat that divides 3840, from 0 (off) to ${MAX_GRID}`,
   tolerance: 'a number of beats from 0 (exact) up to, not including, 1',
   tempoFree: 'true (also find passages played at 0.5–2 times the corpus tempo) or false',
   minDistinctiveness: 'a number from 0 (warn however common the matched material) to 1 (only material found in one corpus place)',
@@ -58,6 +60,7 @@ const ALLOWED = {
   earlyThreshold: 'the score a stretch must reach: a number from 0 to 1, a list of them, one per length of earlyBeats, or "auto" (each length\'s p99 window score in the human baseline "earwitness corpus build DIR --baseline" stores, plus 0.05)',
   earlyMinNotes: 'a whole number of at least 1',
   earlyMinDistinctiveness: 'a number from 0 to 1',
+  meter: 'a time signature such as "4/4", "3/4" or "6/8"',
 } as const;
 
 export type PresetField = keyof typeof ALLOWED;
@@ -80,6 +83,7 @@ export const FLAG_OF: Record<Exclude<PresetField, 'name' | 'description'>, strin
   earlyThreshold: '--early-threshold',
   earlyMinNotes: '--early-min-notes',
   earlyMinDistinctiveness: '--early-min-distinctiveness',
+  meter: '--meter',
 };
 
 /** A stretch length without a stored baseline, under "auto", must score this: most of a stretch played as the corpus has it. */
@@ -105,7 +109,7 @@ export const presetSchema = z
     hysteresis: unit.describe(ALLOWED.hysteresis),
     warn: z.boolean().describe(ALLOWED.warn),
     /** Onsets snap to 1/grid beat before scoring (0 = as played), so clock jitter does not break exact matching. */
-    grid: z.number().int().min(0).max(MAX_GRID).refine((g) => g === 0 || 3840 % g === 0).describe(ALLOWED.grid),
+    grid: z.preprocess((g) => (typeof g === 'string' ? parseGrid(g) ?? g : g), z.number().int().min(0).max(MAX_GRID).refine((g) => g === 0 || 3840 % g === 0)).describe(ALLOWED.grid),
     /** Played timing a match allows, beats (test/bench/RESULTS.md says how the default was measured). */
     tolerance: z.number().min(0).lt(1).default(LIVE_TOLERANCE).describe(ALLOWED.tolerance),
     /** Also match passages played at another tempo (fingerprint candidates; costs a little more per scoring pass). */
@@ -120,6 +124,8 @@ export const presetSchema = z
     earlyThreshold: z.preprocess(beatsList, z.union([unit, z.array(unit).min(1).max(16), z.literal('auto')])).default('auto').describe(ALLOWED.earlyThreshold),
     earlyMinNotes: z.number().int().min(1).default(6).describe(ALLOWED.earlyMinNotes),
     earlyMinDistinctiveness: unit.default(0.5).describe(ALLOWED.earlyMinDistinctiveness),
+    /** The session's time signature, for its bars and beats (optional; 4/4 when left out). */
+    meter: z.string().refine((m) => parseSignature(m) !== null).default('4/4').describe(ALLOWED.meter),
   })
   .strict();
 

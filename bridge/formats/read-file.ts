@@ -57,7 +57,7 @@ export function readScoreFile(file: string, options: ScoreReadOptions = {}): Sco
   const format = formatOf(file);
   if (format === 'midi' || format === null) {
     const m = readMidi(file, options);
-    return { pieces: [{ id: null, title: m.title, notes: m.notes, key: m.key, beats: m.beats, meters: [] }], skipped: [] };
+    return { pieces: [{ id: null, title: m.title, notes: m.notes, key: m.key, beats: m.beats, meters: [...m.meter] }], skipped: [] };
   }
   const bytes = readBytes(file, options.maxBytes ?? MAX_MIDI_BYTES);
   if (format === 'abc') return parseAbc(new TextDecoder('utf-8').decode(bytes), file, options);

@@ -14,16 +14,14 @@
  */
 import { type Note, GRAINS_PER_BEAT } from '../../core/note.js';
 import type { Key } from '../../core/spelling.js';
+import type { TimeSignature } from '../../core/bars.js';
+
+export type { TimeSignature };
 
 /** Most notes one score or tune may come to with its repeats written out. */
 export const MAX_SCORE_NOTES = 4_000_000;
 
 /** A time signature from the file, from `beat` (quarter notes from the start) on. */
-export interface TimeSignature {
-  beat: number;
-  numerator: number;
-  denominator: number;
-}
 
 export interface ScorePiece {
   /** The piece's id within its file (an ABC tune's X: number), or null for a file of one piece. */

@@ -1,5 +1,5 @@
 /**
- * The session log: every note and every warning of a live session, in
+ * The session log: every note, every live score and every warning of a live session, in
  * SQLite (WAL mode), written as it happens so a killed daemon loses at most
  * what was in flight. Opening a log checks it is ours and of a version we
  * read; anything else is a clear error, and the file is left untouched.
@@ -11,6 +11,7 @@ import { z } from 'zod';
 import { GRAINS_PER_BEAT, PITCH_MODES, type PitchMode } from '../../core/note.js';
 import type { WarnedMatch } from '../../contract/events.js';
 import type { StretchSummary } from '../../core/session-state.js';
+import { parseSignature } from '../../core/bars.js';
 
 export const LOG_SCHEMA_VERSION = 1;
 const APPLICATION_ID = 0x45574c47; // "EWLG": marks the file as an earwitness log
@@ -49,10 +50,24 @@ CREATE TABLE IF NOT EXISTS warnings (
   cleared_at REAL,
   stretch TEXT
 );
+CREATE TABLE IF NOT EXISTS scores (
+  session_id INTEGER NOT NULL REFERENCES sessions(id),
+  seq INTEGER NOT NULL,
+  time REAL NOT NULL,
+  score REAL NOT NULL,
+  window_start REAL NOT NULL,
+  window_notes INTEGER NOT NULL,
+  piece TEXT,
+  transposition INTEGER,
+  piece_start REAL,
+  matched INTEGER NOT NULL
+);
 `;
 
 /** Added to the warnings table of format 1 since: the recent stretch that raised a warning, as JSON (null for the whole window). A log without it gets it when opened to write. */
 const STRETCH_COLUMN = 'stretch';
+/** Logs written before live scores were kept lack the scores table; it is added when such a log is next written to. */
+const SCORES_TABLE = 'scores';
 
 /**
  * The session's settings as stored (JSON in sessions.settings): the daemon
@@ -70,6 +85,9 @@ export const sessionSettingsSchema = z
     tolerance: z.number().min(0).lt(1).describe('a number of beats from 0 up to, not including, 1'),
     tempoFree: z.boolean().describe('true or false'),
     grid: z.number().int().min(0).refine((g) => g === 0 || GRAINS_PER_BEAT % g === 0).describe(`a whole number of divisions per beat that divides ${GRAINS_PER_BEAT}, or 0`),
+    meter: z.string().refine((m) => parseSignature(m) !== null).describe('a time signature such as "4/4" or "6/8"'),
+    /** True when the daemon kept every live score in the scores table. */
+    liveScores: z.boolean().describe('true or false'),
   })
   .partial();
 
@@ -106,6 +124,25 @@ export const loggedNoteSchema = z.object({
 });
 export type LoggedNote = z.infer<typeof loggedNoteSchema>;
 
+/**
+ * One live scoring pass as the log keeps it, compactly: what the performer
+ * saw on the meter (seq of the last note it included, the score, the window,
+ * and the match: piece, transposition, where in the piece; null when nothing
+ * matched). Fields in the order they are checked.
+ */
+export const loggedScoreSchema = z.object({
+  seq: z.number().int().min(0).describe('a whole number ≥ 0'),
+  time: z.number().describe('a time in ms since the epoch'),
+  score: z.number().min(0).max(1).describe('a score from 0 to 1'),
+  windowStart: z.number().min(0).describe('a beat ≥ 0'),
+  windowNotes: z.number().int().min(0).describe('a whole number ≥ 0'),
+  piece: z.string().nullable().describe('a corpus path, or null'),
+  transposition: z.number().int().nullable().describe('a whole number, or null'),
+  pieceStart: z.number().nullable().describe('a beat, or null'),
+  matched: z.number().int().min(0).describe('a whole number ≥ 0'),
+});
+export type LoggedScore = z.infer<typeof loggedScoreSchema>;
+
 export interface LoggedWarning extends WarnedMatch {
   id: number;
   /** Sequence number of the last note in the warned window. */
@@ -128,6 +165,7 @@ export class SessionLog {
   private readonly db: Database.Database;
   private readonly insertNote: Database.Statement;
   private readonly insertWarning: Database.Statement;
+  private readonly insertScore: Database.Statement | null;
 
   private constructor(readonly file: string, db: Database.Database) {
     this.db = db;
@@ -137,6 +175,14 @@ export class SessionLog {
     this.insertWarning = db.prepare(
       'INSERT INTO warnings (session_id, seq, raised_at, piece, title, score, transposition, piece_start, start_beat, stretch) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)',
     );
+    this.insertScore = this.hasScores()
+      ? db.prepare('INSERT INTO scores (session_id, seq, time, score, window_start, window_notes, piece, transposition, piece_start, matched) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)')
+      : null;
+  }
+
+  /** Whether the log keeps live scores (logs written before they were kept do not). */
+  private hasScores(): boolean {
+    return (this.db.prepare("SELECT count(*) AS n FROM sqlite_master WHERE type = 'table' AND name = ?").get(SCORES_TABLE) as { n: number }).n > 0;
   }
 
   /** Opens (creating when absent) a log. `readonly` never creates or changes anything. */
@@ -163,6 +209,7 @@ export class SessionLog {
         throw new Error(`session log format ${version}, this earwitness reads format ${LOG_SCHEMA_VERSION}`);
       }
       if (!options.readonly) {
+        db.exec(SCHEMA); // every table IF NOT EXISTS: an older log gains the scores table
         const columns = db.prepare('SELECT name FROM pragma_table_info(\'warnings\')').all() as { name: string }[];
         if (!columns.some((c) => c.name === STRETCH_COLUMN)) db.exec(`ALTER TABLE warnings ADD COLUMN ${STRETCH_COLUMN} TEXT`);
         db.pragma('journal_mode = WAL');
@@ -194,8 +241,30 @@ export class SessionLog {
     return Number(r.lastInsertRowid);
   }
 
+  addScore(session: number, s: LoggedScore): void {
+    this.insertScore?.run(session, s.seq, s.time, s.score, s.windowStart, s.windowNotes, s.piece, s.transposition, s.pieceStart, s.matched);
+  }
+
+  /**
+   * A session's live scores in the order they were made. A session the
+   * daemon logged them for says so in its settings (`liveScores: true`);
+   * one logged before they were kept has none.
+   */
+  scores(session: number): LoggedScore[] {
+    if (!this.hasScores()) return [];
+    return (this.db.prepare('SELECT * FROM scores WHERE session_id = ? ORDER BY rowid').all(session) as Record<string, never>[]).map((r) => ({
+      seq: r['seq'], time: r['time'], score: r['score'], windowStart: r['window_start'], windowNotes: r['window_notes'],
+      piece: r['piece'], transposition: r['transposition'], pieceStart: r['piece_start'], matched: r['matched'],
+    }));
+  }
+
   clearWarning(warning: number, at: number): void {
     this.db.prepare('UPDATE warnings SET cleared_at = ? WHERE id = ?').run(at, warning);
+  }
+
+  /** The session's time signature from now on, as `/ew/meter` says it: kept in its settings (`meter`). */
+  setMeter(session: number, meter: string): void {
+    this.db.prepare("UPDATE sessions SET settings = json_set(settings, '$.meter', ?) WHERE id = ?").run(meter, session);
   }
 
   endSession(session: number, endedAt = new Date()): void {
@@ -215,7 +284,7 @@ export class SessionLog {
   }
 
   /** A session by id, or the newest with `'latest'`; null when there is none. */
-  session(id: number | 'latest'): { summary: SessionSummary; notes: LoggedNote[]; warnings: LoggedWarning[] } | null {
+  session(id: number | 'latest'): { summary: SessionSummary; notes: LoggedNote[]; warnings: LoggedWarning[]; scores: LoggedScore[] } | null {
     const all = this.listSessions();
     const summary = id === 'latest' ? all[all.length - 1] : all.find((s) => s.id === id);
     if (!summary) return null;
@@ -227,7 +296,7 @@ export class SessionLog {
       transposition: r['transposition'], pieceStart: r['piece_start'], startBeat: r['start_beat'], clearedAt: r['cleared_at'],
       ...(r['stretch'] ? { stretch: loggedStretch(r['stretch']) } : {}),
     }));
-    return { summary, notes, warnings };
+    return { summary, notes, warnings, scores: this.scores(summary.id) };
   }
 
   close(): void {

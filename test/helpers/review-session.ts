@@ -3,7 +3,9 @@
  * invented pieces written as MIDI by the hand-laid SMF writer of
  * test/helpers/smf.mjs (not by the writer under test), and a session log
  * written with SessionLog, whose first session quotes one piece transposed
- * and whose second holds no notes.
+ * (logged as an older daemon did, without live scores), whose second keeps
+ * every live score and warns about a quote that falls between the review's
+ * fixed windows, and whose third (the latest) holds no notes.
  *
  * @example
  *   const w = reviewWorld();
@@ -57,6 +59,8 @@ export const PIECES = [
 /** Session 1 plays beats 8–24 of this piece, 3 semitones higher, at beats 16–32. */
 export const QUOTE = { piece: 1, from: 8, to: 24, at: 16, transposition: 3 };
 export const SETTINGS = { window: 16, hop: 8, threshold: 0.5, bpm: 100 };
+/** Session 2 plays beats 4–20 of this piece, 2 semitones lower, at beats 12–28: across the fixed windows 8–24 and 16–32, whole in neither. */
+export const BETWEEN = { piece: 0, from: 4, to: 20, at: 12, transposition: -2 };
 export const STARTED = new Date('2025-06-01T18:00:00.000Z');
 
 export interface ReviewWorld {
@@ -68,6 +72,10 @@ export interface ReviewWorld {
   /** The ids of the session with notes and of the empty one. */
   played: number;
   empty: number;
+  /** Session 2, with live scores: its id, its notes, and how many scoring passes it logged. */
+  heard: number;
+  heardNotes: LoggedNote[];
+  passes: number;
 }
 
 /** Free playing that will not line up with the corpus: random pitches on a triplet grid. */
@@ -76,6 +84,38 @@ function noodle(seed: number, from: number, to: number): Omit<Note, 'morph'>[] {
   const out: Omit<Note, 'morph'>[] = [];
   for (let b = from; b < to - 1e-9; b += 1 / 3) out.push({ onset: Math.round(b * 3) / 3, duration: 1 / 3, pitch: 40 + Math.floor(rand() * 50), velocity: 60, channel: 1 });
   return out;
+}
+
+/**
+ * Session 2 as the daemon logs it now: a scoring pass after every note
+ * (the window the last 16 beats up to it), scoring high while the window
+ * holds the quote, and one warning raised once the whole quote is in.
+ */
+function heardSession(db: SessionLog, corpus: string): { heard: number; heardNotes: LoggedNote[]; passes: number } {
+  const q = PIECES[BETWEEN.piece];
+  const quoted = q.notes
+    .filter((n) => n.onset >= BETWEEN.from && n.onset < BETWEEN.to)
+    .map((n) => ({ ...n, onset: n.onset - BETWEEN.from + BETWEEN.at, pitch: n.pitch + BETWEEN.transposition }));
+  const played = [...noodle(7, 0, 12), ...quoted, ...noodle(8, 28, 40)].sort((a, b) => a.onset - b.onset || a.pitch - b.pitch);
+  const beatMs = 60_000 / SETTINGS.bpm;
+  const start = STARTED.getTime() + 7_200_000;
+  const notes: LoggedNote[] = played.map((n, i) => ({ ...n, morph: n.pitch, seq: i + 1, receivedAt: start + n.onset * beatMs }));
+  const id = db.startSession({ corpus, preset: 'harbour', settings: { ...SETTINGS, liveScores: true } }, new Date(start));
+  for (const n of notes) db.addNote(id, n);
+  for (const n of notes) {
+    const windowStart = Math.max(0, n.onset - SETTINGS.window);
+    const inQuote = n.onset >= BETWEEN.at && n.onset < BETWEEN.at + 16;
+    const score = inQuote ? Math.min(1, (n.onset - BETWEEN.at + 1) / 16) : 0.1;
+    db.addScore(id, {
+      seq: n.seq, time: n.receivedAt, score, windowStart, windowNotes: notes.filter((m) => m.onset >= windowStart && m.onset <= n.onset).length,
+      piece: inQuote ? q.file : null, transposition: inQuote ? BETWEEN.transposition : null, pieceStart: inQuote ? BETWEEN.from - (BETWEEN.at - windowStart) : null, matched: inQuote ? 8 : 0,
+    });
+  }
+  const last = notes.filter((n) => n.onset < BETWEEN.at + 16).pop()!;
+  const w = db.addWarning(id, { seq: last.seq, raisedAt: last.receivedAt, piece: q.file, title: q.title, score: 0.97, transposition: BETWEEN.transposition, pieceStart: BETWEEN.from, startBeat: BETWEEN.at });
+  db.clearWarning(w, last.receivedAt + 5_000);
+  db.endSession(id, new Date(start + 40 * beatMs));
+  return { heard: id, heardNotes: notes, passes: notes.length };
 }
 
 export function reviewWorld(): ReviewWorld {
@@ -100,8 +140,9 @@ export function reviewWorld(): ReviewWorld {
   const w = db.addWarning(id, { seq: warned.seq, raisedAt: warned.receivedAt, piece: q.file, title: q.title, score: 0.94, transposition: QUOTE.transposition, pieceStart: QUOTE.from, startBeat: QUOTE.at });
   db.clearWarning(w, warned.receivedAt + 9_000);
   db.endSession(id, new Date(STARTED.getTime() + 48 * beatMs));
-  const empty = db.startSession({ corpus, preset: 'harbour', settings: SETTINGS }, new Date(STARTED.getTime() + 3_600_000));
-  db.endSession(empty, new Date(STARTED.getTime() + 3_660_000));
+  const heard = heardSession(db, corpus);
+  const empty = db.startSession({ corpus, preset: 'harbour', settings: SETTINGS }, new Date(STARTED.getTime() + 9_000_000));
+  db.endSession(empty, new Date(STARTED.getTime() + 9_060_000));
   db.close();
-  return { dir, corpus, log, notes, played: id, empty };
+  return { dir, corpus, log, notes, played: id, empty, ...heard };
 }

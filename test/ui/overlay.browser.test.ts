@@ -19,7 +19,8 @@ import { type FakeDaemon, fakeDaemon } from '../helpers/fake-daemon.js';
 const ARTIFACTS = join(ROOT, 'test', 'artifacts');
 
 // Okabe & Ito (2002), "Color Universal Design", as listed in shared/reference/check-values.md.
-const ORANGE = [0xe6, 0x9f, 0x00];
+/** The colour code's warning colour (core/colours.ts): Okabe–Ito vermillion. */
+const VERMILLION = [0xd5, 0x5e, 0x00];
 const YELLOW = [0xf0, 0xe4, 0x42];
 const PURPLE = [0xcc, 0x79, 0xa7];
 
@@ -50,7 +51,8 @@ function quotedPassage(time: number): { notes: NoteEvent[]; score: ScoreEvent; w
   const melody = inside.filter((n) => n.channel === 1);
   const notes = melody.map((n, i) => ({ type: 'note' as const, seq: i + 1, onset: n.onset - from + start, duration: n.duration, pitch: n.pitch + up, velocity: 90, channel: 1 }));
   const excerpt: ExcerptNote[] = inside.map((n) => ({ onset: n.onset, duration: n.duration, pitch: n.pitch, matched: n.channel === 1 }));
-  const common = { seq: notes.length, time, piece: buoy.file, title: buoy.title, transposition: up, pieceStart: from };
+  // The Ninth Buoy is in 6/8: beat 8 is bar 3 (bars of 3 quarter notes), 2 quarter notes in, beat 2.33 of its two dotted beats.
+  const common = { seq: notes.length, time, piece: buoy.file, title: buoy.title, transposition: up, pieceStart: from, pieceBar: 3, pieceBeatInBar: 7 / 3 };
   return {
     notes,
     score: { type: 'score', ...common, score: melody.length / inside.length, timeShift: start - from, matched: melody.length, windowNotes: notes.length, windowStart: start, windowEnd: start + 16, excerpt },
@@ -110,7 +112,7 @@ describe.skipIf(!hasChromium)(browserSuite('overlay in Chromium, served by the r
     await playOverOsc(daemon.osc, played);
     await expect.poll(() => page.getByRole('alert').textContent(), { timeout: 2000, intervals: [50] }).toContain('Close to: The Ninth Buoy');
     expect(Date.now() - sent).toBeLessThan(2000);
-    expect(await page.locator('#headline').innerText()).toMatch(/Close to:\s+The Ninth Buoy\s+100% · \+5 semitones · at beat 8/);
+    expect(await page.locator('#headline').innerText()).toMatch(/Close to:\s+The Ninth Buoy\s+warned at 100% · 5 semitones up · from bar 3, beat 2\.33/);
     // Every excerpt note is matched: solid frames in the roll, none dashed.
     await expect.poll(() => countColour(page, 'roll', YELLOW)).toBeGreaterThan(100);
 
@@ -188,7 +190,7 @@ describe.skipIf(!hasChromium)(browserSuite('overlay in Chromium, against a stand
     // Shape: the warning sign shows; size: the card grows; words: "Close to:" and the title.
     expect(await page.locator('.sign').isVisible()).toBe(true);
     expect((await page.locator('#headline').boundingBox())!.height).toBeGreaterThan(calm!.height);
-    expect(await page.locator('#headline').innerText()).toMatch(/Close to:\s+The Ninth Buoy\s+\d+% · \+5 semitones · at beat 8/);
+    expect(await page.locator('#headline').innerText()).toMatch(/Close to:\s+The Ninth Buoy\s+warned at \d+% · 5 semitones up · from bar 3, beat 2\.33/);
     expect(await page.locator('#meter').getAttribute('aria-valuetext')).toMatch(/^\d+%; warns at 75%$/);
     // Matched excerpt notes get a solid yellow frame; the accompaniment, unmatched, a dashed purple one.
     await expect.poll(() => countColour(page, 'roll', YELLOW)).toBeGreaterThan(50);
@@ -242,7 +244,7 @@ describe.skipIf(!hasChromium)(browserSuite('overlay in Chromium, against a stand
     daemon.hello(hello());
     const { page } = await open(400, 300);
     await expect.poll(() => page.locator('[role=status]').textContent()).toBe('waiting for input');
-    expect(await countColour(page, 'timeline', ORANGE)).toBe(0);
+    expect(await countColour(page, 'timeline', VERMILLION)).toBe(0);
     await daemon.stop();
     await expect.poll(() => page.locator('[role=status]').textContent(), { timeout: 2000 }).toBe('disconnected — retrying');
     // Let a few attempts fail so the backoff reaches its cap, then come back.
@@ -254,7 +256,7 @@ describe.skipIf(!hasChromium)(browserSuite('overlay in Chromium, against a stand
     await expect.poll(() => page.locator('[role=status]').textContent(), { timeout: 8000 }).toBe('listening');
     expect(await page.locator('#headline').innerText()).toContain('Close to:');
     // The warning's triangle and band, drawn from the history alone.
-    await expect.poll(() => countColour(page, 'timeline', ORANGE)).toBeGreaterThan(10);
+    await expect.poll(() => countColour(page, 'timeline', VERMILLION)).toBeGreaterThan(10);
     await page.close();
   });
 });

@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import type { ClearEvent, DaemonEvent, HelloEvent, NoteEvent, ScoreEvent, WarningEvent } from '../../contract/events.js';
 import { eventsUrl, parseEvent, retryDelay, MAX_RETRY_MS } from '../../ui/src/connection.js';
 import { headlineWords } from '../../ui/src/headline.js';
-import { type Action, type ViewState, MAX_NOTES, TIMELINE_MS, initialState, reduce, roll, status, transpositionWords } from '../../ui/src/state.js';
+import { type Action, type ViewState, MAX_NOTES, TIMELINE_MS, initialState, reduce, roll, status } from '../../ui/src/state.js';
 
 const T0 = 1_700_000_000_000;
 
@@ -139,22 +139,24 @@ describe('overlay view state', () => {
 
   it('names the nearest piece, transposition and place, or says nothing matched', () => {
     const s = run(ev(hello()), ev(score(T0, 0.42, { transposition: -2, pieceStart: 12.5 })));
-    expect(headlineWords(s)).toEqual({ lead: 'Nearest:', title: 'The Ninth Buoy', where: '42% · −2 semitones · at beat 12.50' });
+    // No bar fields in the event: the piece counts in 4/4, so beat 12.5 is bar 4, beat 1.5.
+    expect(headlineWords(s)).toEqual({ lead: 'Nearest:', title: 'The Ninth Buoy', where: '42% now · 2 semitones down · from bar 4, beat 1.5' });
+    const placed = run(ev(hello()), ev(score(T0, 0.42, { transposition: 0, pieceStart: 9, pieceBar: 4, pieceBeatInBar: 1 })));
+    expect(headlineWords(placed).where).toBe('42% now · same pitch · from bar 4, beat 1');
+    const before = run(ev(hello()), ev(score(T0, 0.42, { pieceStart: -2, pieceBar: null, pieceBeatInBar: null })));
+    expect(headlineWords(before).where).toBe('42% now · 5 semitones up · from 2 beats before the piece begins');
     const none = run(ev(hello()), ev(score(T0, 0, { piece: null, title: null, pieceStart: null, transposition: null, timeShift: null })));
-    expect(headlineWords(none)).toEqual({ lead: 'Nearest:', title: 'nothing in the corpus', where: '0%' });
+    expect(headlineWords(none)).toEqual({ lead: 'Nearest:', title: 'nothing in the corpus', where: '0% now' });
     const steps = run(ev(hello([], { preset: { ...hello().preset, pitch: 'morphetic' } })), ev(score(T0, 0.5, { transposition: 1 })));
-    expect(headlineWords(steps).where).toBe('50% · +1 step · at beat 8');
+    expect(headlineWords(steps).where).toBe('50% now · 1 scale step up · from bar 3, beat 1');
+  });
+
+  it('names both figures: the score a warning was raised at, apart from the meter\'s "now"', () => {
+    expect(headlineWords(run(ev(hello()), ev(warning(T0)))).where).toBe('warned at 86% · 5 semitones up · from bar 3, beat 1');
   });
 });
 
-describe('transposition words', () => {
-  it('signs the shift from the corpus to what was played and counts its unit', () => {
-    expect(transpositionWords(5)).toBe('+5 semitones');
-    expect(transpositionWords(-1)).toBe('−1 semitone');
-    expect(transpositionWords(0)).toBe('untransposed');
-    expect(transpositionWords(-3, 'morphetic')).toBe('−3 steps');
-  });
-});
+
 
 describe('overlay connection', () => {
   it('connects to /events on the page host, ws or wss as the page, passing ?token= on', () => {

@@ -6,9 +6,14 @@
  *
  * @example
  *   renderHeadline(elements, state);
- *   // warning standing → "Close to:" / "The Ninth Buoy" / "88% · +5 semitones · at beat 8"
+ *   // warning standing → "Close to:" / "The Ninth Buoy" / "warned at 88% · 5 semitones up · from bar 3, beat 1"
+ *
+ * Two figures can show at once: the meter's is the window just played
+ * ("now"), the card's under a warning is the score the warning was raised at
+ * ("warned at"); each says which it is.
  */
-import { type ViewState, beatWords, percent, status, transpositionWords } from './state.js';
+import { placedWords, transpositionWords } from '../../core/words.js';
+import { type ViewState, percent, status } from './state.js';
 
 export interface HeadlineElements {
   root: HTMLElement;
@@ -24,17 +29,25 @@ interface Words {
   where: string;
 }
 
-const whereWords = (score: number, transposition: number, pieceStart: number, s: ViewState): string =>
-  `${percent(score)} · ${transpositionWords(transposition, s.hello?.preset.pitch)} · at beat ${beatWords(pieceStart)}`;
+interface Placing {
+  transposition: number;
+  pieceStart: number;
+  pieceBar?: number | null;
+  pieceBeatInBar?: number | null;
+}
+
+/** "5 semitones up · from bar 3, beat 1": the match as the one vocabulary tells it (core/words.ts). */
+const matchWords = (m: Placing, s: ViewState): string =>
+  `${transpositionWords(m.transposition, s.hello?.preset.pitch)} · from ${placedWords({ bar: m.pieceBar ?? null, beatInBar: m.pieceBeatInBar ?? null }, m.pieceStart)}`;
 
 /** The three lines of the card for a state. */
 export function headlineWords(s: ViewState): Words {
   const w = s.warning;
-  if (w) return { lead: s.dismissed ? 'Dismissed — still close to:' : 'Close to:', title: w.title, where: whereWords(w.score, w.transposition, w.pieceStart, s) };
+  if (w) return { lead: s.dismissed ? 'Dismissed — still close to:' : 'Close to:', title: w.title, where: `warned at ${percent(w.score)} · ${matchWords(w, s)}` };
   const sc = s.score;
   if (!sc) return { lead: '', title: status(s).state === 'waiting' ? 'Play something; nothing heard yet.' : '—', where: '' };
-  if (sc.title === null || sc.transposition === null || sc.pieceStart === null) return { lead: 'Nearest:', title: 'nothing in the corpus', where: percent(sc.score) };
-  return { lead: 'Nearest:', title: sc.title, where: whereWords(sc.score, sc.transposition, sc.pieceStart, s) };
+  if (sc.title === null || sc.transposition === null || sc.pieceStart === null) return { lead: 'Nearest:', title: 'nothing in the corpus', where: `${percent(sc.score)} now` };
+  return { lead: 'Nearest:', title: sc.title, where: `${percent(sc.score)} now · ${matchWords({ ...sc, transposition: sc.transposition, pieceStart: sc.pieceStart }, s)}` };
 }
 
 export function renderHeadline(el: HeadlineElements, s: ViewState): void {

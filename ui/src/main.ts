@@ -12,7 +12,7 @@ import { surface } from './canvas.js';
 import { connect, eventsUrl } from './connection.js';
 import { type HeadlineElements, headlineWords, renderHeadline } from './headline.js';
 import { renderMeter } from './meter.js';
-import { PALETTE } from './palette.js';
+import { PALETTE, ROLE } from './palette.js';
 import { drawRoll } from './pianoroll.js';
 import { type Action, initialState, reduce, roll, status } from './state.js';
 import { drawTimeline } from './timeline.js';
@@ -23,7 +23,7 @@ function byId<T extends HTMLElement>(id: string): T {
   return el as T;
 }
 
-for (const [name, hex] of Object.entries(PALETTE)) document.documentElement.style.setProperty(`--${name}`, hex);
+for (const [name, hex] of [...Object.entries(PALETTE), ...Object.entries(ROLE)]) document.documentElement.style.setProperty(`--${name}`, hex);
 
 const page = {
   root: byId('overlay'),

@@ -5,7 +5,7 @@
  *
  * @example
  *   renderMeter(document.getElementById('meter')!, 0.62, 0.75, true);
- *   // bar at 62 %, notch at 75 % labelled "warns at 75%", "62%" written above it
+ *   // bar at 62 %, notch at 75 % labelled "warns at 75%", "62% now" written above it
  */
 import { percent } from './state.js';
 
@@ -16,7 +16,8 @@ export function renderMeter(meter: HTMLElement, score: number | null, threshold:
   const markLabel = meter.querySelector<HTMLElement>('.meter-mark-label')!;
   meter.style.setProperty('--score', String(score ?? 0));
   meter.classList.toggle('over', score !== null && threshold !== null && score >= threshold);
-  value.textContent = score === null ? '—' : percent(score);
+  // "now": the window just played, told apart from the score a standing warning was raised at (headline.ts).
+  value.textContent = score === null ? '—' : `${percent(score)} now`;
   meter.setAttribute('aria-valuenow', String(Math.round((score ?? 0) * 100)));
   const words = score === null ? 'no score yet' : percent(score);
   if (threshold === null) {

@@ -1,22 +1,18 @@
 /**
  * The overlay's colours: Okabe & Ito's (2002) colour-universal palette and
- * nothing else, so the page stays legible with the common colour-vision
- * deficiencies. Meaning never rests on colour alone; each role below is
- * also carried by a shape, a pattern or words.
+ * nothing else, each with the one meaning core/colours.ts gives it, as on
+ * the pages. Meaning never rests on colour alone; each role is also carried
+ * by a shape, a pattern or words.
  *
  * @example
- *   ctx.strokeStyle = PALETTE.sky;
+ *   ctx.strokeStyle = ROLE.live;
  */
-export const PALETTE = {
-  black: '#000000',
-  orange: '#E69F00',
-  sky: '#56B4E9',
-  green: '#009E73',
-  yellow: '#F0E442',
-  blue: '#0072B2',
-  vermillion: '#D55E00',
-  purple: '#CC79A7',
-} as const;
+import { COLOUR_CODE, OKABE_ITO } from '../../core/colours.js';
+
+export const PALETTE = OKABE_ITO;
+
+/** What each colour means (core/colours.ts): the overlay and the pages share it. */
+export const ROLE = COLOUR_CODE;
 
 export type Colour = keyof typeof PALETTE;
 

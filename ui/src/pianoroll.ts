@@ -10,7 +10,7 @@
  *   drawRoll(surface(canvas)!, roll(state)!);
  */
 import { type Surface, labelFont, labelPx } from './canvas.js';
-import { PALETTE, tint } from './palette.js';
+import { PALETTE, ROLE, tint } from './palette.js';
 import type { Roll } from './state.js';
 
 /** Fewest semitones shown, so a few notes are not drawn as huge slabs. */
@@ -78,12 +78,12 @@ export function drawRoll(s: Surface, r: Roll): void {
   for (const n of r.corpus) {
     const [nx, ny, nw] = [x(n.onset), y(n.pitch) + (row - h) / 2, Math.max(3, x(n.onset + n.duration) - x(n.onset) - 1)];
     if (n.matched) {
-      ctx.strokeStyle = PALETTE.yellow;
+      ctx.strokeStyle = ROLE.matched;
       ctx.lineWidth = 1.5;
       ctx.setLineDash([]);
       ctx.strokeRect(nx - 1.25, ny - 1.25, nw + 2.5, h + 2.5);
     } else {
-      ctx.strokeStyle = PALETTE.purple;
+      ctx.strokeStyle = ROLE.unmatched;
       ctx.lineWidth = 1;
       ctx.setLineDash([3, 2]);
       ctx.strokeRect(nx + 0.5, ny + 0.5, nw - 1, h - 1);

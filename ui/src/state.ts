@@ -142,16 +142,6 @@ export function status(s: ViewState): { state: 'connecting' | 'retrying' | 'wait
   return { state: 'listening', words: 'listening' };
 }
 
-/** "+5 semitones", "−2 steps", "untransposed": the shift from the corpus excerpt to what was played. */
-export function transpositionWords(t: number, pitch: 'chromatic' | 'morphetic' = 'chromatic'): string {
-  if (t === 0) return 'untransposed';
-  const unit = pitch === 'morphetic' ? 'step' : 'semitone';
-  return `${t > 0 ? '+' : '−'}${Math.abs(t)} ${unit}${Math.abs(t) === 1 ? '' : 's'}`;
-}
-
-/** A beat as the CLI's report prints it: whole beats plain, others to two places. */
-export const beatWords = (b: number): string => (Number.isInteger(b) ? `${b}` : b.toFixed(2));
-
 /** A score as a whole percentage. */
 export const percent = (score: number): string => `${Math.round(score * 100)}%`;
 

@@ -7,7 +7,7 @@
  *   drawTimeline(surface(canvas)!, { scores, spans, threshold: 0.75, now: Date.now() - state.clockOffset });
  */
 import { type Surface, labelFont, labelPx } from './canvas.js';
-import { PALETTE, tint } from './palette.js';
+import { PALETTE, ROLE, tint } from './palette.js';
 import { TIMELINE_MS, type TimelinePoint, type WarningSpan } from './state.js';
 
 export interface TimelineData {
@@ -56,10 +56,10 @@ export function drawTimeline(s: Surface, d: TimelineData): void {
     ctx.save();
     ctx.beginPath();
     ctx.rect(a, top, Math.max(2, b - a), bottom - top);
-    ctx.fillStyle = tint('orange', 0.18);
+    ctx.fillStyle = tint('vermillion', 0.18);
     ctx.fill();
     ctx.clip();
-    ctx.strokeStyle = tint('orange', 0.7);
+    ctx.strokeStyle = tint('vermillion', 0.7);
     for (let k = a - (bottom - top); k < b; k += 6) {
       ctx.beginPath();
       ctx.moveTo(k, bottom);
@@ -71,7 +71,7 @@ export function drawTimeline(s: Surface, d: TimelineData): void {
   }
 
   if (d.threshold !== null) {
-    ctx.strokeStyle = PALETTE.yellow;
+    ctx.strokeStyle = ROLE.threshold;
     ctx.setLineDash([5, 4]);
     ctx.lineWidth = 1.5;
     ctx.beginPath();
@@ -82,7 +82,7 @@ export function drawTimeline(s: Surface, d: TimelineData): void {
   }
 
   // The scores.
-  ctx.strokeStyle = PALETTE.sky;
+  ctx.strokeStyle = ROLE.live;
   ctx.lineWidth = 2;
   ctx.lineJoin = 'round';
   ctx.beginPath();
@@ -95,7 +95,7 @@ export function drawTimeline(s: Surface, d: TimelineData): void {
   }
   ctx.stroke();
   if (last) {
-    ctx.fillStyle = PALETTE.sky;
+    ctx.fillStyle = ROLE.live;
     ctx.beginPath();
     ctx.arc(x(last.time), y(last.score), 3, 0, 2 * Math.PI);
     ctx.fill();
@@ -109,7 +109,7 @@ function triangle(ctx: CanvasRenderingContext2D, x: number, y: number, size: num
   ctx.lineTo(x - size * 0.6, y - size);
   ctx.lineTo(x + size * 0.6, y - size);
   ctx.closePath();
-  ctx.fillStyle = PALETTE.orange;
+  ctx.fillStyle = ROLE.warning;
   ctx.strokeStyle = PALETTE.black;
   ctx.lineWidth = 1;
   ctx.fill();

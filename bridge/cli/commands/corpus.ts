@@ -21,7 +21,7 @@ import { type FlatNotes, joinNotes, notePoints } from '../../../core/flat-notes.
 import { CORPUS_TRIPLES, buildTriples } from '../../../core/triple-index.js';
 import { FINGERPRINT_SHAPE, buildFingerprints } from '../../../core/fingerprint.js';
 import { EXACT_MODE } from '../../../core/pipeline.js';
-import { findScoreFiles } from '../../corpus/corpus-files.js';
+import { walkCorpus } from '../../corpus/corpus-files.js';
 import { type ScoreFormat, FORMAT_NAMES, SCORE_FORMATS, formatOf } from '../../formats/read-file.js';
 import { type FileFingerprint, type IndexContents, type PieceInfo, INDEX_NAME, IndexFileError, readIndexFile, writeIndexFile } from '../../formats/index-file.js';
 import { type ParseTask, type ParsedFile, fileHash } from '../../corpus/build-worker.js';
@@ -163,7 +163,8 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
   const oldPieces = piecesByFile(reusable);
 
   type Slot = { path: string; size: number; mtimeMs: number; reuse: FileFingerprint | null };
-  const slots: Slot[] = findScoreFiles(dir).map((file) => {
+  const walked = walkCorpus(dir);
+  const slots: Slot[] = walked.files.map((file) => {
     const path = portable(relative(dir, file));
     const { size, mtimeMs } = statSync(file);
     const was = oldFiles.get(path);
@@ -178,7 +179,7 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
   const pieces: PieceInfo[] = [];
   const parts: { notes: FlatNotes; piece: number }[] = [];
   const files: FileFingerprint[] = [];
-  const skipped: { file: string; error: string }[] = [];
+  const skipped: { file: string; error: string }[] = [...walked.skipped];
   const formats = Object.fromEntries(SCORE_FORMATS.map((f) => [f, { files: 0, pieces: 0, skipped: 0 }])) as Record<ScoreFormat, FormatCount>;
   for (const s of slots) {
     const fresh = parsed.get(s.path);

@@ -18,6 +18,7 @@
  */
 import { join } from 'node:path';
 import type { Command } from 'commander';
+import { placedWords, transpositionWords } from '../../../core/words.js';
 import { generator, trainChain } from '../../../core/markov.js';
 import { CAUTION } from '../../../core/report.js';
 import { seededRandom } from '../../../core/stats.js';
@@ -79,8 +80,8 @@ export function registerDemo(cli: Command): void {
       daemon.onEvent((e) => {
         if (e.type !== 'warning') return;
         const w = e as WarningEvent;
-        const up = w.transposition === 0 ? 'at pitch' : `${w.transposition > 0 ? '+' : ''}${w.transposition} semitones`;
-        process.stdout.write(`warning: "${w.title}" (${w.piece}), score ${w.score.toFixed(2)}, ${up}, from beat ${w.pieceStart} of the tune\n`);
+        const where = placedWords({ bar: w.pieceBar ?? null, beatInBar: w.pieceBeatInBar ?? null }, w.pieceStart, 'the tune');
+        process.stdout.write(`warning: "${w.title}" (${w.piece}), score ${w.score.toFixed(2)}, ${transpositionWords(w.transposition)}, from ${where}${w.pieceStart < 0 ? '' : ' of the tune'}\n`);
       });
       process.stdout.write(
         [

@@ -10,6 +10,7 @@
  */
 import type { Command } from 'commander';
 import { CAUTION } from '../../../core/report.js';
+import { gridWords } from '../../../core/words.js';
 import { startDaemon } from '../../daemon/daemon.js';
 import { DEFAULT_HOST, checkExposure, isWildcard } from '../../daemon/access.js';
 import { listPorts } from '../../daemon/midi-input.js';
@@ -55,6 +56,7 @@ function channelList(v: string): Set<number> {
 
 interface ListenFlags extends Overrides {
   corpus: string;
+  percussion?: boolean;
   preset: string;
   oscPort: number;
   httpPort: number;
@@ -78,9 +80,11 @@ export function registerListen(cli: Command): void {
     .option('--bpm <n>', 'tempo of the daemon clock until MIDI clock or /ew/tempo says otherwise (overrides the preset)')
     .option('--threshold <score>', 'score from 0 to 1 at which a window is hot, or "auto": the p99 of the baseline stored by corpus build --baseline (overrides the preset)')
     .option('--min-notes <n>', 'fewest notes in a window for it to warn (overrides the preset)')
-    .option('--consecutive <n>', 'evaluations in a row that raise, or clear, a warning (overrides the preset)')
+    .option('--consecutive <n>', 'scoring passes in a row that raise, or clear, a warning (overrides the preset)')
     .option('--hysteresis <score>', 'a warning clears only below threshold minus this (overrides the preset)')
-    .option('--grid <n>', 'onsets snap to 1/n beat before scoring, 0 = as played (overrides the preset)')
+    .option('--grid <value>', 'onsets snap to this note value before scoring: 1/16, 1/16T, 1/32, …, or a number of divisions of a beat; 0 = as played (overrides the preset)')
+    .option('--meter <n/d>', 'the session\'s time signature, for its bars and beats, as in 6/8 (overrides the preset; 4/4 by default)')
+    .option('--percussion', 'hear channel 10 (General MIDI percussion) as pitches; left out by default, as in corpus files')
     .option('--tolerance <beats>', 'beats a played onset may stray from the corpus\'s and still match, 0 = exact (overrides the preset)')
     .option('--tempo-free', 'also find passages played at 0.5–2 times the corpus tempo (overrides the preset)')
     .option('--no-tempo-free', 'match at the corpus tempo only (overrides the preset)')
@@ -104,7 +108,7 @@ export function registerListen(cli: Command): void {
       checkExposure(o.host, o.token ?? null);
       const chosen = withOverrides(loadPreset(o.preset), {
         input: o.input, window: o.window, bpm: o.bpm, threshold: o.threshold, minNotes: o.minNotes,
-        consecutive: o.consecutive, hysteresis: o.hysteresis, grid: o.grid, warn: o.warn,
+        consecutive: o.consecutive, hysteresis: o.hysteresis, grid: o.grid, warn: o.warn, meter: o.meter,
         tolerance: o.tolerance, tempoFree: o.tempoFree, minDistinctiveness: o.minDistinctiveness,
         earlyBeats: o.earlyBeats, earlyThreshold: o.earlyThreshold, earlyMinNotes: o.earlyMinNotes, earlyMinDistinctiveness: o.earlyMinDistinctiveness,
       });
@@ -122,6 +126,7 @@ export function registerListen(cli: Command): void {
         token: o.token ?? null,
         oscOut: o.oscOut === undefined ? null : parseOscTarget(o.oscOut),
         midi: { input: o.midiIn ?? null, thru: o.thru ?? null, channels: o.channels ?? null },
+        percussion: o.percussion ?? false,
         log,
         notice: printNotice,
       });
@@ -134,9 +139,10 @@ export function registerListen(cli: Command): void {
       const lines = [
         `earwitness listen — ${CAUTION}`,
         `corpus: ${s.corpus.source} (${s.corpus.pieces} pieces, ${s.corpus.notes} notes)`,
-        `preset: ${preset.name} — ${preset.description} (window ${preset.window} beats, threshold ${preset.threshold}${chosen.threshold === 'auto' ? ' (auto: the corpus baseline\'s p99)' : ''}, tolerance ${preset.tolerance} beat${preset.tempoFree ? ', tempo-free' : ''}, min distinctiveness ${preset.minDistinctiveness}, ${preset.minNotes} notes, ${preset.consecutive} in a row, hysteresis ${preset.hysteresis}, ${preset.warn ? 'warnings on' : 'no warnings'})`,
+        `preset: ${preset.name} — ${preset.description} (window ${preset.window} beats, threshold ${preset.threshold}${chosen.threshold === 'auto' ? ' (auto: the corpus baseline\'s p99)' : ''}, grid ${gridWords(preset.grid)}, ${preset.meter}, tolerance ${preset.tolerance} beat${preset.tempoFree ? ', tempo-free' : ''}, min distinctiveness ${preset.minDistinctiveness}, ${preset.minNotes} notes, ${preset.consecutive} in a row, hysteresis ${preset.hysteresis}, ${preset.warn ? 'warnings on' : 'no warnings'})`,
         midiLine,
-        s.osc ? `OSC: udp 127.0.0.1:${s.osc.port} (/ew/note, /ew/on, /ew/off, /ew/tempo, /ew/beat, /ew/reset)` : 'OSC: not listening (the preset listens to MIDI only)',
+        o.percussion ? 'channel 10 (percussion): heard as pitches (--percussion)' : 'channel 10 (percussion): left out, as in corpus files; --percussion hears it',
+        s.osc ? `OSC: udp 127.0.0.1:${s.osc.port} (/ew/note, /ew/on, /ew/off, /ew/tempo, /ew/beat, /ew/reset, /ew/meter)` : 'OSC: not listening (the preset listens to MIDI only)',
         `overlay: ${s.http.url}${o.token ? `?token=${o.token}` : ''}${isWildcard(o.host) ? ' (and on every other address of this machine)' : ''}`,
         `log: ${s.log.file} (session ${s.log.session})`,
         `listening osc=${s.osc?.port ?? 0} http=${s.http.port}`,

@@ -24,22 +24,25 @@ import { DEFAULT_BPM } from '../../../core/tempo.js';
 import { DEFAULT_WINDOW } from '../../../core/windows.js';
 import { type BaselineFile, checkBaselineFits, readBaselineFile } from '../../formats/baseline-file.js';
 import { describeWindow } from '../html/charts.js';
-import { type ReviewSettings, type SessionReview, clock, reviewHtml } from '../html/review-page.js';
+import { type ReviewSettings, type SessionReview, clock, reviewHtml, whyTheyDiffer } from '../html/review-page.js';
 import { midiBytes, tracksByChannel } from '../../formats/midi-write.js';
 import type { OpenedCorpus } from '../../corpus/open-corpus.js';
 import { openCorpusTold } from '../notices.js';
 import { minNotesOption, printJson } from '../options.js';
 import { writeOutputFile } from '../../formats/output-file.js';
 import { defaultLogFile } from '../../formats/paths.js';
-import { beat, pct } from '../report-text.js';
-import { type LoggedNote, type LoggedWarning, type SessionSummary, SessionLog, loggedNoteSchema, sessionSettingsSchema } from '../../formats/session-log.js';
+import { pct } from '../report-text.js';
+import { barFields, parseSignature } from '../../../core/bars.js';
+import { heardPasses, warningPairs } from '../../../core/live-review.js';
+import { SCORING_PASSES, pitchWords, placedWords, positionWords, spanText, transpositionWords } from '../../../core/words.js';
+import { type LoggedNote, type LoggedScore, type LoggedWarning, type SessionSummary, SessionLog, loggedNoteSchema, loggedScoreSchema, sessionSettingsSchema } from '../../formats/session-log.js';
 import { readSaved } from '../../formats/saved.js';
 import { wholeNumber } from '../usage.js';
 import { UsageError } from '../../formats/user-error.js';
 
 const logOption = `session log (default: ${defaultLogFile()})`;
 
-type LoggedSession = { summary: SessionSummary; notes: LoggedNote[]; warnings: LoggedWarning[] };
+type LoggedSession = { summary: SessionSummary; notes: LoggedNote[]; warnings: LoggedWarning[]; scores: LoggedScore[] };
 
 const sessionId = (v: string): number | 'latest' => {
   if (v === 'latest') return v;
@@ -78,6 +81,7 @@ function readSession(file: string, id: number | 'latest'): LoggedSession {
   const name = `${file}: session ${s.summary.id}`;
   if (s.notes.length === 0) throw new UsageError(`${name} holds no notes, so there is nothing to review`);
   for (const n of s.notes) readSaved(loggedNoteSchema, n, (p) => new UsageError(`${name} is damaged: note ${n.seq} has ${p.field} ${p.got} (expected ${p.expected}); review another session, or mend the row with a SQLite tool`));
+  for (const [i, x] of s.scores.entries()) readSaved(loggedScoreSchema, x, (p) => new UsageError(`${name} is damaged: live score ${i + 1} has ${p.field} ${p.got} (expected ${p.expected}); review another session, or mend the row with a SQLite tool`));
   return s;
 }
 
@@ -94,6 +98,8 @@ function sessionSettings(file: string, summary: SessionSummary, minNotes: number
     bpm: s.bpm ?? DEFAULT_BPM,
     grid: s.grid ?? 0,
     minNotes,
+    meter: [{ beat: 0, ...(parseSignature(s.meter ?? '4/4') ?? { numerator: 4, denominator: 4 }) }],
+    liveScores: s.liveScores ?? false,
   };
 }
 
@@ -121,7 +127,7 @@ function buildReview(s: LoggedSession, settings: ReviewSettings, opened: OpenedC
   const notes = settings.pitch === 'morphetic' ? spellNotes(snapped) : snapped;
   // The mode the session was heard with, through the corpus's one entry point (its index unless --exact).
   const matcher = opened.matcher({ pitch: settings.pitch, window: settings.window, mode: settings.mode, exact: options.exact });
-  const report = originalityReport([{ file: `session ${s.summary.id}`, notes }], view, matcher, { ...settings, seed: 1 });
+  const report = originalityReport([{ file: `session ${s.summary.id}`, notes, meter: settings.meter }], view, matcher, { ...settings, seed: 1 });
   const q = report.queries[0];
   const start = Date.parse(s.summary.start);
   const { id, end, corpus: corpusPath, preset } = s.summary;
@@ -136,9 +142,15 @@ function buildReview(s: LoggedSession, settings: ReviewSettings, opened: OpenedC
     beats: notesLength(notes),
     seconds: durationSeconds(s),
     originality: q.originality,
-    warnings: s.warnings.map((w) => ({ ...w, elapsed: Number.isFinite(start) ? (w.raisedAt - start) / 1000 : null })),
+    warnings: s.warnings.map((w) => {
+      const piece = view.pieces.find((p) => p.path === w.piece);
+      const inPiece = barFields(piece?.meter ?? [], piece ? w.pieceStart : null);
+      return { ...w, ...barFields(settings.meter, w.startBeat), pieceBar: inPiece.bar, pieceBeatInBar: inPiece.beatInBar, elapsed: Number.isFinite(start) ? (w.raisedAt - start) / 1000 : null };
+    }),
+    live: settings.liveScores ? heardPasses(s.scores, { meter: settings.meter, pieces: view.pieces }) : null,
     windows: q.windows,
-    worst: worstPairs([{ notes, windows: q.windows }], view, options.worst, settings.mode.tolerance),
+    worst: worstPairs([{ notes, windows: q.windows, meter: settings.meter }], view, options.worst, settings.mode.tolerance),
+    warned: warningPairs(snapped, s.warnings, { pieces: view.pieces, window: settings.window, tolerance: settings.mode.tolerance, meter: settings.meter }),
     caution: CAUTION,
   };
 }
@@ -149,27 +161,43 @@ const markedTracks = (notes: readonly MarkedNote[]) => [
   ...tracksByChannel(notes.filter((n) => !n.matched), (ch) => `other notes, channel ${ch}`),
 ];
 
+/** Each pair as two MIDI files, `NAME-N-session.mid` and `NAME-N-corpus.mid`: the worst windows as `pair`, the live warnings as `warning`. */
 function writePairs(dir: string, r: SessionReview, protect: string[]): string[] {
   const written: string[] = [];
-  for (const p of r.worst) {
+  const write = (p: SessionReview['worst'][number], name: string): void => {
     const w = p.window;
     const span = (w.end - w.start) / (w.match.timeScale ?? 1);
-    const session = join(dir, `pair-${p.rank}-session.mid`);
-    const corpus = join(dir, `pair-${p.rank}-corpus.mid`);
+    const session = join(dir, `${name}-${p.rank}-session.mid`);
+    const corpus = join(dir, `${name}-${p.rank}-corpus.mid`);
     const opts = { bpm: r.settings.bpm };
-    writeOutputFile('--pairs', session, midiBytes(markedTracks(p.query), { ...opts, title: `session ${r.id}, beats ${beat(w.start)}-${beat(w.end)} (pair ${p.rank})`, from: w.start }), { protect });
-    writeOutputFile('--pairs', corpus, midiBytes(markedTracks(p.corpus), { ...opts, title: `${w.match.title}, beats ${beat(w.match.pieceStart)}-${beat(w.match.pieceStart + span)} (pair ${p.rank})`, from: w.match.pieceStart }), { protect });
+    // A passage found before the piece's first beat starts the file at the piece's start.
+    const from = Math.max(0, w.match.pieceStart);
+    writeOutputFile('--pairs', session, midiBytes(markedTracks(p.query), { ...opts, title: `session ${r.id}, bars ${spanText(p.queryMeter, w.start, w.end)} (${name} ${p.rank})`, from: w.start }), { protect });
+    writeOutputFile('--pairs', corpus, midiBytes(markedTracks(p.corpus), { ...opts, title: `${w.match.title}, bars ${spanText(p.pieceMeter, w.match.pieceStart, w.match.pieceStart + span)} (${name} ${p.rank})`, from }), { protect });
     written.push(session, corpus);
-  }
+  };
+  for (const p of r.worst) write(p, 'pair');
+  for (const p of r.warned) write(p, 'warning');
   return written;
 }
 
 function reviewText(r: SessionReview): string {
+  const s = r.settings;
   const lines = [
-    `session ${r.id}: ${r.notes} notes${r.seconds === null ? '' : ` over ${clock(r.seconds)}`}, ${r.windows.length} windows of ${r.settings.window} beats (hop ${r.settings.hop}, ${r.settings.pitch} pitch), ` +
+    `session ${r.id}: ${r.notes} notes${r.seconds === null ? '' : ` over ${clock(r.seconds)}`}, ${r.windows.length} windows of ${s.window} beats (hop ${s.hop}, ${pitchWords(s.pitch)} pitch), ` +
       `originality ${pct(r.originality)}; ${r.warnings.length} warning${r.warnings.length === 1 ? '' : 's'} raised live`,
   ];
-  if (r.worst.length) lines.push('worst windows:', ...r.worst.map((p) => `  ${p.rank}. ${describeWindow(p.window)}`));
+  if (r.live === null) lines.push('live scores: not in the log (it was written before live scores were kept); the warnings below are what was heard live');
+  else if (r.live.length) {
+    const top = r.live.reduce((a, b) => (b.score > a.score ? b : a));
+    lines.push(`live: ${r.live.length} ${SCORING_PASSES}, highest ${top.score.toFixed(3)} at ${positionWords(s.meter, top.beat, 'the session')}`);
+  }
+  if (r.warnings.length) {
+    lines.push('warnings raised live:', ...r.warnings.map((w, i) =>
+      `  ${i + 1}. at ${positionWords(s.meter, w.startBeat, 'the session')}: score ${w.score.toFixed(3)}, ${w.title} from ${placedWords({ bar: w.pieceBar, beatInBar: w.pieceBeatInBar }, w.pieceStart)}, ${transpositionWords(w.transposition)}`));
+  }
+  if (r.worst.length) lines.push('worst re-scored windows:', ...r.worst.map((p) => `  ${p.rank}. ${describeWindow(p.window, s)}`));
+  if (r.warnings.length || r.live?.length) lines.push(whyTheyDiffer(s));
   lines.push('', CAUTION);
   return lines.join('\n');
 }
@@ -221,7 +249,7 @@ export function registerReview(cli: Command): void {
     .option('--corpus <path>', 'score against this corpus instead of the one the session logged')
     .option('--html <file>', 'write a self-contained HTML review')
     .option('--midi <file>', 'write the whole session as a Standard MIDI File')
-    .option('--pairs <dir>', 'write each worst window and its corpus excerpt as pair-N-session.mid and pair-N-corpus.mid')
+    .option('--pairs <dir>', 'write each worst window and its corpus excerpt as pair-N-session.mid and pair-N-corpus.mid, and each live warning as warning-N-session.mid and warning-N-corpus.mid')
     .option('--baseline <file>', 'human baseline JSON (from "earwitness baseline --json") to draw beside the scores', readBaselineFile)
     .option('--worst <n>', 'how many worst windows to show and pair', wholeNumber('--worst'), DEFAULT_WORST)
     .option('--exact', 'match by brute force even where the corpus has an index (slow: the reference the index is checked against)')

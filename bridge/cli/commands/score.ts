@@ -4,6 +4,7 @@ import { cardinalityScore } from '../../../core/cardinality.js';
 import { CAUTION } from '../../../core/report.js';
 import { readOnePiece } from '../../formats/read-file.js';
 import { pitchOption, printJson } from '../options.js';
+import { beatsWords, transpositionWords } from '../../../core/words.js';
 
 export function registerScore(cli: Command): void {
   cli
@@ -19,7 +20,9 @@ export function registerScore(cli: Command): void {
       const r = cardinalityScore(pa, pb);
       if (o.json) return printJson({ ...r, caution: CAUTION });
       const t = r.translation;
-      const how = t ? ` when ${a} is shifted ${t.beats} beats and ${t.pitch} pitch steps` : '';
+      // The translation takes a onto b; told the way reports tell it, from b (the other) to a (yours).
+      const when = t && t.beats !== 0 ? `, ${beatsWords(Math.abs(t.beats))} ${t.beats > 0 ? 'earlier' : 'later'}` : '';
+      const how = t ? `; ${a} plays ${b}'s notes ${transpositionWords(-t.pitch, o.pitch)}${when}` : '';
       process.stdout.write(`score ${r.score.toFixed(3)}: ${r.matched} notes coincide, of max(${r.sizes[0]}, ${r.sizes[1]})${how}\n\n${CAUTION}\n`);
     });
 }

@@ -11,7 +11,10 @@
  */
 import type { WindowResult } from '../../../core/report.js';
 import type { SeriesPoint } from '../../../core/review.js';
-import { beat, pct, signed } from '../report-text.js';
+import type { PitchMode } from '../../../core/note.js';
+import { type Meter, barBeat, beatOf } from '../../../core/bars.js';
+import { placedWords, spanText, transpositionWords } from '../../../core/words.js';
+import { pct } from '../report-text.js';
 import { COLOUR, esc } from './page.js';
 
 /** A horizontal band of values, e.g. the human baseline's typical window scores. */
@@ -25,6 +28,14 @@ export interface Band {
 export interface TimelineMark {
   beat: number;
   title: string;
+  /** The live score it was raised at: the mark sits on the live curve too. */
+  score?: number;
+}
+
+/** A live scoring pass on the timeline, at the middle of its window. */
+export interface TimelineLive {
+  beat: number;
+  score: number;
 }
 
 export interface TimelinePick {
@@ -39,28 +50,38 @@ export interface TimelineInput {
   beats: number;
   threshold: number | null;
   band: Band | null;
-  /** Warnings raised live, at the beat their window starts. */
+  /** Warnings raised live, at the middle of their window. */
   warnings: readonly TimelineMark[];
+  /** The live scores as they were, when the session kept them. */
+  live?: readonly TimelineLive[];
   /** The worst windows, numbered as in the excerpts below. */
   picks: readonly TimelinePick[];
+  /** The bars the axis counts, and the pitch dimension transpositions are told in. */
+  meter: Meter;
+  pitch: PitchMode;
 }
 
 const r1 = (x: number): number => Math.round(x * 10) / 10;
-const STEPS = [1, 2, 4, 8, 16, 32, 64, 128, 256, 512, 1024, 2048, 4096, 8192, 16384];
 
-/** Beat ticks: a power of two that gives at most `most` intervals. */
-export function beatTicks(until: number, most = 10): number[] {
-  const step = STEPS.find((s) => until / s <= most) ?? Math.ceil(until / most);
-  const out: number[] = [];
-  for (let b = 0; b <= until + 1e-9; b += step) out.push(b);
+/** Bar lines to label on an axis up to `until` beats: every bar, or every 2nd, 4th, 8th … so at most `most` show. */
+export function barTicks(meter: Meter, until: number, most = 12): { beat: number; bar: number }[] {
+  const first = barBeat(meter, 0)!.bar;
+  const last = barBeat(meter, until)!.bar;
+  let step = 1;
+  while ((last - first) / step > most) step *= 2;
+  const out: { beat: number; bar: number }[] = [];
+  for (let bar = first + ((step - (first % step)) % step); bar <= last; bar += step) {
+    const at = beatOf(meter, { bar, beatInBar: 1 });
+    if (at >= 0 && at <= until + 1e-9) out.push({ beat: at, bar });
+  }
   return out;
 }
 
-/** What a window's point says on hover. */
-export function describeWindow(w: WindowResult): string {
+/** What a window's point says on hover: "bars 5:1–9:1: score 0.812, The Ninth Buoy from bar 3, beat 1, 5 semitones up, 12 of 14 notes". */
+export function describeWindow(w: WindowResult, o: { meter: Meter; pitch: PitchMode }): string {
   const m = w.match;
-  const where = m ? `${m.title} at beat ${beat(m.pieceStart)}, transposed ${signed(m.transposition)}, ${m.matched} of ${Math.max(w.notes, m.excerptNotes)} notes` : 'no match';
-  return `beats ${beat(w.start)}–${beat(w.end)}: score ${w.score.toFixed(3)}, ${where}`;
+  const where = m ? `${m.title} from ${placedWords(m, m.pieceStart)}, ${transpositionWords(m.transposition, o.pitch)}, ${m.matched} of ${Math.max(w.notes, m.excerptNotes)} notes` : 'no match';
+  return `bars ${spanText(o.meter, w.start, w.end)}: score ${w.score.toFixed(3)}, ${where}`;
 }
 
 const swatch = (inner: string, width = 22): string => `<svg width="${width}" height="14" viewBox="0 0 ${width} 14" aria-hidden="true">${inner}</svg>`;
@@ -86,11 +107,11 @@ export function scoreTimeline(t: TimelineInput): string {
     parts.push(`<line x1="${m.l}" x2="${W - m.r}" y1="${r1(y(s))}" y2="${r1(y(s))}" stroke="#000" stroke-opacity="${s === 0 ? 0.5 : 0.1}"/>`);
     parts.push(`<text x="${m.l - 8}" y="${r1(y(s) + 4)}" text-anchor="end">${s.toFixed(2)}</text>`);
   }
-  for (const b of beatTicks(xMax)) {
+  for (const { beat: b, bar } of barTicks(t.meter, xMax)) {
     parts.push(`<line x1="${r1(x(b))}" x2="${r1(x(b))}" y1="${y(0)}" y2="${y(0) + 5}" stroke="#000" stroke-opacity="0.5"/>`);
-    parts.push(`<text x="${r1(x(b))}" y="${y(0) + 19}" text-anchor="middle">${b}</text>`);
+    parts.push(`<text x="${r1(x(b))}" y="${y(0) + 19}" text-anchor="middle">${bar}</text>`);
   }
-  parts.push(`<text x="${W - m.r}" y="${H - 4}" text-anchor="end" fill-opacity="0.7">beat</text>`);
+  parts.push(`<text x="${W - m.r}" y="${H - 4}" text-anchor="end" fill-opacity="0.7">bar</text>`);
   parts.push(`<text x="${m.l - 8}" y="${m.t - 8}" text-anchor="end" fill-opacity="0.7">score</text>`);
   if (t.band) {
     parts.push(
@@ -100,25 +121,32 @@ export function scoreTimeline(t: TimelineInput): string {
   for (const p of t.picks) {
     const x0 = x(p.start);
     const x1 = x(Math.min(p.end, xMax));
-    parts.push(`<rect x="${r1(x0)}" width="${r1(Math.max(2, x1 - x0))}" y="${pickRow}" height="${y(0) - pickRow}" fill="${COLOUR.picked}" fill-opacity="0.4" stroke="#000" stroke-opacity="0.35"><title>worst window ${p.rank}: beats ${beat(p.start)}–${beat(p.end)}</title></rect>`);
+    parts.push(`<rect x="${r1(x0)}" width="${r1(Math.max(2, x1 - x0))}" y="${pickRow}" height="${y(0) - pickRow}" fill="${COLOUR.ink}" fill-opacity="0.07" stroke="#000" stroke-opacity="0.35"><title>worst window ${p.rank}: bars ${spanText(t.meter, p.start, p.end)}</title></rect>`);
     parts.push(`<circle cx="${r1((x0 + x1) / 2)}" cy="${pickRow}" r="9" fill="#000"/><text x="${r1((x0 + x1) / 2)}" y="${pickRow + 4}" text-anchor="middle" style="fill:#fff;font-weight:700">${p.rank}</text>`);
   }
   if (t.threshold !== null) {
-    parts.push(`<line x1="${m.l}" x2="${W - m.r}" y1="${r1(y(t.threshold))}" y2="${r1(y(t.threshold))}" stroke="#000" stroke-width="1.5" stroke-dasharray="6 4"/>`);
+    parts.push(`<line x1="${m.l}" x2="${W - m.r}" y1="${r1(y(t.threshold))}" y2="${r1(y(t.threshold))}" stroke="${COLOUR.threshold}" stroke-width="2" stroke-dasharray="6 4"/>`);
     parts.push(`<text x="${W - m.r}" y="${r1(y(t.threshold) - 5)}" text-anchor="end">warning threshold ${t.threshold.toFixed(2)}</text>`);
   }
   const pts = t.windows.map((w) => [x((w.start + w.end) / 2), y(w.score)] as const);
   if (pts.length > 1) parts.push(`<polyline points="${pts.map(([a, b]) => `${r1(a)},${r1(b)}`).join(' ')}" fill="none" stroke="${COLOUR.score}" stroke-width="2" stroke-linejoin="round"/>`);
   t.windows.forEach((w, i) => {
     const [px, py] = pts[i];
-    const title = `<title>${esc(describeWindow(w))}</title>`;
+    const title = `<title>${esc(describeWindow(w, t))}</title>`;
     const hot = t.threshold !== null && w.score >= t.threshold;
     parts.push(hot
       ? `<polygon points="${diamond(px, py, 6)}" fill="${COLOUR.hot}" stroke="#000" stroke-width="1">${title}</polygon>`
       : `<circle cx="${r1(px)}" cy="${r1(py)}" r="3.5" fill="${COLOUR.score}" stroke="#fff" stroke-width="1">${title}</circle>`);
   });
+  const live = t.live ?? [];
+  if (live.length > 1) {
+    // A step line: each live score held until the next pass, as the meter showed it.
+    const steps = live.map((p, i) => `${r1(x(p.beat))},${r1(y(p.score))}${i + 1 < live.length ? ` ${r1(x(live[i + 1].beat))},${r1(y(p.score))}` : ''}`);
+    parts.push(`<polyline points="${steps.join(' ')}" fill="none" stroke="${COLOUR.live}" stroke-width="1.5" stroke-dasharray="4 3"><title>live score as it was heard</title></polyline>`);
+  }
   for (const wn of t.warnings) {
     parts.push(`<polygon points="${triangleDown(x(wn.beat), warnRow, 6)}" fill="${COLOUR.hot}" stroke="#000" stroke-width="1"><title>${esc(wn.title)}</title></polygon>`);
+    if (wn.score !== undefined) parts.push(`<polygon points="${triangleDown(x(wn.beat), y(wn.score), 6)}" fill="${COLOUR.hot}" stroke="#000" stroke-width="1"><title>${esc(wn.title)}</title></polygon>`);
   }
   const svg = `<svg viewBox="0 0 ${W} ${H}" width="${W}" height="${H}" role="img" aria-label="window scores over the session">${parts.join('')}</svg>`;
   const items: [string, string][] = [
@@ -126,16 +154,17 @@ export function scoreTimeline(t: TimelineInput): string {
   ];
   if (t.threshold !== null) {
     items.push([swatch(`<polygon points="${diamond(11, 7, 6)}" fill="${COLOUR.hot}" stroke="#000"/>`), 'window at or above the threshold']);
-    items.push([swatch(`<line x1="0" x2="22" y1="7" y2="7" stroke="#000" stroke-width="1.5" stroke-dasharray="6 4"/>`), 'warning threshold']);
+    items.push([swatch(`<line x1="0" x2="22" y1="7" y2="7" stroke="${COLOUR.threshold}" stroke-width="2" stroke-dasharray="6 4"/>`), 'warning threshold']);
   }
+  if (live.length > 1) items.push([swatch(`<line x1="0" x2="22" y1="7" y2="7" stroke="${COLOUR.live}" stroke-width="1.5" stroke-dasharray="4 3"/>`), 'live score as it was heard, at the middle of its window']);
   if (t.warnings.length) items.push([swatch(`<polygon points="${triangleDown(11, 6, 6)}" fill="${COLOUR.hot}" stroke="#000"/>`), 'warning raised live']);
   if (t.band) items.push([swatch(`<rect x="1" y="2" width="20" height="10" fill="${COLOUR.baseline}" fill-opacity="0.22" stroke="${COLOUR.baseline}"/>`), t.band.label]);
-  if (t.picks.length) items.push([swatch(`<rect x="1" y="1" width="20" height="12" fill="${COLOUR.picked}" fill-opacity="0.4" stroke="#000" stroke-opacity="0.35"/><circle cx="11" cy="7" r="4.5" fill="#000"/>`), 'worst window, numbered as below']);
+  if (t.picks.length) items.push([swatch(`<rect x="1" y="1" width="20" height="12" fill="${COLOUR.ink}" fill-opacity="0.07" stroke="#000" stroke-opacity="0.35"/><circle cx="11" cy="7" r="4.5" fill="#000"/>`), 'worst window, numbered as below']);
   return svg + legend(items);
 }
 
 /** A small timeline of one query's window scores, for a table cell. */
-export function sparkline(windows: readonly WindowResult[], beats: number): string {
+export function sparkline(windows: readonly WindowResult[], beats: number, o: { meter: Meter; pitch: PitchMode }): string {
   const W = 220;
   const H = 34;
   if (windows.length === 0) return '<span class="empty">no windows</span>';
@@ -151,7 +180,7 @@ export function sparkline(windows: readonly WindowResult[], beats: number): stri
     `<line x1="0" x2="${W}" y1="${y(0)}" y2="${y(0)}" stroke="#000" stroke-opacity="0.3"/>` +
     `<polygon points="${area}" fill="${COLOUR.score}" fill-opacity="0.15"/>` +
     `<polyline points="${pts.join(' ')}" fill="none" stroke="${COLOUR.score}" stroke-width="1.5"/>` +
-    `<polygon points="${diamond(x((worst.start + worst.end) / 2), y(worst.score), 4.5)}" fill="${COLOUR.hot}" stroke="#000" stroke-width="0.8"><title>${esc(`highest: ${describeWindow(worst)}`)}</title></polygon>` +
+    `<polygon points="${diamond(x((worst.start + worst.end) / 2), y(worst.score), 4.5)}" fill="${COLOUR.hot}" stroke="#000" stroke-width="0.8"><title>${esc(`highest: ${describeWindow(worst, o)}`)}</title></polygon>` +
     `</svg>`
   );
 }

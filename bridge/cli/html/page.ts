@@ -11,18 +11,20 @@
 import type { MatchMode } from '../../../core/pipeline.js';
 import type { PitchMode } from '../../../core/note.js';
 import { CAUTION } from '../../../core/report.js';
+import { COLOUR_CODE } from '../../../core/colours.js';
+import { pitchWords } from '../../../core/words.js';
 import type { WindowShape } from '../../../core/windows.js';
 
-/** Okabe–Ito colours by the role they play on these pages. */
+/** The colours of these pages: the one colour code (core/colours.ts), shared with the overlay. */
 export const COLOUR = {
-  ink: '#000000',
-  score: '#0072B2',
-  hot: '#D55E00',
-  baseline: '#009E73',
-  picked: '#F0E442',
-  caution: '#E69F00',
-  sky: '#56B4E9',
-  purple: '#CC79A7',
+  ink: COLOUR_CODE.ink,
+  score: COLOUR_CODE.rescored,
+  live: COLOUR_CODE.live,
+  hot: COLOUR_CODE.warning,
+  threshold: COLOUR_CODE.threshold,
+  matched: COLOUR_CODE.matched,
+  unmatched: COLOUR_CODE.unmatched,
+  baseline: COLOUR_CODE.baseline,
 } as const;
 
 const ENTITIES: Record<string, string> = { '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' };
@@ -50,8 +52,8 @@ export interface PageContent {
 
 /** How the scores were made, in words: "windows of 16 beats with hop 8, chromatic pitch, exact timing". */
 export function scoringText(s: WindowShape & { pitch: PitchMode }, mode: MatchMode): string {
-  const timing = mode.tolerance > 0 ? `ontimes within ±${mode.tolerance} beat` : 'exact timing';
-  return `windows of ${s.window} beats with hop ${s.hop}, ${s.pitch} pitch, ${timing}${mode.tempoFree ? ', any tempo from half to double' : ''}`;
+  const timing = mode.tolerance > 0 ? `onsets within ±${mode.tolerance} beat` : 'exact timing';
+  return `windows of ${s.window} beats with hop ${s.hop}, ${pitchWords(s.pitch)} pitch, ${timing}${mode.tempoFree ? ', any tempo from half to double' : ''}`;
 }
 
 export const section = (heading: string, body: string, intro?: string): string =>
@@ -64,7 +66,7 @@ body{margin:0;font:15px/1.5 system-ui,-apple-system,"Segoe UI",Roboto,"DejaVu Sa
 main{max-width:1040px;margin:0 auto;padding:28px 32px 56px}
 header h1{font-size:28px;line-height:1.2;margin:0 0 6px;letter-spacing:-.01em}
 header p{margin:0;color:rgba(0,0,0,.68)}
-.caution{margin:20px 0 24px;padding:14px 18px;border:2px solid #000;border-left:12px solid ${COLOUR.caution};border-radius:6px;background:rgba(230,159,0,.10);font-weight:600}
+.caution{margin:20px 0 24px;padding:14px 18px;border:2px solid #000;border-left:12px solid ${COLOUR.ink};border-radius:6px;background:rgba(0,0,0,.05);font-weight:600}
 .caution strong{display:block;font-size:12px;letter-spacing:.08em;text-transform:uppercase;margin-bottom:2px}
 .figures{display:grid;grid-template-columns:repeat(auto-fit,minmax(150px,1fr));gap:12px;margin:0 0 8px}
 .figure{border:1px solid rgba(0,0,0,.16);border-radius:8px;padding:10px 14px}

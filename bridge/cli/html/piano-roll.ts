@@ -11,7 +11,8 @@
  */
 import type { Note, PitchMode } from '../../../core/note.js';
 import type { ExcerptPair, MarkedNote } from '../../../core/review.js';
-import { beat } from '../report-text.js';
+import { type Meter, barBeat } from '../../../core/bars.js';
+import { barBeatText, beatsWords, positionWords, spanText, transpositionWords } from '../../../core/words.js';
 import { COLOUR, esc } from './page.js';
 
 const NAMES = ['C', 'C#', 'D', 'D#', 'E', 'F', 'F#', 'G', 'G#', 'A', 'A#', 'B'];
@@ -26,14 +27,16 @@ export interface RollInput {
   /** First beat shown. */
   from: number;
   beats: number;
+  /** The bars the axis is labelled in. */
+  meter: Meter;
   /** Lowest and highest MIDI note shown. */
   low: number;
   high: number;
   label: string;
 }
 
-const MATCHED = `fill="${COLOUR.hot}" stroke="#000" stroke-width="1.5"`;
-const OTHER = `fill="#fff" stroke="${COLOUR.score}" stroke-width="1.3" stroke-dasharray="3 2"`;
+const MATCHED = `fill="${COLOUR.matched}" stroke="#000" stroke-width="1.5"`;
+const OTHER = `fill="#fff" stroke="${COLOUR.unmatched}" stroke-width="1.3" stroke-dasharray="3 2"`;
 
 export function pianoRoll(r: RollInput): string {
   const W = 470;
@@ -53,10 +56,10 @@ export function pianoRoll(r: RollInput): string {
     }
   }
   for (let k = 0; k <= r.beats; k++) {
-    const strong = k % 4 === 0;
+    const strong = barBeat(r.meter, r.from + k)?.beatInBar === 1;
     parts.push(`<line x1="${r1(x(r.from + k))}" x2="${r1(x(r.from + k))}" y1="${m.t}" y2="${m.t + rows * rowH}" stroke="#000" stroke-opacity="${strong ? 0.22 : 0.07}"/>`);
-    const anchor = k === 0 ? 'start' : k + 4 > r.beats ? 'end' : 'middle';
-    if (strong) parts.push(`<text x="${r1(x(r.from + k))}" y="${H - 8}" text-anchor="${anchor}" style="font-size:11px">${beat(r.from + k)}</text>`);
+    const anchor = k === 0 ? 'start' : k + 2 > r.beats ? 'end' : 'middle';
+    if (strong || k === 0) parts.push(`<text x="${r1(x(r.from + k))}" y="${H - 8}" text-anchor="${anchor}" style="font-size:11px">${barBeatText(r.meter, r.from + k)}</text>`);
   }
   parts.push(`<rect x="${m.l}" y="${m.t}" width="${plotW}" height="${rows * rowH}" fill="none" stroke="#000" stroke-opacity="0.45"/>`);
   // Unmatched first, so a matched note is never hidden under another.
@@ -64,7 +67,7 @@ export function pianoRoll(r: RollInput): string {
   for (const n of ordered) {
     const x0 = x(n.onset);
     const x1 = Math.min(x(n.onset + n.duration), W - m.r);
-    const title = `${noteName(n.pitch)} (${n.pitch}) at beat ${beat(n.onset)}, ${beat(n.duration)} beats, ${n.matched ? 'matched' : 'not matched'}`;
+    const title = `${noteName(n.pitch)} (${n.pitch}) at ${positionWords(r.meter, n.onset)}, ${beatsWords(n.duration)}, ${n.matched ? 'matched' : 'not matched'}`;
     parts.push(`<rect x="${r1(x0)}" y="${r1(y(n.pitch) + 1)}" width="${r1(Math.max(3, x1 - x0))}" height="${Math.max(3, rowH - 2)}" rx="2" ${n.matched ? MATCHED : OTHER}><title>${esc(title)}</title></rect>`);
   }
   return `<svg viewBox="0 0 ${W} ${H}" width="${W}" height="${H}" role="img" aria-label="${esc(r.label)}">${parts.join('')}</svg>`;
@@ -90,34 +93,28 @@ function pitchSpans(a: readonly Note[], b: readonly Note[]): [[number, number], 
   return [centre(ra), centre(rb)];
 }
 
-/** "played 2 semitones higher" (transposition +2, from the corpus passage to the query). */
-export function transposedText(mode: PitchMode, n: number): string {
-  if (n === 0) return 'at the same pitch';
-  const size = Math.abs(n);
-  const unit = mode === 'morphetic' ? `diatonic step${size === 1 ? '' : 's'}` : `semitone${size === 1 ? '' : 's'}`;
-  return `played ${size} ${unit} ${n > 0 ? 'higher' : 'lower'}`;
-}
-
-export function pairFigure(pair: ExcerptPair, o: { mode: PitchMode; queryLabel: string }): string {
+/** `id`: the figure's anchor, `worst` (the default) for a worst window, `warning` for a live warning; numbered by the pair's rank. */
+export function pairFigure(pair: ExcerptPair, o: { mode: PitchMode; queryLabel: string; id?: 'worst' | 'warning' }): string {
   const w = pair.window;
   const mt = w.match;
   const beats = w.end - w.start;
   // A tempo-free match found the passage at another speed: its excerpt spans the window divided by that scale.
   const scale = mt.timeScale ?? 1;
   const pieceBeats = beats / scale;
-  const pieceEnd = beat(Math.round((mt.pieceStart + pieceBeats) * 100) / 100);
+  const played = spanText(pair.queryMeter, w.start, w.end);
+  const inPiece = spanText(pair.pieceMeter, mt.pieceStart, mt.pieceStart + pieceBeats);
   const [qs, cs] = pitchSpans(pair.query, pair.corpus);
   const count = (ns: readonly MarkedNote<Note>[]): string => `${ns.filter((n) => n.matched).length} of ${ns.length} notes matched`;
-  const transposed = transposedText(o.mode, mt.transposition) + (scale === 1 ? '' : `, ${scale}× as long`);
+  const transposed = transpositionWords(mt.transposition, o.mode) + (scale === 1 ? '' : `, ${scale}× as long`);
   return (
-    `<div class="pair" id="worst-${pair.rank}">` +
-    `<h3><span class="rank">${pair.rank}</span>score ${w.score.toFixed(3)}: beats ${beat(w.start)}–${beat(w.end)} resemble “${esc(mt.title)}” beats ${beat(mt.pieceStart)}–${pieceEnd}, ${transposed}</h3>` +
+    `<div class="pair" id="${o.id ?? 'worst'}-${pair.rank}">` +
+    `<h3><span class="rank">${pair.rank}</span>score ${w.score.toFixed(3)}: bars ${played} resemble “${esc(mt.title)}” bars ${inPiece}, ${transposed}</h3>` +
     '<div class="rolls">' +
-    `<figure style="margin:0"><h4>${esc(o.queryLabel)}, beats ${beat(w.start)}–${beat(w.end)}</h4><p class="where">${count(pair.query)}</p>` +
-    pianoRoll({ notes: pair.query, from: w.start, beats, low: qs[0], high: qs[1], label: `${o.queryLabel} excerpt` }) +
+    `<figure style="margin:0"><h4>${esc(o.queryLabel)}, bars ${played}</h4><p class="where">${count(pair.query)}</p>` +
+    pianoRoll({ notes: pair.query, from: w.start, beats, low: qs[0], high: qs[1], meter: pair.queryMeter, label: `${o.queryLabel} excerpt` }) +
     '</figure>' +
-    `<figure style="margin:0"><h4>${esc(mt.title)}, beats ${beat(mt.pieceStart)}–${pieceEnd}</h4><p class="where">${esc(mt.piece)} · ${count(pair.corpus)}</p>` +
-    pianoRoll({ notes: pair.corpus, from: mt.pieceStart, beats: pieceBeats, low: cs[0], high: cs[1], label: `corpus excerpt from ${mt.title}` }) +
+    `<figure style="margin:0"><h4>${esc(mt.title)}, bars ${inPiece}</h4><p class="where">${esc(mt.piece)} · ${count(pair.corpus)}</p>` +
+    pianoRoll({ notes: pair.corpus, from: mt.pieceStart, beats: pieceBeats, low: cs[0], high: cs[1], meter: pair.pieceMeter, label: `corpus excerpt from ${mt.title}` }) +
     '</figure></div></div>'
   );
 }

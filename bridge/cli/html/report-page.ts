@@ -43,7 +43,7 @@ function queryTable(input: ReportPageInput): string {
     const top = q.windows.reduce<(typeof q.windows)[number] | null>((a, w) => (!a || w.score > a.score ? w : a), null);
     return (
       `<tr><td>${breakable(q.file)}</td><td class="num">${q.notes}</td><td class="num">${q.windows.length}</td><td class="num"><strong>${pct(q.originality)}</strong></td>` +
-      `<td>${sparkline(q.windows, notesLength(input.queries[i].notes))}</td>` +
+      `<td>${sparkline(q.windows, notesLength(input.queries[i].notes), { meter: q.meter, pitch: input.report.settings.pitch })}</td>` +
       `<td>${top?.match ? `${esc(top.match.title)} <span class="where">${top.score.toFixed(3)}</span>` : '<span class="empty">no match</span>'}</td></tr>`
     );
   });
@@ -60,7 +60,7 @@ export function reportHtml(input: ReportPageInput): string {
   const b = baseline?.baseline ?? null;
   const series = folderSeries(report.queries, input.queries.map((q) => q.folder), s.seed);
   const worst = worstPairs(
-    input.queries.map((q, i) => ({ notes: q.notes, windows: report.queries[i].windows })),
+    input.queries.map((q, i) => ({ notes: q.notes, windows: report.queries[i].windows, meter: report.queries[i].meter })),
     input.corpus,
     input.worst ?? DEFAULT_WORST,
     input.mode.tolerance,
@@ -87,12 +87,12 @@ export function reportHtml(input: ReportPageInput): string {
     ),
   );
   return page({
-    title: 'earwitness · originality report',
-    heading: 'Originality report',
+    title: 'earwitness · heard against the corpus',
+    heading: 'Heard against the corpus',
     lede: `${report.queries.length} ${report.queries.length === 1 ? 'query' : 'queries'} against the corpus ${input.source} (${input.corpus.pieces.length} pieces), in ${scoringText(s, input.mode)}.`,
     figures,
     sections,
-    footer: `earwitness originality report · corpus ${input.source} · ${scoringText(s, input.mode)} · seed ${s.seed}${baseline ? ` · baseline ${baseline.file}` : ''}`,
+    footer: `earwitness report · corpus ${input.source} · ${scoringText(s, input.mode)} · seed ${s.seed}${baseline ? ` · baseline ${baseline.file}` : ''}`,
   });
 }
 

@@ -78,7 +78,7 @@ describe('report --tolerance', () => {
   test('the text report names the distinctiveness and the time scale, and ends with the caution', () => {
     const r = earwitness('report', at('slower.mid'), '--corpus', at('corpus'), '--tolerance', '0.05', '--tempo-free');
     expect(r.status, r.stderr).toBe(EXIT.ok);
-    expect(r.stdout).toMatch(/chorale-3 at beat 0, transposed 0, \d+ notes matched, time scale 1\.50, distinctiveness \d\.\d\d/);
+    expect(r.stdout).toMatch(/chorale-3 from bar 1, beat 1, same pitch, \d+ notes matched, time scale 1\.50, distinctiveness \d\.\d\d/);
     expect(r.stdout.trimEnd().endsWith(CAUTION)).toBe(true);
   });
 

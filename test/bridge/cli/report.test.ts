@@ -136,18 +136,22 @@ describe('earwitness report', () => {
 
   it('--csv FILE writes a header and one row a window', () => {
     const lines = readFileSync(csv(), 'utf8').trim().split('\n');
-    expect(lines[0].split(',').slice(0, 10)).toEqual(['file', 'start', 'end', 'notes', 'score', 'piece', 'title', 'piece_start', 'transposition', 'matched']);
+    expect(lines[0].split(',').slice(0, 14)).toEqual(['file', 'start', 'end', 'bar', 'beat_in_bar', 'notes', 'score', 'piece', 'title', 'piece_start', 'piece_bar', 'piece_beat_in_bar', 'transposition', 'matched']);
     const windows = report.queries.flatMap((q: any) => q.windows);
     expect(lines).toHaveLength(1 + windows.length);
     const first = lines[1].split(',');
-    expect(first.slice(1, 5).map(Number)).toEqual([windows[0].start, windows[0].end, windows[0].notes, windows[0].score]);
+    expect(first.slice(1, 7).map(Number)).toEqual([windows[0].start, windows[0].end, windows[0].bar, windows[0].beatInBar, windows[0].notes, windows[0].score]);
   });
 
   it('without --json, a readable table that ends with the caution', () => {
     const r = earwitness('report', join(queries, 'quote.mid'), '--corpus', corpus);
     expect(r.status).toBe(EXIT.ok);
     expect(r.stdout).toMatch(/^originality 0\.0% over \d+ windows of 16 beats \(hop 8, chromatic pitch\)/);
-    expect(r.stdout).toMatch(/chorale-2 at beat 0, transposed \+3/);
+    // The chorales carry no time signature: 4/4. The quote's windows lie 8 beats after the chorale's: its first, from bar 1,
+    // begins 8 beats before the chorale does, said in words; its second, from bar 3, is the chorale's bar 1, beat 1.
+    expect(r.stdout).toMatch(/\n  1:1–5:1 .* chorale-2 from 8 beats before the piece begins, 3 semitones up/);
+    expect(r.stdout).toMatch(/\n  3:1–7:1 .* chorale-2 from bar 1, beat 1, 3 semitones up/);
+    expect(r.stdout).not.toMatch(/[\s(]-\d/); // no negative position
     expect(r.stdout.trimEnd().endsWith(CAUTION)).toBe(true);
   });
 });

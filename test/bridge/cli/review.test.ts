@@ -9,7 +9,7 @@ import { CAUTION } from '../../../core/report.js';
 import { readMidi } from '../../../bridge/formats/midi-file.js';
 import { SessionLog } from '../../../bridge/formats/session-log.js';
 import { tool } from '../../helpers/which.js';
-import { CLI, PIECES, QUOTE, SETTINGS, cli, reviewWorld, type ReviewWorld } from '../../helpers/review-session.js';
+import { CLI, PIECES, BETWEEN, QUOTE, SETTINGS, cli, reviewWorld, type ReviewWorld } from '../../helpers/review-session.js';
 
 const midicsv = tool('midicsv', 'midicsv');
 const hash = (file: string): string => createHash('sha256').update(readFileSync(file)).digest('hex');
@@ -31,10 +31,10 @@ describe('earwitness sessions', () => {
     const r = cli(['sessions', '--log', w.log, '--json']);
     expect(r.code, r.stderr).toBe(0);
     const list = JSON.parse(r.stdout);
-    expect(list).toHaveLength(2);
+    expect(list).toHaveLength(3);
     expect(list[0]).toMatchObject({ id: w.played, start: '2025-06-01T18:00:00.000Z', corpus: w.corpus, preset: 'harbour', notes: w.notes.length, warnings: 1, settings: SETTINGS });
     expect(typeof list[0].end).toBe('string');
-    expect(list[1]).toMatchObject({ id: w.empty, notes: 0, warnings: 0 });
+    expect(list[2]).toMatchObject({ id: w.empty, notes: 0, warnings: 0 });
   });
 
   it('prints a table a person can read', () => {
@@ -55,7 +55,7 @@ describe('earwitness sessions', () => {
 describe('earwitness review', () => {
   it('--json gives id, notes, warnings, originality and windows with the batch report’s window fields', () => {
     const r = cli(['review', 'latest', '--log', w.log, '--json']);
-    // "latest" is the empty session 2: a clear error, tested below. Review session 1 by id.
+    // "latest" is the empty session 3: a clear error, tested below. Review session 1 by id.
     expect(r.code).toBe(2);
     const ok = cli(['review', String(w.played), '--log', w.log, '--json']);
     expect(ok.code, ok.stderr).toBe(0);
@@ -65,7 +65,11 @@ describe('earwitness review', () => {
     expect(j.warnings[0]).toMatchObject({ title: PIECES[QUOTE.piece].title, transposition: QUOTE.transposition, pieceStart: QUOTE.from, startBeat: QUOTE.at, elapsed: expect.any(Number) });
     // Windows of 16 beats, hop 8, over 48 beats: starts 0, 8, …, 40.
     expect(j.windows.map((x: { start: number }) => x.start)).toEqual([0, 8, 16, 24, 32, 40]);
-    for (const x of j.windows) expect(Object.keys(x).sort()).toEqual(['end', 'match', 'notes', 'score', 'start', 'tooShort']);
+    for (const x of j.windows) expect(Object.keys(x).sort()).toEqual(['bar', 'beatInBar', 'end', 'match', 'notes', 'score', 'start', 'tooShort']);
+    // The session counts in 4/4 (no metre logged): window starts 0, 8, 16 … are bars 1, 3, 5 …, beat 1.
+    expect(j.windows.map((x: { bar: number; beatInBar: number }) => `${x.bar}:${x.beatInBar}`)).toEqual(['1:1', '3:1', '5:1', '7:1', '9:1', '11:1']);
+    // Logged before live scores were kept: no live curve, and the review says so.
+    expect(j.live).toBeNull();
     const quoted = j.windows.find((x: { start: number }) => x.start === QUOTE.at);
     expect(quoted).toMatchObject({ score: 1, match: { piece: PIECES[QUOTE.piece].file, title: PIECES[QUOTE.piece].title, pieceStart: QUOTE.from, transposition: QUOTE.transposition } });
     // Windows of fewer than 8 notes are listed but too short to judge.
@@ -116,7 +120,7 @@ describe('earwitness review', () => {
     const dir = join(w.dir, 'pairs');
     const r = cli(['review', '1', '--log', w.log, '--pairs', dir, '--worst', '2']);
     expect(r.code, r.stderr).toBe(0);
-    expect(readdirSync(dir).sort()).toEqual(['pair-1-corpus.mid', 'pair-1-session.mid', 'pair-2-corpus.mid', 'pair-2-session.mid']);
+    expect(readdirSync(dir).sort()).toEqual(['pair-1-corpus.mid', 'pair-1-session.mid', 'pair-2-corpus.mid', 'pair-2-session.mid', 'warning-1-corpus.mid', 'warning-1-session.mid']);
     const corpus = readMidi(join(dir, 'pair-1-corpus.mid')).notes;
     const session = readMidi(join(dir, 'pair-1-session.mid')).notes;
     const expected = PIECES[QUOTE.piece].notes.filter((n) => n.onset >= QUOTE.from && n.onset < QUOTE.to);
@@ -151,6 +155,52 @@ describe('earwitness review', () => {
   });
 });
 
+describe('the review as heard: live scores and the live warnings’ own excerpts', () => {
+  it('an old log without live scores still reviews, and says so', () => {
+    const r = cli(['review', String(w.played), '--log', w.log]);
+    expect(r.code, r.stderr).toBe(0);
+    expect(r.stdout).toContain('live scores: not in the log');
+  });
+
+  it('--json carries one live entry per scoring pass, placed in bars, and the warning’s excerpt pair', () => {
+    const r = cli(['review', String(w.heard), '--log', w.log, '--json']);
+    expect(r.code, r.stderr).toBe(0);
+    const j = JSON.parse(r.stdout);
+    expect(j.live).toHaveLength(w.passes);
+    const hot = j.live.find((p: { piece: string | null }) => p.piece !== null);
+    expect(hot).toMatchObject({ seq: expect.any(Number), beat: expect.any(Number), bar: expect.any(Number), beatInBar: expect.any(Number), score: expect.any(Number), piece: PIECES[BETWEEN.piece].file, title: PIECES[BETWEEN.piece].title, transposition: BETWEEN.transposition });
+    // The warned window starts at beat 12: bar 4, beat 1 in 4/4; the piece's beat 4 is its bar 2, beat 1.
+    expect(j.warnings[0]).toMatchObject({ startBeat: BETWEEN.at, bar: 4, beatInBar: 1, pieceStart: BETWEEN.from, pieceBar: 2, pieceBeatInBar: 1 });
+    expect(j.warned).toHaveLength(1);
+    const pair = j.warned[0];
+    const expected = PIECES[BETWEEN.piece].notes.filter((n) => n.onset >= BETWEEN.from && n.onset < BETWEEN.to);
+    expect(pair.corpus.map((n: { onset: number; pitch: number }) => [n.onset, n.pitch])).toEqual(expected.map((n) => [n.onset, n.pitch]));
+    expect(pair.query.map((n: { onset: number; pitch: number }) => [n.onset, n.pitch])).toEqual(expected.map((n) => [n.onset - BETWEEN.from + BETWEEN.at, n.pitch + BETWEEN.transposition]));
+    expect(pair.query.every((n: { matched: boolean }) => n.matched)).toBe(true);
+  });
+
+  it('a live warning between the fixed windows: each fixed window holds only part of the quote, the page shows the warning with its own piano rolls', () => {
+    const html = join(w.dir, 'heard.html');
+    const dir = join(w.dir, 'heard-pairs');
+    const r = cli(['review', String(w.heard), '--log', w.log, '--json', '--html', html, '--pairs', dir]);
+    expect(r.code, r.stderr).toBe(0);
+    const j = JSON.parse(r.stdout);
+    // No fixed window (starts 0, 8, 16, 24 …) starts where the warned one does, and none scores what the warning did.
+    expect(j.windows.some((x: { start: number }) => x.start === BETWEEN.at)).toBe(false);
+    for (const x of j.windows) expect(x.score).toBeLessThan(0.97);
+    const page = readFileSync(html, 'utf8');
+    const figure = page.slice(page.indexOf('id="warning-1"'));
+    expect(page).toContain('id="warning-1"');
+    // Two piano rolls (an <svg> each) in the warning's figure, the quoted bars of the session beside the piece's.
+    expect(figure.slice(0, figure.indexOf('</div></div>')).match(/<svg /g)).toHaveLength(2);
+    expect(figure).toContain(`resemble “${PIECES[BETWEEN.piece].title}” bars 2:1–6:1, 2 semitones down`);
+    expect(page).toContain('live score as it was heard');
+    expect(page).toContain('a live warning can fall between them');
+    const session = readMidi(join(dir, 'warning-1-session.mid')).notes;
+    expect(session).toHaveLength(j.warned[0].query.length);
+  });
+});
+
 describe('reviewing what cannot be reviewed: exit 2, a clear error, the log as it was', () => {
   const refused = (log: string, args: string[], message: RegExp): void => {
     const before = hashes(log);
@@ -163,9 +213,9 @@ describe('reviewing what cannot be reviewed: exit 2, a clear error, the log as i
     expect(existsSync(join(w.dir, 'never.html'))).toBe(false);
   };
 
-  it('an unknown session', () => refused(w.log, ['99'], /sessions\.db: no session 99 in the log \(it holds sessions 1–2/));
-  it('an empty session', () => refused(w.log, [String(w.empty)], /sessions\.db: session 2 holds no notes, so there is nothing to review/));
-  it('"latest" when the latest session is empty', () => refused(w.log, ['latest'], /session 2 holds no notes/));
+  it('an unknown session', () => refused(w.log, ['99'], /sessions\.db: no session 99 in the log \(it holds sessions 1–3/));
+  it('an empty session', () => refused(w.log, [String(w.empty)], /sessions\.db: session 3 holds no notes, so there is nothing to review/));
+  it('"latest" when the latest session is empty', () => refused(w.log, ['latest'], /session 3 holds no notes/));
 
   it('a session whose settings cannot be used', () => {
     const log = join(w.dir, 'bad-settings.db');

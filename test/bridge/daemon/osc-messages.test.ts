@@ -56,6 +56,11 @@ describe('the address space', () => {
     expect(decodeMessage('/ew/reset', [])).toEqual({ kind: 'reset' });
   });
 
+  it('reads the session\'s time signature; the lower figure a power of two as in SMF 1.0\'s FF 58', () => {
+    expect(decodeMessage('/ew/meter', [i(6), i(8)])).toEqual({ kind: 'meter', numerator: 6, denominator: 8 });
+    expect(decodeMessage('/ew/meter', [i(7), i(6)])).toMatchObject({ bad: { kind: 'meter' } });
+  });
+
   it.each([
     ['/ew/nope', [], 'address', /unknown address "\/ew\/nope"; the addresses are \/ew\/note/],
     ['/ew/note', [i(60)], 'arguments', /\/ew\/note takes pitch velocity durationBeats \[beat\] \[channel\], got 1 argument$/],

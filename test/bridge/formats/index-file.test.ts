@@ -12,6 +12,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { PITCH_MODES } from '../../../core/note.js';
+import { barBeat } from '../../../core/bars.js';
 import { corpusPoints } from '../../../core/corpus.js';
 import { flattenNotes, joinNotes, notePoints, pieceNotes } from '../../../core/flat-notes.js';
 import { buildTriples, flattenPoints } from '../../../core/triple-index.js';
@@ -39,7 +40,8 @@ function contents(): IndexContents {
     fingerprint: FINGERPRINT_SHAPE,
     fingerprints,
     percussion: false,
-    pieces: corpus.pieces.map(({ notes: _, ...info }) => info),
+    // The first piece has a metre (a pickup, then 3/4); the rest none, as an index written before metres were kept.
+    pieces: corpus.pieces.map(({ notes: _, ...info }, i) => (i === 0 ? { ...info, meter: [{ beat: 0, numerator: 1, denominator: 4 }, { beat: 1, numerator: 3, denominator: 4 }] } : info)),
     files: corpus.pieces.map((p, i) => ({ path: p.path, size: 100 + i, mtimeMs: 1_700_000_000_000 + i, sha256: 'ab'.repeat(32), error: null })),
     notes,
     postings,
@@ -99,6 +101,15 @@ describe('index file', () => {
     expect(m).toMatchObject({ piece: 7, transposition: 0 });
     expect(Math.abs(m.pieceStart - 8)).toBeLessThan(0.25);
     expect(Math.abs(m.timeScale! / 1.5 - 1)).toBeLessThan(0.02);
+  });
+
+  it('keeps each piece\'s time signatures; a piece stored without any reads without, counting in 4/4', () => {
+    const back = readIndexFile(file, ['chromatic']);
+    expect(back.pieces[0].meter).toEqual(written.pieces[0].meter);
+    expect(back.pieces[1].meter).toBeUndefined();
+    expect(barBeat(back.pieces[0].meter ?? [], 4)).toEqual({ bar: 2, beatInBar: 1 });
+    expect(barBeat(back.pieces[1].meter ?? [], 4)).toEqual({ bar: 2, beatInBar: 1 });
+    expect(barBeat(back.pieces[0].meter ?? [], 0)).toEqual({ bar: 0, beatInBar: 1 });
   });
 
   it('reads one pitch dimension alone', () => {

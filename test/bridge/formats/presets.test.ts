@@ -47,7 +47,9 @@ describe('a bad preset', () => {
     [{ window: 0 }, /field "window": got 0; allowed: a number of beats above 0, at most 64$/],
     [{ minNotes: 2.5 }, /field "minNotes": got 2\.5; allowed: a whole number of at least 1$/],
     [{ warn: 'yes' }, /field "warn": got "yes"; allowed: true or false$/],
-    [{ grid: 7 }, /field "grid": got 7; allowed: a whole number of divisions per beat that divides 3840/],
+    [{ grid: 7 }, /field "grid": got 7; allowed: a note value such as "1\/16", "1\/16T" or "1\/32", or a whole number of divisions per beat that divides 3840/],
+    [{ grid: '1/12' }, /field "grid": got "1\/12"; allowed: a note value/],
+    [{ meter: '3/5' }, /field "meter": got "3\/5"; allowed: a time signature such as "4\/4"/],
     [{ bpm: undefined }, /field "bpm": got nothing; allowed: a tempo from 1 to 999/],
     [{ thresold: 0.5 }, /field "thresold": no such field; the fields are name, description, input, window, bpm, threshold/],
   ])('%j is refused, naming the field and the allowed values', (fields, message) => {
@@ -81,6 +83,16 @@ describe('flags override preset values', () => {
     expect(() => withOverrides(jam, { threshold: '2' })).toThrow('--threshold 2: allowed: a number from 0 to 1');
     expect(() => withOverrides(jam, { consecutive: 'three' })).toThrow('--consecutive three: allowed: a whole number from 1 to 100');
     expect(() => withOverrides(jam, { input: 'usb' })).toThrow('--input usb: allowed: one of "midi", "osc", "both"');
+  });
+
+  it('--grid takes a note value as a sequencer writes it (1/16 = 4 a beat, 1/16T = 6), or a number; --meter a time signature', () => {
+    const jam = loadPreset('jam');
+    expect(withOverrides(jam, { grid: '1/16' }).grid).toBe(4);
+    expect(withOverrides(jam, { grid: '1/16T' }).grid).toBe(6);
+    expect(withOverrides(jam, { grid: '12' }).grid).toBe(12);
+    expect(jam.meter).toBe('4/4');
+    expect(withOverrides(jam, { meter: '6/8' }).meter).toBe('6/8');
+    expect(() => withOverrides(jam, { grid: '1/12' })).toThrow('--grid 1/12: allowed: a note value');
   });
 
   it('as a user runs it: the hello the overlay gets carries the overridden values', async () => {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { distinctTails, seriesChart } from '../../../../bridge/cli/html/charts.js';
 import { esc } from '../../../../bridge/cli/html/page.js';
-import { noteName, transposedText } from '../../../../bridge/cli/html/piano-roll.js';
+import { noteName } from '../../../../bridge/cli/html/piano-roll.js';
 import { clock } from '../../../../bridge/cli/html/review-page.js';
 
 describe('page pieces', () => {
@@ -11,13 +11,6 @@ describe('page pieces', () => {
 
   it('names notes in scientific pitch, middle C (MIDI 60) as C4 (MIDI 1.0)', () => {
     expect([60, 61, 69, 21, 127, 0].map(noteName)).toEqual(['C4', 'C#4', 'A4', 'A0', 'G9', 'C-1']);
-  });
-
-  it('says which way a passage was transposed, from the corpus to what was played', () => {
-    expect(transposedText('chromatic', 3)).toBe('played 3 semitones higher');
-    expect(transposedText('chromatic', -1)).toBe('played 1 semitone lower');
-    expect(transposedText('morphetic', 2)).toBe('played 2 diatonic steps higher');
-    expect(transposedText('chromatic', 0)).toBe('at the same pitch');
   });
 
   it('writes durations as a clock', () => {

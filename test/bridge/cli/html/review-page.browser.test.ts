@@ -62,13 +62,15 @@ describe.skipIf(!hasChromium)(browserSuite('review and report pages in Chromium'
       expect(await rows.count()).toBe(1);
       await expect(rows.first().isVisible()).resolves.toBe(true);
       const cells = await rows.first().locator('td').allInnerTexts();
-      // #, time from the start, beat, piece, score, transposition, where in the piece, cleared.
+      // #, time from the start, bar:beat, piece, score, transposition, where in the piece, cleared. The pieces carry no
+      // time signature, so they count in 4/4: session beat 16 is bar 5, beat 1; the piece's beat 8 is its bar 3, beat 1.
+      expect(cells[2]).toBe('5:1');
       expect(cells[3]).toContain(PIECES[QUOTE.piece].title);
-      expect(cells.slice(4, 7)).toEqual(['0.940', `+${QUOTE.transposition}`, `beat ${QUOTE.from}`]);
+      expect(cells.slice(4, 7)).toEqual(['0.940', `${QUOTE.transposition} semitones up`, '3:1']);
       expect(await page.locator('.caution').innerText()).toContain(CAUTION);
       await expect(page.locator('svg[aria-label="window scores over the session"]').isVisible()).resolves.toBe(true);
       const first = page.locator('#worst-1');
-      expect(await first.locator('h3').innerText()).toContain(`resemble “${PIECES[QUOTE.piece].title}” beats ${QUOTE.from}–${QUOTE.to}, played ${QUOTE.transposition} semitones higher`);
+      expect(await first.locator('h3').innerText()).toContain(`bars 5:1–9:1 resemble “${PIECES[QUOTE.piece].title}” bars 3:1–7:1, ${QUOTE.transposition} semitones up`);
       // Matched notes are outlined solid, the others dashed: the marking does not rest on colour.
       const quotedNotes = PIECES[QUOTE.piece].notes.filter((n) => n.onset >= QUOTE.from && n.onset < QUOTE.to).length;
       const rolls = first.locator('svg');
