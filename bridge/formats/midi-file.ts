@@ -16,13 +16,13 @@
  *   readMidi('songs/reel.mid').notes.length      // → 212
  *   parseMidi(bytes, 'take-7.mid')               // throws MidiFileError: take-7.mid: the file is empty
  */
-import { readFileSync, statSync } from 'node:fs';
 import tonejs from '@tonejs/midi';
 import type { Note } from '../../core/note.js';
 import { type Key, estimateKey, fifthsOfName, keyFromSignature, spellNotes } from '../../core/spelling.js';
 import { type TempoMap, tempoMap } from '../../core/tempo.js';
 import { notesLength } from '../../core/corpus.js';
 import { type TimeSignature, normalMeter } from '../../core/bars.js';
+import { readWithin } from './score-piece.js';
 
 const { Midi } = tonejs;
 
@@ -194,13 +194,5 @@ export function parseMidi(bytes: Uint8Array, file: string, options: MidiReadOpti
 
 /** Reads and parses an SMF from disk. */
 export function readMidi(file: string, options: MidiReadOptions = {}): MidiPiece {
-  const max = options.maxBytes ?? MAX_MIDI_BYTES;
-  let size: number;
-  try {
-    size = statSync(file).size;
-  } catch (e) {
-    throw new MidiFileError(file, `cannot be read (${(e as NodeJS.ErrnoException).code ?? (e as Error).message})`);
-  }
-  if (size > max) throw new MidiFileError(file, `is ${size} bytes, over the limit of ${max} bytes`);
-  return parseMidi(readFileSync(file), file, options);
+  return parseMidi(readWithin(file, options.maxBytes ?? MAX_MIDI_BYTES, (reason) => new MidiFileError(file, reason)), file, options);
 }

@@ -13,12 +13,12 @@
  *   readScoreFile('tunes/book.abc').pieces.length  // → 12, one per tune
  *   readOnePiece('tunes/book.abc#3').title         // → the title of tune X:3
  */
-import { readFileSync, statSync } from 'node:fs';
+import { statSync } from 'node:fs';
 import { MAX_MIDI_BYTES, MidiFileError, readMidi } from './midi-file.js';
 import { parseAbc } from './abc.js';
 import { mxlScore } from './mxl.js';
 import { parseMusicXml } from './musicxml.js';
-import { type ScoreFile, type ScorePiece, type ScoreReadOptions, ScoreFileError, pieceId } from './score-piece.js';
+import { type ScoreFile, type ScorePiece, type ScoreReadOptions, ScoreFileError, pieceId, readWithin } from './score-piece.js';
 
 export type ScoreFormat = 'midi' | 'musicxml' | 'abc';
 export const SCORE_FORMATS: readonly ScoreFormat[] = ['midi', 'musicxml', 'abc'];
@@ -40,14 +40,7 @@ export const unreadableReason = (e: unknown): string => (e instanceof MidiFileEr
 const isZip = (b: Uint8Array): boolean => b[0] === 0x50 && b[1] === 0x4b && b[2] === 0x03 && b[3] === 0x04;
 
 function readBytes(file: string, max: number): Buffer {
-  let size: number;
-  try {
-    size = statSync(file).size;
-  } catch (e) {
-    throw new ScoreFileError(file, `cannot be read (${(e as NodeJS.ErrnoException).code ?? (e as Error).message})`);
-  }
-  if (size > max) throw new ScoreFileError(file, `is ${size} bytes, over the limit of ${max} bytes`);
-  const bytes = readFileSync(file);
+  const bytes = readWithin(file, max, (reason) => new ScoreFileError(file, reason));
   if (bytes.length === 0) throw new ScoreFileError(file, 'the file is empty');
   return bytes;
 }

@@ -12,6 +12,7 @@
  *   pieceId('tunes/book.abc', '3')    // → 'tunes/book.abc#3'
  *   throw new ScoreFileError('song.musicxml', 'not MusicXML (its root element is <html>)')
  */
+import { readFileSync, statSync } from 'node:fs';
 import { type Note, GRAINS_PER_BEAT } from '../../core/note.js';
 import type { Key } from '../../core/spelling.js';
 import type { TimeSignature } from '../../core/bars.js';
@@ -74,4 +75,16 @@ export function onGrid(beats: number): number {
   const grains = beats * GRAINS_PER_BEAT;
   const near = Math.round(grains);
   return Math.abs(grains - near) < 0.05 ? near / GRAINS_PER_BEAT : beats;
+}
+
+/** A file's bytes; a file that cannot be read, or is over `max` bytes, is refused with `fail(reason)`. */
+export function readWithin(file: string, max: number, fail: (reason: string) => Error): Buffer {
+  let size: number;
+  try {
+    size = statSync(file).size;
+  } catch (e) {
+    throw fail(`cannot be read (${(e as NodeJS.ErrnoException).code ?? (e as Error).message})`);
+  }
+  if (size > max) throw fail(`is ${size} bytes, over the limit of ${max} bytes`);
+  return readFileSync(file);
 }
