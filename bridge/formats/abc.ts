@@ -81,7 +81,7 @@ const MAX_REST_BARS = 10_000;
 const MAX_WHOLE_NOTES = 100_000;
 /** Highest ending number ([1, [2 … ): abcjs steps through every number up to the highest, so [99999900 would take minutes. */
 const MAX_ENDING = 64;
-/** Largest numerator and denominator of a time signature: abcjs lays out every beat of a bar, and a hundred million would end the process. */
+/** Largest numerator and denominator of a time signature (a denominator is at least 1): abcjs lays out every beat of a bar, and a hundred million would end the process. */
 const MAX_METER = 256;
 
 /** What is wrong with one tune of a file (the file's other tunes may be fine). */
@@ -203,8 +203,9 @@ function readTune(abc: string, id: string, options: { percussion?: boolean }): S
   if (ending !== undefined) throw new TuneError(`has an ending numbered ${ending}; earwitness plays endings numbered up to ${MAX_ENDING}`);
   const meters = [...tune.lines.flatMap((l) => (l.staff ?? []).map((st) => st.meter)), ...elements(tune).filter((e) => e.el_type === 'meter')];
   for (const v of meters.flatMap((m) => m?.value ?? [])) {
-    const parts = [...String(v.num).split('+'), String(v.den)].map(Number);
-    if (parts.some((n) => !(Math.abs(n) <= MAX_METER))) throw new TuneError(`has the time signature ${v.num}/${v.den}; earwitness plays time signatures of at most ${MAX_METER} over ${MAX_METER}`);
+    const [den, ...nums] = [String(v.den), ...String(v.num).split('+')].map(Number);
+    // A denominator of 0 is as fatal as a vast one: abcjs sizes the bar by dividing by it.
+    if (!(den >= 1 && den <= MAX_METER) || nums.some((n) => !(Math.abs(n) <= MAX_METER))) throw new TuneError(`has the time signature ${v.num}/${v.den}; earwitness plays time signatures of at most ${MAX_METER} over 1 to ${MAX_METER}`);
   }
   for (const el of elements(tune)) {
     delete el.gracenotes;

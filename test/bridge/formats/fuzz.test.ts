@@ -261,11 +261,13 @@ describe('the ABC reader on hostile text', () => {
     expect(tally.pieces).toBeGreaterThan(0);
   }, 60_000);
 
-  it('refuses, tune by tune, what would make abcjs end the process or stall: billions of bars of rest, vast time signatures, notes of 10^16 whole notes, an ending numbered in the millions', () => {
+  it('refuses, tune by tune, what would make abcjs end the process or stall: billions of bars of rest, vast time signatures or a denominator of 0, notes of 10^16 whole notes, an ending numbered in the millions', () => {
     // The first three ended the process with "Fatal JavaScript invalid size error" inside abcjs 6.7.2 before the reader checked for them.
     const cases: [string, RegExp][] = [
       ['Z9999999999|', /rests for 9,999,999,999 bars \(Z\)/],
       ['M:99999999/4\nC|', /has the time signature 99999999\/4/],
+      // Found by this fuzz test in CI: a denominator of 0 ended the process the same way.
+      ['M:9/0\nC|', /has the time signature 9\/0/],
       ['L:1/8\nC99999999999999999|', /whole notes long as written/],
       // Not fatal, but minutes long: abcjs steps through every ending number up to this one.
       ['|99999900 C|', /has an ending numbered 99999900/],
