@@ -24,9 +24,9 @@ import { translationKey } from './cardinality.js';
 import type { MatchWindow, WindowMatch, WindowMatcher } from './match.js';
 import { checkTolerance, toleranceMatching } from './tolerance.js';
 import { scaleTime } from './fingerprint.js';
-import { type CorpusIndex, type FlatPoints, lowerBoundAt, triplesEndingAt } from './triple-index.js';
-import { TripleLookups, keyOf, voteRarest } from './index-match.js';
-import { excerptOf, verifyShift } from './verify.js';
+import { type CorpusIndex, type FlatPoints, lowerBoundAt } from './triple-index.js';
+import { TripleLookups, voteRarest } from './index-match.js';
+import { excerptOf } from './verify.js';
 import { VoteTable } from './votes.js';
 
 /** Share of the matched material a place must hold to count as holding it. */
@@ -61,6 +61,28 @@ function pieceHolds(flat: FlatPoints, piece: number, material: readonly Point[],
   return false;
 }
 
+/**
+ * Whether a piece holds at least `need` of `material`'s points (sorted) at one
+ * translation, `shift` grains and `dp` steps from the piece to the material:
+ * one merge, stopped as soon as the answer is known.
+ */
+export function holdsAt(flat: FlatPoints, material: readonly Point[], at: { piece: number; shift: number; dp: number }, need: number): boolean {
+  const { piece, shift, dp } = at;
+  const end = flat.offsets[piece + 1];
+  let c = lowerBoundAt(flat.at, material[0].at - shift, flat.offsets[piece], end);
+  let matched = 0;
+  let missed = 0;
+  for (const w of material) {
+    const t = w.at - shift;
+    const p = w.pitch - dp;
+    while (c < end && (flat.at[c] < t || (flat.at[c] === t && flat.pitch[c] < p))) c++;
+    if (c < end && flat.at[c] === t && flat.pitch[c] === p) {
+      if (++matched >= need) return true;
+    } else if (++missed > material.length - need) return false;
+  }
+  return false;
+}
+
 /** Distinct corpus pieces holding at least NEAR_SHARE of `material` (sorted, from the corpus): the reference count. */
 export function piecesHolding(material: readonly Point[], flat: FlatPoints, exclude?: number): number {
   if (material.length === 0) return 0;
@@ -71,7 +93,7 @@ export function piecesHolding(material: readonly Point[], flat: FlatPoints, excl
 }
 
 /** Postings the indexed count reads at most (its rarest triples first), and candidate places it verifies. */
-export const PLACES_FILTER = { voteBudget: 2_000, minTriples: 6, candidates: 64 };
+export const PLACES_FILTER = { voteBudget: 1_000, minTriples: 3, candidates: 64 };
 
 /** One vote table and one set of lookup buffers for every count: fresh ones would grow to the same size each time. */
 const placeVotes = new VoteTable(14);
@@ -79,10 +101,12 @@ const placeLookups = new TripleLookups();
 
 /**
  * `piecesHolding` through the corpus index, at a cost independent of the
- * corpus's size. Candidate places come from triples of the material: those
- * of the material as a run of its own, and the source piece's own triples
- * whose three points all belong to it; their postings vote for translations
- * (rarest first, PLACES_FILTER's budget), and the most-voted are verified
+ * corpus's size. Candidate places come from the triples of the material as a
+ * run of its own (these include every triple the source piece stores among
+ * the material's notes: a corpus triple spans at most `partners` steps, and
+ * the material, a subset of the piece's notes, takes no more steps between
+ * the same notes); their postings vote for translations (rarest first,
+ * PLACES_FILTER's budget), and the most-voted are verified
  * point by point, as is the source place itself. Every piece counted holds
  * the material, so this never counts more pieces than `piecesHolding`; it
  * counts fewer when a piece holds the material among other notes that no
@@ -92,30 +116,12 @@ export function indexedPiecesHolding(index: CorpusIndex, source: number, materia
   if (material.length === 0) return 0;
   const need = needOf(material);
   const { partners } = index.shape;
+  const { offsets } = index.points;
   const horizon = toGrains(index.shape.horizonBeats);
   const lookups = placeLookups;
   lookups.clear();
   const materialAt = material.map((p) => p.at);
   for (let c = 2; c < material.length; c++) lookups.collect(index, material, materialAt, 0, c, partners, horizon);
-  // The source piece's triples among the material: the material's own positions, or -1 for the notes around it.
-  const { at, pitch, offsets } = index.points;
-  const from = lowerBoundAt(at, material[0].at, offsets[source], offsets[source + 1]);
-  const to = lowerBoundAt(at, material[material.length - 1].at + 1, from, offsets[source + 1]);
-  const around: Point[] = [];
-  const position: number[] = [];
-  for (let i = from, m = 0; i < to; i++) {
-    while (m < material.length && comparePoints(material[m], { at: at[i], pitch: pitch[i] }) < 0) m++;
-    const own = m < material.length && material[m].at === at[i] && material[m].pitch === pitch[i];
-    around.push({ at: at[i], pitch: pitch[i] });
-    position.push(own ? m : -1);
-  }
-  const aroundAt = around.map((p) => p.at);
-  for (let c = 2; c < around.length; c++) {
-    if (position[c] < 0) continue;
-    triplesEndingAt(aroundAt, 0, c, partners, horizon, (a, b) => {
-      if (position[a] >= 0 && position[b] >= 0) lookups.keep(index, keyOf(around, a, b, c), position[a]);
-    });
-  }
   const votes = placeVotes;
   votes.clear();
   lookups.sort();
@@ -123,9 +129,8 @@ export function indexedPiecesHolding(index: CorpusIndex, source: number, materia
   const skipTo = exclude === undefined ? 0 : offsets[exclude + 1];
   voteRarest(index, votes, lookups, material, { next: 0, spent: 0 }, PLACES_FILTER.voteBudget, PLACES_FILTER.minTriples, skipFrom, skipTo);
   const holding = new Set<number>();
-  const span = { points: material, startGrains: material[0].at, spanGrains: material[material.length - 1].at - material[0].at + 1 };
   const hold = (piece: number, shift: number, dp: number): void => {
-    if (!holding.has(piece) && verifyShift(index.points, span, piece, shift, dp).matched >= need) holding.add(piece);
+    if (!holding.has(piece) && holdsAt(index.points, material, { piece, shift, dp }, need)) holding.add(piece);
   };
   if (source !== exclude) hold(source, 0, 0);
   for (const e of votes.top(PLACES_FILTER.candidates)) hold(votes.pieceAt(e), votes.shiftAt(e), votes.dpAt(e));

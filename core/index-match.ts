@@ -27,7 +27,7 @@
  *   // → { piece: 7, pieceStart: 8, transposition: 5, matched: 24, excerptNotes: 24, score: 1 }
  */
 import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains } from './note.js';
-import { type MatchWindow, type WindowMatch, better, betterMatch } from './match.js';
+import { type MatchWindow, type WindowMatch, betterMatch } from './match.js';
 import { type CorpusIndex, tripleKey, triplesEndingAt } from './triple-index.js';
 import { type Candidate, type Span, type Verifier, verifyShift } from './verify.js';
 import { VoteTable } from './votes.js';
@@ -149,7 +149,7 @@ export function verifyAll(span: Span, candidates: readonly Candidate[], verify: 
   const ranked = candidates.map((c) => ({ c, bound: verify.bound(span, c) })).sort((x, y) => y.bound - x.bound);
   for (const { c, bound } of ranked) {
     if (best && bound / n < best.score) break;
-    best = better(verify.near(span, c), best);
+    best = verify.near(span, c, best);
   }
   return best;
 }
@@ -262,10 +262,10 @@ export class TripleLookups {
  * postings at [skipFrom, skipTo) (a piece left out) do not vote.
  */
 export function castVotes(index: CorpusIndex, votes: VoteTable, anchor: Point, k: number, delta: number, skipFrom = 0, skipTo = 0): void {
-  const { packed, anchors, starts } = index;
+  const { posted, anchors, starts } = index;
   for (let s = starts[k]; s < starts[k + 1]; s++) {
     const a = anchors[s];
-    if (a < skipFrom || a >= skipTo) votes.add(packed[2 * a + 1] >>> 8, anchor.at - packed[2 * a], anchor.pitch - (packed[2 * a + 1] & 255), delta);
+    if (a < skipFrom || a >= skipTo) votes.add(posted[2 * s + 1] >>> 8, anchor.at - posted[2 * s], anchor.pitch - (posted[2 * s + 1] & 255), delta);
   }
 }
 

@@ -175,6 +175,8 @@ export function buildTriples(points: FlatPoints, shape: TripleShape = CORPUS_TRI
 export interface CorpusIndex extends TriplePostings {
   /** Point i is packed[2i] = ontime, packed[2i + 1] = piece × 256 + pitch. */
   packed: Int32Array;
+  /** Posting s's anchor point packed as in `packed`, so voting reads postings in order instead of hopping over the points. */
+  posted: Int32Array;
   /** Number of pieces. */
   pieces: number;
   /** Position of a key in `keys`, or −1 when no corpus triple has it. */
@@ -208,9 +210,16 @@ export function corpusIndex(postings: TriplePostings): CorpusIndex {
       packed[2 * i + 1] = (p << 8) | pitch[i];
     }
   }
+  const { anchors } = postings;
+  const posted = new Int32Array(anchors.length * 2);
+  for (let s = 0; s < anchors.length; s++) {
+    posted[2 * s] = packed[2 * anchors[s]];
+    posted[2 * s + 1] = packed[2 * anchors[s] + 1];
+  }
   return {
     ...postings,
     packed,
+    posted,
     pieces,
     find(key) {
       for (let s = hashKey(key, bits); ; s = (s + 1) & mask) {

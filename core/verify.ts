@@ -19,7 +19,7 @@
  */
 import { type Point, GRAINS_PER_BEAT, toGrains } from './note.js';
 import { keyTranslation, translationKey } from './cardinality.js';
-import { type WindowMatch, betterMatch } from './match.js';
+import { type WindowMatch, better, betterMatch } from './match.js';
 import { type FlatPoints, lowerBoundAt } from './triple-index.js';
 import { type PitchLines, bestInPiece, checkTolerance, pitchLines } from './tolerance.js';
 
@@ -44,8 +44,12 @@ export interface Candidate {
 export interface Verifier {
   /** Beats an onset may stray; 0 = exact. */
   readonly toleranceBeats: number;
-  /** The best match at the candidate's translation (within a tolerance: near it). */
-  near(span: Span, c: Candidate): WindowMatch | null;
+  /**
+   * The best match at the candidate's translation (within a tolerance: near
+   * it), or `incumbent` when none there beats it: a search given the best so
+   * far skips what cannot beat it.
+   */
+  near(span: Span, c: Candidate, incumbent?: WindowMatch | null): WindowMatch | null;
   /**
    * At least the `matched` of `near(span, c)`, cheaply: a caller verifying
    * many candidates can verify the most promising first and stop where no
@@ -123,11 +127,12 @@ export function reachable(flat: FlatPoints, span: Span, c: Candidate, reach: num
   const { at, pitch, offsets } = flat;
   const end = offsets[c.piece + 1];
   let n = 0;
-  let i = offsets[c.piece];
+  // The first point searches the piece; the rest step on from there, a few points at a time.
+  let i = span.points.length ? lowerBoundAt(at, span.points[0].at - c.shift - reach, offsets[c.piece], end) : end;
   for (const q of span.points) {
     const t = q.at - c.shift;
     const p = q.pitch - c.dp;
-    i = lowerBoundAt(at, t - reach, i, end);
+    while (i < end && at[i] < t - reach) i++;
     for (let j = i; j < end && at[j] <= t + reach; j++) {
       if (pitch[j] === p) {
         n++;
@@ -161,7 +166,7 @@ export function verifier(flat: FlatPoints, toleranceBeats: number): Verifier {
   if (tolGrains === 0) {
     return {
       toleranceBeats,
-      near: (span, c) => verifyShift(flat, span, c.piece, c.shift, c.dp),
+      near: (span, c, incumbent = null) => better(verifyShift(flat, span, c.piece, c.shift, c.dp), incumbent),
       bound: (span) => span.points.length,
       every: (span, piece, best) => exactEvery(flat, span, piece, best),
     };
@@ -171,13 +176,13 @@ export function verifier(flat: FlatPoints, toleranceBeats: number): Verifier {
   const whole = (piece: number): PieceExcerpt => pieces.get(piece) ?? pieces.set(piece, excerptOf(flat, piece, -Infinity, Infinity)).get(piece)!;
   return {
     toleranceBeats,
-    near(span, c) {
+    near(span, c, incumbent = null) {
       // A refined shift lies up to two tolerances past the searched ones, and matches a tolerance further.
       const margin = c.within + 3 * tolGrains;
       const from = span.startGrains - c.shift;
       const around = excerptOf(flat, c.piece, from - margin, from + span.spanGrains + margin);
       const near = { translation: { at: c.shift, pitch: c.dp }, within: c.within };
-      return bestInPiece({ piece: c.piece, ...around, window: span.points, startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains, near }, null);
+      return bestInPiece({ piece: c.piece, ...around, window: span.points, startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains, near }, incumbent);
     },
     // The search's refined shifts lie within two tolerances of those it starts from, and match a tolerance further.
     bound: (span, c) => reachable(flat, span, c, c.within + 3 * tolGrains),

@@ -18,29 +18,30 @@
 
 export class VoteTable {
   private bits: number;
-  /** Hash slots: entry number + 1, or 0 for an empty slot. */
+  /**
+   * Hash slots, four int32s each: the key's two halves, the entry number + 1
+   * (0 = empty), and a spare that keeps a slot inside one cache line. A probe
+   * compares keys where it lands instead of hopping to an entry elsewhere.
+   */
   private slots: Int32Array;
-  /** Per entry: the time shift, the piece with the pitch shift, the votes, and its slot. */
-  private low: Int32Array;
-  private high: Int32Array;
+  /** Per entry, in the order first voted for: the votes, and its slot. */
   private count: Int32Array;
   private slot: Int32Array;
   private size = 0;
 
   constructor(bits = 12) {
     this.bits = bits;
-    this.slots = new Int32Array(1 << bits);
-    this.low = new Int32Array(1 << (bits - 1));
-    this.high = new Int32Array(1 << (bits - 1));
+    this.slots = new Int32Array(4 << bits);
     this.count = new Int32Array(1 << (bits - 1));
     this.slot = new Int32Array(1 << (bits - 1));
   }
 
-  /** The slot holding (low, high), or the empty slot where it would go. */
+  /** The slot (times 4) holding (low, high), or the empty slot where it would go. */
   private find(low: number, high: number): number {
-    const mask = (1 << this.bits) - 1;
-    let s = Math.imul(low ^ Math.imul(high, 0x85ebca6b), 0x9e3779b1) >>> (32 - this.bits);
-    for (let e = this.slots[s] - 1; e >= 0 && (this.low[e] !== low || this.high[e] !== high); e = this.slots[s] - 1) s = (s + 1) & mask;
+    const mask = (4 << this.bits) - 4;
+    const slots = this.slots;
+    let s = (Math.imul(low ^ Math.imul(high, 0x85ebca6b), 0x9e3779b1) >>> (32 - this.bits)) << 2;
+    while (slots[s + 2] !== 0 && (slots[s] !== low || slots[s + 1] !== high)) s = (s + 4) & mask;
     return s;
   }
 
@@ -48,19 +49,24 @@ export class VoteTable {
   add(piece: number, shift: number, dp: number, delta: number): void {
     const high = (piece << 9) | (dp + 256);
     let s = this.find(shift, high);
-    if (this.slots[s] === 0) {
+    if (this.slots[s + 2] === 0) {
       if (this.size === this.count.length) {
         this.compact();
         s = this.find(shift, high);
       }
-      const e = this.size++;
-      this.low[e] = shift;
-      this.high[e] = high;
-      this.count[e] = 0;
-      this.slot[e] = s;
-      this.slots[s] = e + 1;
+      this.claim(s, shift, high, 0);
     }
-    this.count[this.slots[s] - 1] += delta;
+    this.count[this.slots[s + 2] - 1] += delta;
+  }
+
+  /** Makes slot `s` a new entry for (low, high) with `votes`. */
+  private claim(s: number, low: number, high: number, votes: number): void {
+    const e = this.size++;
+    this.slots[s] = low;
+    this.slots[s + 1] = high;
+    this.slots[s + 2] = e + 1;
+    this.count[e] = votes;
+    this.slot[e] = s;
   }
 
   /** Keeps the entries holding votes, in order, in a table with room for as many again. */
@@ -68,29 +74,23 @@ export class VoteTable {
     let live = 0;
     for (let e = 0; e < this.size; e++) if (this.count[e] > 0) live++;
     while (live * 4 > 1 << this.bits) this.bits++;
-    const old = { low: this.low, high: this.high, count: this.count, size: this.size };
+    const old = { slots: this.slots, slot: this.slot, count: this.count, size: this.size };
     const n = 1 << this.bits;
-    this.slots = new Int32Array(n);
-    this.low = new Int32Array(n >> 1);
-    this.high = new Int32Array(n >> 1);
+    this.slots = new Int32Array(4 * n);
     this.count = new Int32Array(n >> 1);
     this.slot = new Int32Array(n >> 1);
     this.size = 0;
     for (let e = 0; e < old.size; e++) {
       if (old.count[e] <= 0) continue;
-      const s = this.find(old.low[e], old.high[e]);
-      const f = this.size++;
-      this.low[f] = old.low[e];
-      this.high[f] = old.high[e];
-      this.count[f] = old.count[e];
-      this.slot[f] = s;
-      this.slots[s] = f + 1;
+      const low = old.slots[old.slot[e]];
+      const high = old.slots[old.slot[e] + 1];
+      this.claim(this.find(low, high), low, high, old.count[e]);
     }
   }
 
   /** Forgets every vote; costs the number of entries, not the table's size. */
   clear(): void {
-    for (let e = 0; e < this.size; e++) this.slots[this.slot[e]] = 0;
+    for (let e = 0; e < this.size; e++) this.slots[this.slot[e] + 2] = 0;
     this.size = 0;
   }
 
@@ -100,15 +100,15 @@ export class VoteTable {
   }
 
   pieceAt(entry: number): number {
-    return this.high[entry] >>> 9;
+    return this.slots[this.slot[entry] + 1] >>> 9;
   }
 
   shiftAt(entry: number): number {
-    return this.low[entry];
+    return this.slots[this.slot[entry]];
   }
 
   dpAt(entry: number): number {
-    return (this.high[entry] & 511) - 256;
+    return (this.slots[this.slot[entry] + 1] & 511) - 256;
   }
 
   countAt(entry: number): number {

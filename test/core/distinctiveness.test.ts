@@ -12,7 +12,8 @@ import { describe, expect, test } from 'vitest';
 import type { Note, PitchMode } from '../../core/note.js';
 import { toPoints } from '../../core/note.js';
 import { type Corpus, corpusPoints } from '../../core/corpus.js';
-import { type PieceCount, MIN_FIGURE_NOTES, indexedPiecesHolding, matchedMaterial, piecesHolding, withDistinctiveness } from '../../core/distinctiveness.js';
+import { type PieceCount, MIN_FIGURE_NOTES, holdsAt, indexedPiecesHolding, matchedMaterial, piecesHolding, withDistinctiveness } from '../../core/distinctiveness.js';
+import { verifyShift } from '../../core/verify.js';
 import type { CorpusPoints } from '../../core/corpus.js';
 import { exactMatcher, matchCorpusOf } from '../helpers/matchers.js';
 import { windows } from '../../core/windows.js';
@@ -147,6 +148,24 @@ describe('counting through the index', () => {
     }
     expect(counted).toBeGreaterThan(100);
     expect(same / counted).toBeGreaterThanOrEqual(0.9);
+  });
+
+  test('a place holds the material exactly when the full score of that translation matches the share asked, whatever the share', () => {
+    const material = view.points[3].slice(10, 30);
+    const span = { points: material, startGrains: material[0].at, spanGrains: material[material.length - 1].at - material[0].at + 1 };
+    let held = 0;
+    for (let piece = 0; piece < 12; piece++) {
+      for (const [shift, dp] of [[0, 0], [material[0].at - flat.at[flat.offsets[piece] + 5], material[0].pitch - flat.pitch[flat.offsets[piece] + 5]], [toGrains(1), 2]]) {
+        const matched = verifyShift(flat, span, piece, shift, dp).matched;
+        for (const need of [1, 5, 16, 20]) {
+          expect(holdsAt(flat, material, { piece, shift, dp }, need)).toBe(matched >= need);
+          if (matched >= need) held++;
+        }
+      }
+    }
+    // The source place itself holds all 20 notes: the comparison above is not all "no".
+    expect(holdsAt(flat, material, { piece: 3, shift: 0, dp: 0 }, 20)).toBe(true);
+    expect(held).toBeGreaterThan(4);
   });
 
   test('material of fewer than three notes is no figure: distinctiveness 0 both ways', () => {
