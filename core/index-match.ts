@@ -263,6 +263,7 @@ export class TripleLookups {
  */
 export function castVotes(index: CorpusIndex, votes: VoteTable, anchor: Point, k: number, delta: number, skipFrom = 0, skipTo = 0): void {
   const { posted, anchors, starts } = index;
+  index.gather(k);
   for (let s = starts[k]; s < starts[k + 1]; s++) {
     const a = anchors[s];
     if (a < skipFrom || a >= skipTo) votes.add(posted[2 * s + 1] >>> 8, anchor.at - posted[2 * s], anchor.pitch - (posted[2 * s + 1] & 255), delta);

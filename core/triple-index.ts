@@ -175,8 +175,13 @@ export function buildTriples(points: FlatPoints, shape: TripleShape = CORPUS_TRI
 export interface CorpusIndex extends TriplePostings {
   /** Point i is packed[2i] = ontime, packed[2i + 1] = piece × 256 + pitch. */
   packed: Int32Array;
-  /** Posting s's anchor point packed as in `packed`, so voting reads postings in order instead of hopping over the points. */
+  /**
+   * Posting s's anchor point packed as in `packed`, so voting reads postings
+   * in order instead of hopping over the points: filled in for key position k
+   * by `gather(k)`, the first time it is voted from, so loading pays nothing.
+   */
   posted: Int32Array;
+  gather(k: number): void;
   /** Number of pieces. */
   pieces: number;
   /** Position of a key in `keys`, or −1 when no corpus triple has it. */
@@ -210,17 +215,23 @@ export function corpusIndex(postings: TriplePostings): CorpusIndex {
       packed[2 * i + 1] = (p << 8) | pitch[i];
     }
   }
-  const { anchors } = postings;
+  const { anchors, starts } = postings;
+  // Zero pages cost no memory until written: only the keys voted from are ever gathered.
   const posted = new Int32Array(anchors.length * 2);
-  for (let s = 0; s < anchors.length; s++) {
-    posted[2 * s] = packed[2 * anchors[s]];
-    posted[2 * s + 1] = packed[2 * anchors[s] + 1];
-  }
+  const gathered = new Uint8Array(keys.length);
   return {
     ...postings,
     packed,
     posted,
     pieces,
+    gather(k) {
+      if (gathered[k]) return;
+      for (let s = starts[k]; s < starts[k + 1]; s++) {
+        posted[2 * s] = packed[2 * anchors[s]];
+        posted[2 * s + 1] = packed[2 * anchors[s] + 1];
+      }
+      gathered[k] = 1;
+    },
     find(key) {
       for (let s = hashKey(key, bits); ; s = (s + 1) & mask) {
         const k = slots[s] - 1;
