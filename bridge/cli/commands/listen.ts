@@ -19,8 +19,7 @@ import { defaultLogFile } from '../../formats/paths.js';
 import { printNotice } from '../notices.js';
 import { EARLY_FALLBACK, INPUTS, type Overrides, loadPreset, resolveThreshold, withOverrides } from '../../formats/presets.js';
 import { printJson } from '../options.js';
-import { parseNumber } from '../usage.js';
-import { UsageError } from '../../formats/user-error.js';
+import { UsageError, parseNumber } from '../../formats/user-error.js';
 
 export const DEFAULT_OSC_PORT = 9750;
 export const DEFAULT_HTTP_PORT = 9751;
