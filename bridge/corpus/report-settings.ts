@@ -14,6 +14,8 @@
 import type { PitchMode } from '../../core/note.js';
 import type { MatchMode } from '../../core/pipeline.js';
 import { PITCH_CHOICES, parsePitch } from '../../core/words.js';
+import { DEFAULT_WINDOW } from '../../core/windows.js';
+import { DEFAULT_MIN_NOTES } from '../../core/report.js';
 import { UsageError, parseNumber, positive } from '../formats/user-error.js';
 
 /** What scoring queries against a corpus takes: report, check, and the daemon's /report. */
@@ -27,6 +29,9 @@ export interface ReportOptions {
   exact?: boolean;
   minNotes: number;
 }
+
+/** The settings when none is given: 16-beat windows every 8 beats, chromatic, exact timing, 8 notes at least, seed 1. */
+export const REPORT_DEFAULTS = { window: DEFAULT_WINDOW.window, hop: DEFAULT_WINDOW.hop, pitch: 'chromatic', seed: 1, tolerance: 0, minNotes: DEFAULT_MIN_NOTES } as const satisfies ReportOptions;
 
 export const modeOf = (o: Pick<ReportOptions, 'tolerance' | 'tempoFree'>): MatchMode => ({ tolerance: o.tolerance, tempoFree: o.tempoFree ?? false });
 

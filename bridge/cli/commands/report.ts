@@ -5,7 +5,7 @@ import type { CorpusPoints } from '../../../core/corpus.js';
 import { loadQueries } from '../../corpus/corpus-files.js';
 import type { OpenedCorpus } from '../../corpus/open-corpus.js';
 import { documentText, matcherFor, readableQueries, reportDocument, scoreQueries as scoreWith } from '../../corpus/report-document.js';
-import { type ReportOptions, modeOf } from '../../corpus/report-settings.js';
+import { REPORT_DEFAULTS, type ReportOptions, modeOf } from '../../corpus/report-settings.js';
 import { openCorpusTold } from '../notices.js';
 import { type BaselineFile, checkBaselineFits, readBaselineFile } from '../../formats/baseline-file.js';
 import { writeReportHtml } from '../html/report-page.js';
@@ -64,7 +64,7 @@ export function computeBaseline(opened: OpenedCorpus, o: CorpusFlags & { samples
 export function registerReport(cli: Command): void {
   corpusCommand(cli, 'report', 'originality report of score files (MIDI, MusicXML, ABC; or folders of them) against a corpus')
     .argument('<query...>', 'score files (MIDI, MusicXML, ABC) or folders')
-    .option('--seed <n>', 'seed of the bootstrap interval', wholeNumber('--seed'), 1)
+    .option('--seed <n>', 'seed of the bootstrap interval', wholeNumber('--seed'), REPORT_DEFAULTS.seed)
     .option('--csv <file>', 'also write one row per window to this CSV file')
     .option('--html <file>', 'also write a self-contained HTML report (several query folders show as a series)')
     .option('--baseline <file>', 'human baseline JSON (from "earwitness baseline --json") to show beside it in the HTML', readBaselineFile)
