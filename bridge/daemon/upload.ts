@@ -7,7 +7,7 @@
  * it passes the limit (or at once, when its Content-Length already does),
  * so an oversized body is never held in memory.
  *
- * Every refusal is an `Refusal`: the HTTP status (RFC 9110 §15) and words
+ * Every refusal is a `Refusal`: the HTTP status (RFC 9110 §15) and words
  * saying what was wrong and what to send instead.
  *
  * @example
