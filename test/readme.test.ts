@@ -16,6 +16,9 @@
  * - `oscsend localhost 9750 …` (Debian's liblo-tools; skipped by name when
  *   absent): sent to the running daemon's port; /health must count it and
  *   report no bad input.
+ * - `curl … http://127.0.0.1:9751/report…` (skipped by name when curl is
+ *   absent): sent to the running daemon's port; the answer must be a report
+ *   document, and the first one's originality the figure the README quotes.
  * - `npm ci` and `npm test` are not run here: the first is the install this
  *   suite runs inside, the second is this suite.
  *
@@ -51,11 +54,12 @@ function shCommands(markdown: string): { section: string; line: string }[] {
   return out;
 }
 
-type Kind = 'shell' | 'daemon' | 'demo' | 'osc' | 'not-run';
+type Kind = 'shell' | 'daemon' | 'demo' | 'osc' | 'http' | 'not-run';
 function kindOf(line: string): Kind {
   if (line === 'npm ci && npm start' || line === 'npm run demo') return line === 'npm run demo' ? 'demo' : 'daemon';
   if (line === 'npm test') return 'not-run';
   if (line.startsWith('oscsend ')) return 'osc';
+  if (line.startsWith('curl ')) return 'http';
   const m = new RegExp(`^${RUN} (listen|demo)( |$)`).exec(line);
   if (m && !line.includes('--help')) return m[1] === 'demo' ? 'demo' : 'daemon';
   if (line.startsWith(`${RUN} `) || /^(cp|mkdir) /.test(line)) return 'shell';
@@ -75,6 +79,7 @@ symlinkSync(join(ROOT, 'dist'), join(sandbox, 'dist'));
 cpSync(join(ROOT, 'presets'), join(sandbox, 'presets'), { recursive: true });
 const env = { ...process.env, XDG_DATA_HOME: join(sandbox, 'xdg') };
 const oscsend = tool('oscsend', 'liblo-tools');
+const curl = tool('curl', 'curl');
 
 let running: (Launched & { line: string }) | null = null;
 
@@ -138,6 +143,20 @@ describe('the README', () => {
         const after = await eventually(() => health(running!.http), expectations[address]);
         expect(expectations[address](after), JSON.stringify(after)).toBe(true);
         expect(after.badInput).toEqual({});
+      });
+    } else if (kind === 'http') {
+      it.skipIf(!curl.path)(`${title}${curl.path ? '' : ` — ${curl.label}`}`, () => {
+        expect(running, 'a curl line follows a command that starts the daemon').not.toBeNull();
+        const sent = line.replaceAll('127.0.0.1:9751', `127.0.0.1:${running!.http}`);
+        const r = spawnSync('sh', ['-c', sent], { cwd: sandbox, env, encoding: 'utf8', timeout: 60_000 });
+        expect(r.status, r.stderr).toBe(0);
+        const answer = JSON.parse(r.stdout) as Record<string, unknown>;
+        expect(Object.keys(answer), r.stdout).toEqual(expect.arrayContaining(['originality', 'queries', 'settings', 'caution', 'mode', 'skipped']));
+        if (commands.find((c) => kindOf(c.line) === 'http')!.line === line) {
+          const quoted = /The first answers `\{"originality": ([\d.]+)…/.exec(README);
+          expect(quoted, 'the README quotes the first answer').not.toBeNull();
+          expect(String(answer.originality).startsWith(quoted![1]), String(answer.originality)).toBe(true);
+        }
       });
     } else if (kind === 'daemon' || kind === 'demo') {
       it(title, async () => {

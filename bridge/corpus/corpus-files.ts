@@ -14,9 +14,9 @@ import { readdirSync, realpathSync, statSync } from 'node:fs';
 import { join, relative, sep } from 'node:path';
 import type { Corpus, Piece } from '../../core/corpus.js';
 import type { QueryInput } from '../../core/report.js';
-import { MidiFileError } from '../formats/midi-file.js';
-import { type ScoreReadOptions, pieceId } from '../formats/score-piece.js';
-import { formatOf, readScoreFile, unreadableReason } from '../formats/read-file.js';
+import { MidiFileError, parseMidi } from '../formats/midi-file.js';
+import { type ScoreFile, type ScoreReadOptions, pieceId } from '../formats/score-piece.js';
+import { formatOf, midiScore, readScoreFile, unreadableReason } from '../formats/read-file.js';
 
 
 export interface Skipped {
@@ -107,17 +107,32 @@ export function loadQueries(paths: readonly string[], options: ScoreReadOptions 
     if (!statSafe(p)) throw new MidiFileError(p, 'no such file or folder');
     const found = isDir ? walkCorpus(p) : { files: [p], skipped: [] };
     skipped.push(...found.skipped.map((x) => ({ ...x, file: portable(join(p, x.file)) })));
-    for (const file of found.files) {
-      try {
-        const read = readScoreFile(file, options);
-        for (const piece of read.pieces) queries.push({ file: pieceId(portable(file), piece.id), notes: piece.notes, meter: piece.meters, folder: isDir ? portable(p) : null });
-        for (const s of read.skipped) skipped.push({ file: pieceId(portable(file), s.id), error: s.error });
-      } catch (e) {
-        skipped.push({ file: portable(file), error: unreadableReason(e) });
-      }
-    }
+    for (const file of found.files) addQueries(queries, skipped, portable(file), isDir ? portable(p) : null, () => readScoreFile(file, options));
   }
   return { queries, skipped };
+}
+
+/**
+ * Queries from files given as bytes (a request's body) in place of paths:
+ * Standard MIDI Files, each named as its sender named it. Unreadable ones
+ * are listed, not fatal, as `loadQueries` lists them.
+ */
+export function loadQueryBytes(files: readonly { name: string; bytes: Uint8Array }[], options: ScoreReadOptions = {}): { queries: (QueryInput & { folder: string | null })[]; skipped: Skipped[] } {
+  const queries: (QueryInput & { folder: string | null })[] = [];
+  const skipped: Skipped[] = [];
+  for (const f of files) addQueries(queries, skipped, f.name, null, () => midiScore(parseMidi(f.bytes, f.name, options)));
+  return { queries, skipped };
+}
+
+/** The pieces of one file as queries named `file` (`file#id` for a tune of several); the file or its pieces that cannot be read, as skipped. */
+function addQueries(queries: (QueryInput & { folder: string | null })[], skipped: Skipped[], file: string, folder: string | null, read: () => ScoreFile): void {
+  try {
+    const score = read();
+    for (const piece of score.pieces) queries.push({ file: pieceId(file, piece.id), notes: piece.notes, meter: piece.meters, folder });
+    for (const s of score.skipped) skipped.push({ file: pieceId(file, s.id), error: s.error });
+  } catch (e) {
+    skipped.push({ file, error: unreadableReason(e) });
+  }
 }
 
 function statSafe(p: string) {

@@ -33,6 +33,8 @@ import { type OscOutput, type OscTarget, openOscOutput } from './osc-output.js';
 import { packageRoot, packageVersion } from '../formats/package-root.js';
 import { type CorpusSummary, type Scorer, startScorer } from './scorer.js';
 import { watchIndexFile } from './index-watch.js';
+import { reportService } from './reports.js';
+import { DEFAULT_REPORT_LIMIT, reportRoute } from './report-route.js';
 import { type WebServer, startWebServer } from './web-server.js';
 
 export interface DaemonOptions {
@@ -45,6 +47,8 @@ export interface DaemonOptions {
   host?: string;
   /** Asked of every web request when given. */
   token?: string | null;
+  /** Largest `POST /report` body in bytes (default DEFAULT_REPORT_LIMIT); 0 turns /report off. */
+  reportLimit?: number;
   oscOut: OscTarget | null;
   midi: { input: string | null; thru: string | null; channels: ReadonlySet<number> | null };
   /** Hear channel 10 (General MIDI percussion) as pitches; left out when absent, as in corpus files. */
@@ -215,6 +219,10 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
   const indexWatch = watchIndexFile(corpus, notice);
   cleanup.push(() => indexWatch.close());
 
+  const reportLimit = options.reportLimit ?? DEFAULT_REPORT_LIMIT;
+  const reports = reportService({ corpus: options.corpus, loaded: corpus, stale: () => (indexWatch.onDisk() === 'as loaded' ? null : `was ${indexWatch.onDisk()}`) });
+  cleanup.push(() => reports.close());
+
   const handle = (command: InputCommand, atMs: number): void => {
     if (isPercussion(command) && !options.percussion) return;
     dispatch({ type: 'input', command, atMs, now: Date.now() });
@@ -283,6 +291,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     scheduled: osc?.scheduled() ?? 0,
     clients: web?.clients() ?? 0,
     slowClients: web?.slowClients() ?? 0,
+    reportsWaiting: reports.waiting(),
     oscOutFailures: oscOut?.failures() ?? 0,
     meter,
     clock: { source: state.clock.source, running: state.clock.running, beat: beatAt(state.clock, Date.now()), bpm: state.clock.bpm },
@@ -294,7 +303,8 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
   });
 
   try {
-    web = await startWebServer({ port: options.httpPort, host: options.host, token: options.token, uiDir: options.uiDir ?? join(packageRoot(), 'ui', 'dist'), hello, health });
+    web = await startWebServer({ port: options.httpPort, host: options.host, token: options.token, uiDir: options.uiDir ?? join(packageRoot(), 'ui', 'dist'), hello, health,
+      ...(reportLimit > 0 ? { report: reportRoute({ reports, limit: reportLimit }) } : {}) });
   } catch (e) {
     await undo();
     throw e;

@@ -3,15 +3,16 @@
  * another address needs a token, and a token given is always asked for):
  * `GET /` the overlay (from
  * ui/dist, or a plain placeholder page until it is built), `GET /health`
- * the counters as JSON, and the WebSocket `/events` pushing DaemonEvents.
+ * the counters as JSON, the WebSocket `/events` pushing DaemonEvents, and
+ * `POST /report` (report-route.ts) scoring MIDI files sent to it.
  *
  * A page elsewhere on the web can reach 127.0.0.1 from the performer's own
  * browser, so: a WebSocket handshake whose Origin is present and not this
  * daemon's page is refused (RFC 6455 §10.2 leaves that decision to the
  * server), and any request whose Host is not this daemon's (DNS rebinding)
  * is refused too (listening on every address, 0.0.0.0, any Host is
- * answered: the token guards it). Requests are small by construction — no bodies, short
- * URLs, a few clients, incoming WebSocket messages capped (clients need not
+ * answered: the token guards it). Requests are small by construction — no bodies but
+ * /report's, which are counted against its limit as they arrive, short URLs, a few clients, incoming WebSocket messages capped (clients need not
  * send anything) — and a client too slow to keep up is let go (it
  * reconnects and gets a fresh `hello` with the recent history).
  *
@@ -32,6 +33,7 @@ import { CAUTION } from '../../core/report.js';
 import { contentType, staticFile } from './static-files.js';
 import { DEFAULT_HOST, isWildcard, tokenGate, urlHost } from './access.js';
 import { UsageError } from '../formats/user-error.js';
+import type { RouteAnswer } from './report-route.js';
 
 export const MAX_URL_LENGTH = 2048;
 export const MAX_CLIENTS = 32;
@@ -39,6 +41,8 @@ export const MAX_CLIENTS = 32;
 export const MAX_CLIENT_MESSAGE = 4096;
 /** Queued bytes after which a client is too slow and is let go. */
 export const MAX_CLIENT_BACKLOG = 1 << 20;
+/** Most bytes of a refused request body read and dropped before the connection is cut. */
+export const MAX_DISCARDED = 64 << 20;
 
 export interface WebServerOptions {
   port: number;
@@ -49,6 +53,8 @@ export interface WebServerOptions {
   uiDir: string;
   hello(): HelloEvent;
   health(): Record<string, unknown>;
+  /** Answers `POST /report`; absent, /report is off. */
+  report?: (req: IncomingMessage, url: URL) => Promise<RouteAnswer>;
 }
 
 export interface WebServer {
@@ -96,6 +102,7 @@ export async function startWebServer(options: WebServerOptions): Promise<WebServ
     if (url.length > MAX_URL_LENGTH) return text(res, 414, `request URL over ${MAX_URL_LENGTH} characters`);
     if (!hostAllowed(req.headers.host)) return text(res, 421, `this daemon answers to ${[...ownHosts()].join(', ')} only`);
     if (!gate.allows(req, port)) return text(res, 401, unauthorized.replace('PORT', String(port)), { 'www-authenticate': 'Bearer realm="earwitness"' });
+    if (url.split('?')[0] === '/report') return report(req, res);
     if (req.method !== 'GET' && req.method !== 'HEAD') return text(res, 405, 'only GET and HEAD', { allow: 'GET, HEAD' });
     if (Number(req.headers['content-length'] ?? 0) > 0 || req.headers['transfer-encoding']) return text(res, 413, 'requests to this daemon carry no body');
     const head = req.method === 'HEAD';
@@ -110,6 +117,28 @@ export async function startWebServer(options: WebServerOptions): Promise<WebServ
     // The page's own script and style cannot carry ?token=: the cookie carries it for them.
     const cookie = gate.cookie(req, port);
     send(res, 200, contentType(file), await readFile(file), head, cookie ? { 'set-cookie': cookie } : {});
+  };
+
+  const report = async (req: IncomingMessage, res: ServerResponse): Promise<void> => {
+    if (!options.report) return text(res, 404, 'POST /report is off: this daemon was started with --report-limit 0');
+    if (req.method !== 'POST') return text(res, 405, 'POST MIDI files to /report', { allow: 'POST' });
+    const a = await options.report(req, new URL(req.url ?? '/', 'http://localhost'));
+    send(res, a.status, 'application/json', a.body, false, a.headers);
+    if (a.unread) discard(req);
+  };
+  /**
+   * The rest of a refused body, read and dropped, so that a client still
+   * sending it (most do not read an answer before they have sent all) sees
+   * the answer rather than a reset connection; past MAX_DISCARDED bytes,
+   * or the request timeout, the connection is cut.
+   */
+  const discard = (req: IncomingMessage): void => {
+    let dropped = 0;
+    req.on('data', (chunk: Buffer) => {
+      dropped += chunk.length;
+      if (dropped > MAX_DISCARDED) req.socket.destroy();
+    });
+    req.resume();
   };
 
   const refuse = (socket: Duplex, status: number, reason: string): void => {

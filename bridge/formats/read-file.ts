@@ -14,7 +14,7 @@
  *   readOnePiece('tunes/book.abc#3').title         // → the title of tune X:3
  */
 import { statSync } from 'node:fs';
-import { MAX_MIDI_BYTES, MidiFileError, readMidi } from './midi-file.js';
+import { MAX_MIDI_BYTES, MidiFileError, type MidiPiece, readMidi } from './midi-file.js';
 import { parseAbc } from './abc.js';
 import { mxlScore } from './mxl.js';
 import { parseMusicXml } from './musicxml.js';
@@ -45,13 +45,13 @@ function readBytes(file: string, max: number): Buffer {
   return bytes;
 }
 
+/** An SMF as a score file of one piece. */
+export const midiScore = (m: MidiPiece): ScoreFile => ({ pieces: [{ id: null, title: m.title, notes: m.notes, key: m.key, beats: m.beats, meters: [...m.meter] }], skipped: [] });
+
 /** Reads a score file of any format. Throws MidiFileError or ScoreFileError naming the file when it cannot be read at all. */
 export function readScoreFile(file: string, options: ScoreReadOptions = {}): ScoreFile {
   const format = formatOf(file);
-  if (format === 'midi' || format === null) {
-    const m = readMidi(file, options);
-    return { pieces: [{ id: null, title: m.title, notes: m.notes, key: m.key, beats: m.beats, meters: [...m.meter] }], skipped: [] };
-  }
+  if (format === 'midi' || format === null) return midiScore(readMidi(file, options));
   const bytes = readBytes(file, options.maxBytes ?? MAX_MIDI_BYTES);
   if (format === 'abc') return parseAbc(new TextDecoder('utf-8').decode(bytes), file, options);
   const xml = isZip(bytes) ? mxlScore(bytes, file).bytes : bytes;

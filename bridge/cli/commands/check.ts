@@ -29,9 +29,10 @@ import type { OpenedCorpus } from '../../corpus/open-corpus.js';
 import { openCorpusTold } from '../notices.js';
 import { printJson } from '../options.js';
 import { pct } from '../report-text.js';
-import { EXIT, Outcome, parseNumber, wholeNumber } from '../usage.js';
-import { UsageError } from '../../formats/user-error.js';
-import { type CorpusFlags, computeBaseline, corpusCommand, modeOf, readQueries, scoreQueries } from './report.js';
+import { EXIT, Outcome } from '../usage.js';
+import { UsageError, parseNumber, wholeNumber } from '../../formats/user-error.js';
+import { modeOf } from '../../corpus/report-settings.js';
+import { type CorpusFlags, computeBaseline, corpusCommand, readQueries, scoreQueries } from './report.js';
 
 interface CheckFlags extends CorpusFlags {
   minOriginality?: number;

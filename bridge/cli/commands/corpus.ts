@@ -30,8 +30,7 @@ import { type Baseline, CAUTION, humanBaseline } from '../../../core/report.js';
 import { openCorpusTold } from '../notices.js';
 import { BUILT_IN_PRESETS, loadPreset } from '../../formats/presets.js';
 import { type ProgressFn, progressBar } from '../progress.js';
-import { positive, wholeNumber } from '../usage.js';
-import { UsageError } from '../../formats/user-error.js';
+import { UsageError, positive, wholeNumber } from '../../formats/user-error.js';
 
 /** "8,16" → [8, 16]: positive beat counts. */
 function beatList(v: string): number[] {

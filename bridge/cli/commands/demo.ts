@@ -28,9 +28,9 @@ import { startOscPlayer } from '../../demo/osc-player.js';
 import { demoTunes } from '../../demo/tunes.js';
 import type { WarningEvent } from '../../../contract/events.js';
 import { defaultLogFile } from '../../formats/paths.js';
+import { parseNumber, wholeNumber } from '../../formats/user-error.js';
 import { printNotice } from '../notices.js';
 import { loadPreset, resolveThreshold } from '../../formats/presets.js';
-import { parseNumber, wholeNumber } from '../usage.js';
 import { DEFAULT_HTTP_PORT, DEFAULT_OSC_PORT, portNumber, stopOnSignals } from './listen.js';
 
 /** Longest context the chain follows by default: long enough to quote whole phrases (see above). */

@@ -19,8 +19,8 @@ import { defaultLogFile } from '../../formats/paths.js';
 import { printNotice } from '../notices.js';
 import { EARLY_FALLBACK, INPUTS, type Overrides, loadPreset, resolveThreshold, withOverrides } from '../../formats/presets.js';
 import { printJson } from '../options.js';
-import { parseNumber } from '../usage.js';
-import { UsageError } from '../../formats/user-error.js';
+import { UsageError, parseNumber, wholeNumber } from '../../formats/user-error.js';
+import { DEFAULT_REPORT_LIMIT } from '../../daemon/report-route.js';
 
 export const DEFAULT_OSC_PORT = 9750;
 export const DEFAULT_HTTP_PORT = 9751;
@@ -62,6 +62,7 @@ interface ListenFlags extends Overrides {
   httpPort: number;
   host: string;
   token?: string;
+  reportLimit: number;
   oscOut?: string;
   midiIn?: string;
   thru?: string;
@@ -98,7 +99,8 @@ export function registerListen(cli: Command): void {
     .option('--osc-port <port>', 'UDP port for OSC in, on 127.0.0.1 (0 = any free port)', portNumber('--osc-port'), DEFAULT_OSC_PORT)
     .option('--http-port <port>', 'port of the overlay, /health and /events, on --host (0 = any free port)', portNumber('--http-port'), DEFAULT_HTTP_PORT)
     .option('--host <addr>', 'address of the overlay, /health and /events: 127.0.0.1 is this machine only; any other (0.0.0.0 = all) needs --token. OSC in stays on 127.0.0.1', DEFAULT_HOST)
-    .option('--token <secret>', 'a secret every request to the overlay, /health and /events must then carry (?token=SECRET, or Authorization: Bearer SECRET)')
+    .option('--token <secret>', 'a secret every request to the overlay, /health, /events and /report must then carry (?token=SECRET, or Authorization: Bearer SECRET)')
+    .option('--report-limit <bytes>', `largest body POST /report accepts, in bytes (0 turns /report off); default ${DEFAULT_REPORT_LIMIT} (16 MiB, the largest MIDI file report reads)`, wholeNumber('--report-limit'), DEFAULT_REPORT_LIMIT)
     .option('--osc-out <host:port>', 'also send /ew/warning and /ew/score there')
     .option('--midi-in <name>', 'MIDI input port to open (default: a virtual port "earwitness in"; see earwitness ports)')
     .option('--thru <name>', 'forward MIDI input to this output port')
@@ -124,6 +126,7 @@ export function registerListen(cli: Command): void {
         httpPort: o.httpPort,
         host: o.host,
         token: o.token ?? null,
+        reportLimit: o.reportLimit,
         oscOut: o.oscOut === undefined ? null : parseOscTarget(o.oscOut),
         midi: { input: o.midiIn ?? null, thru: o.thru ?? null, channels: o.channels ?? null },
         percussion: o.percussion ?? false,
@@ -144,6 +147,7 @@ export function registerListen(cli: Command): void {
         o.percussion ? 'channel 10 (percussion): heard as pitches (--percussion)' : 'channel 10 (percussion): left out, as in corpus files; --percussion hears it',
         s.osc ? `OSC: udp 127.0.0.1:${s.osc.port} (/ew/note, /ew/on, /ew/off, /ew/tempo, /ew/beat, /ew/reset, /ew/meter)` : 'OSC: not listening (the preset listens to MIDI only)',
         `overlay: ${s.http.url}${o.token ? `?token=${o.token}` : ''}${isWildcard(o.host) ? ' (and on every other address of this machine)' : ''}`,
+        o.reportLimit > 0 ? `reports: POST MIDI files to ${s.http.url}report (bodies up to ${o.reportLimit} bytes)` : 'reports: off (--report-limit 0)',
         `log: ${s.log.file} (session ${s.log.session})`,
         `listening osc=${s.osc?.port ?? 0} http=${s.http.port}`,
         'Ctrl-C stops.',

@@ -1,37 +1,25 @@
 import { writeFileSync } from 'node:fs';
 import type { Command } from 'commander';
-import type { PitchMode } from '../../../core/note.js';
-import type { MatchMode } from '../../../core/pipeline.js';
-import { type Baseline, type OriginalityReport, type QueryInput, humanBaseline, originalityReport } from '../../../core/report.js';
+import { type Baseline, type OriginalityReport, type QueryInput, humanBaseline } from '../../../core/report.js';
 import type { CorpusPoints } from '../../../core/corpus.js';
-import type { WindowMatcher } from '../../../core/match.js';
 import { loadQueries } from '../../corpus/corpus-files.js';
 import type { OpenedCorpus } from '../../corpus/open-corpus.js';
+import { documentText, matcherFor, readableQueries, reportDocument, scoreQueries as scoreWith } from '../../corpus/report-document.js';
+import { REPORT_DEFAULTS, type ReportOptions, modeOf } from '../../corpus/report-settings.js';
 import { openCorpusTold } from '../notices.js';
 import { type BaselineFile, checkBaselineFits, readBaselineFile } from '../../formats/baseline-file.js';
 import { writeReportHtml } from '../html/report-page.js';
 import { hopOption, minNotesOption, pitchOption, printJson, tempoFreeOption, toleranceOption, windowOption } from '../options.js';
 import { progressBar } from '../progress.js';
 import { baselineText, reportCsv, reportText } from '../report-text.js';
-import { wholeNumber } from '../usage.js';
-import { UsageError } from '../../formats/user-error.js';
+import { UsageError, wholeNumber } from '../../formats/user-error.js';
 
 /** The flags of every command that scores against a corpus (report, baseline, check). */
-export interface CorpusFlags {
+export interface CorpusFlags extends ReportOptions {
   corpus: string;
-  window: number;
-  hop: number;
-  pitch: PitchMode;
-  seed: number;
   percussion?: boolean;
   json?: boolean;
-  tolerance: number;
-  tempoFree?: boolean;
-  exact?: boolean;
-  minNotes: number;
 }
-
-export const modeOf = (o: CorpusFlags): MatchMode => ({ tolerance: o.tolerance, tempoFree: o.tempoFree ?? false });
 
 export const corpusCommand = (cli: Command, name: string, description: string): Command =>
   cli
@@ -48,24 +36,19 @@ export const corpusCommand = (cli: Command, name: string, description: string): 
     .option('--percussion', 'keep channel 10 (percussion)')
     .option('--json', 'print JSON');
 
-/** The matcher the batch commands score with: the corpus's one entry point, in the chosen matching mode. */
-const matcherOf = (opened: OpenedCorpus, o: CorpusFlags): WindowMatcher => opened.matcher({ pitch: o.pitch, window: o.window, mode: modeOf(o), exact: o.exact });
-
 /** Reads the query files: each unreadable one is named on stderr and listed; none readable at all is an error. */
 export function readQueries(paths: string[], o: CorpusFlags): ReturnType<typeof loadQueries> {
   const read = loadQueries(paths, o);
   for (const s of read.skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
-  if (read.queries.length === 0) throw new UsageError(`no readable query file among ${paths.join(', ')}`);
-  return read;
+  return readableQueries(read, paths);
 }
 
 /** Every window of every query scored against the corpus: the report, and what `check` judges. */
 export function scoreQueries(opened: OpenedCorpus, queries: QueryInput[], o: CorpusFlags): { view: CorpusPoints; report: OriginalityReport } {
-  const view = opened.view(o.pitch);
   const bar = progressBar('scoring');
-  const report = originalityReport(queries, view, matcherOf(opened, o), o, bar.tick);
+  const scored = scoreWith(opened, queries, o, bar.tick);
   bar.stop();
-  return { view, report };
+  return scored;
 }
 
 /** The corpus's human baseline: what `baseline` prints, and what `check --against-baseline` computes when none is stored. */
@@ -73,7 +56,7 @@ export function computeBaseline(opened: OpenedCorpus, o: CorpusFlags & { samples
   if (o.samples < 1) throw new UsageError('--samples must be at least 1');
   const view = opened.view(o.pitch);
   const bar = progressBar('baseline');
-  const b = humanBaseline(view, matcherOf(opened, o), o, bar.tick);
+  const b = humanBaseline(view, matcherFor(opened, o), o, bar.tick);
   bar.stop();
   return b;
 }
@@ -81,7 +64,7 @@ export function computeBaseline(opened: OpenedCorpus, o: CorpusFlags & { samples
 export function registerReport(cli: Command): void {
   corpusCommand(cli, 'report', 'originality report of score files (MIDI, MusicXML, ABC; or folders of them) against a corpus')
     .argument('<query...>', 'score files (MIDI, MusicXML, ABC) or folders')
-    .option('--seed <n>', 'seed of the bootstrap interval', wholeNumber('--seed'), 1)
+    .option('--seed <n>', 'seed of the bootstrap interval', wholeNumber('--seed'), REPORT_DEFAULTS.seed)
     .option('--csv <file>', 'also write one row per window to this CSV file')
     .option('--html <file>', 'also write a self-contained HTML report (several query folders show as a series)')
     .option('--baseline <file>', 'human baseline JSON (from "earwitness baseline --json") to show beside it in the HTML', readBaselineFile)
@@ -92,7 +75,7 @@ export function registerReport(cli: Command): void {
       const { view, report } = scoreQueries(opened, queries, o);
       if (o.csv) writeFileSync(o.csv, reportCsv(report));
       if (o.html) writeReportHtml(o.html, { report, queries, corpus: view, source: o.corpus, mode: modeOf(o), baseline: o.baseline ?? null });
-      if (o.json) printJson({ ...report, mode: modeOf(o), skipped });
+      if (o.json) process.stdout.write(documentText(reportDocument(report, o, skipped)));
       else process.stdout.write(reportText(report) + '\n');
     });
 

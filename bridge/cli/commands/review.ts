@@ -37,8 +37,7 @@ import { heardPasses, warningPairs } from '../../../core/live-review.js';
 import { SCORING_PASSES, pitchWords, placedWords, positionWords, spanText, transpositionWords } from '../../../core/words.js';
 import { type LoggedNote, type LoggedScore, type LoggedWarning, type SessionSummary, SessionLog, loggedNoteSchema, loggedScoreSchema, sessionSettingsSchema } from '../../formats/session-log.js';
 import { readSaved } from '../../formats/saved.js';
-import { wholeNumber } from '../usage.js';
-import { UsageError } from '../../formats/user-error.js';
+import { UsageError, wholeNumber } from '../../formats/user-error.js';
 
 const logOption = `session log (default: ${defaultLogFile()})`;
 
