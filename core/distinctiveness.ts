@@ -77,27 +77,11 @@ export const PLACES_FILTER = { voteBudget: 2_000, minTriples: 6, candidates: 64 
 const placeVotes = new VoteTable(14);
 const placeLookups = new TripleLookups();
 
-/**
- * `piecesHolding` through the corpus index, at a cost independent of the
- * corpus's size. Candidate places come from triples of the material: those
- * of the material as a run of its own, and the source piece's own triples
- * whose three points all belong to it; their postings vote for translations
- * (rarest first, PLACES_FILTER's budget), and the most-voted are verified
- * point by point, as is the source place itself. Every piece counted holds
- * the material, so this never counts more pieces than `piecesHolding`; it
- * counts fewer when a piece holds the material among other notes that no
- * shared triple survives (then the material reads more distinctive than it is).
- */
-export function indexedPiecesHolding(index: CorpusIndex, source: number, material: readonly Point[], exclude?: number): number {
-  if (material.length === 0) return 0;
-  const need = needOf(material);
+/** Adds to `lookups` the source piece's own triples whose three points all belong to the material. */
+function sourceTriples(index: CorpusIndex, source: number, material: readonly Point[], lookups: TripleLookups): void {
   const { partners } = index.shape;
   const horizon = toGrains(index.shape.horizonBeats);
-  const lookups = placeLookups;
-  lookups.clear();
-  const materialAt = material.map((p) => p.at);
-  for (let c = 2; c < material.length; c++) lookups.collect(index, material, materialAt, 0, c, partners, horizon);
-  // The source piece's triples among the material: the material's own positions, or -1 for the notes around it.
+  // The material's own positions, or -1 for the notes around it.
   const { at, pitch, offsets } = index.points;
   const from = lowerBoundAt(at, material[0].at, offsets[source], offsets[source + 1]);
   const to = lowerBoundAt(at, material[material.length - 1].at + 1, from, offsets[source + 1]);
@@ -116,6 +100,30 @@ export function indexedPiecesHolding(index: CorpusIndex, source: number, materia
       if (position[a] >= 0 && position[b] >= 0) lookups.keep(index, keyOf(around, a, b, c), position[a]);
     });
   }
+}
+
+/**
+ * `piecesHolding` through the corpus index, at a cost independent of the
+ * corpus's size. Candidate places come from triples of the material: those
+ * of the material as a run of its own, and the source piece's own triples
+ * whose three points all belong to it; their postings vote for translations
+ * (rarest first, PLACES_FILTER's budget), and the most-voted are verified
+ * point by point, as is the source place itself. Every piece counted holds
+ * the material, so this never counts more pieces than `piecesHolding`; it
+ * counts fewer when a piece holds the material among other notes that no
+ * shared triple survives (then the material reads more distinctive than it is).
+ * A shard that does not hold the source piece (core/shards.ts) passes `source` undefined.
+ */
+export function indexedPiecesHolding(index: CorpusIndex, source: number | undefined, material: readonly Point[], exclude?: number): number {
+  if (material.length === 0) return 0;
+  const need = needOf(material);
+  const { partners } = index.shape;
+  const lookups = placeLookups;
+  lookups.clear();
+  const materialAt = material.map((p) => p.at);
+  for (let c = 2; c < material.length; c++) lookups.collect(index, material, materialAt, 0, c, partners, toGrains(index.shape.horizonBeats));
+  const { offsets } = index.points;
+  if (source !== undefined) sourceTriples(index, source, material, lookups);
   const votes = placeVotes;
   votes.clear();
   lookups.sort();
@@ -127,7 +135,7 @@ export function indexedPiecesHolding(index: CorpusIndex, source: number, materia
   const hold = (piece: number, shift: number, dp: number): void => {
     if (!holding.has(piece) && verifyShift(index.points, span, piece, shift, dp).matched >= need) holding.add(piece);
   };
-  if (source !== exclude) hold(source, 0, 0);
+  if (source !== undefined && source !== exclude) hold(source, 0, 0);
   for (const e of votes.top(PLACES_FILTER.candidates)) hold(votes.pieceAt(e), votes.shiftAt(e), votes.dpAt(e));
   return holding.size;
 }

@@ -1,6 +1,7 @@
 /**
- * `--corpus PATH`: a folder of score files (MIDI, MusicXML, ABC), or a corpus
- * index file written by `earwitness corpus build`. A folder holding a
+ * `--corpus PATH`: a folder of score files (MIDI, MusicXML, ABC), a corpus
+ * index file written by `earwitness corpus build`, or the shard manifest of
+ * `corpus build --shards` (bridge/corpus/sharded-corpus.ts). A folder holding a
  * current index (every score file's size and mtime as indexed) is opened through the index; a folder
  * whose index is out of date is read file by file, with a note saying so.
  *
@@ -30,6 +31,8 @@ import { type MatchCorpus, type MatchMode, candidatesFor, windowMatcher } from '
 import { type Skipped, findScoreFiles, loadCorpusFolder } from './corpus-files.js';
 import { type IndexContents, type Meta, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta } from '../formats/index-file.js';
 import { UsageError } from '../formats/user-error.js';
+import { looksLikeManifest } from '../formats/shard-manifest.js';
+import { openShards } from './sharded-corpus.js';
 
 export interface OpenedCorpus {
   source: string;
@@ -177,7 +180,7 @@ export function openCorpus(path: string, options: OpenOptions = {}): OpenedCorpu
   } catch {
     throw new UsageError(`--corpus ${path}: no such folder or index file`);
   }
-  if (!isDir) return fromIndex(path, options);
+  if (!isDir) return looksLikeManifest(path) ? openShards(path, options) : fromIndex(path, options);
   const file = join(path, INDEX_NAME);
   if (!readdirSync(path).includes(INDEX_NAME)) return fromFolder(path, options);
   let why: string | null;
