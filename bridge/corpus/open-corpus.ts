@@ -83,6 +83,11 @@ export interface OpenOptions {
    * rebuilt or deleted while it listens.
    */
   deferNotes?: boolean;
+  /**
+   * Read an index's postings for `pitch` now (the default). False reads
+   * them only if matching here asks: `--queue`, where the shards' workers match.
+   */
+  matching?: boolean;
   /** Told how far reading a folder file by file has got. */
   progress?: (done: number, total: number) => void;
   /**
@@ -137,7 +142,7 @@ function flatView(mode: PitchMode, pieces: readonly Piece[], flat: FlatPoints): 
 
 function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
   const deferNotes = options.deferNotes ?? true;
-  const contents = fromFile(() => readIndexFile(file, [options.pitch ?? 'chromatic'], { deferNotes }));
+  const contents = fromFile(() => readIndexFile(file, options.matching === false ? [] : [options.pitch ?? 'chromatic'], { deferNotes }));
   if (contents.percussion !== (options.percussion ?? false)) {
     throw new UsageError(`--corpus ${file}: the index was built ${contents.percussion ? 'with' : 'without'} --percussion; rebuild it with the same choice, or leave the option ${contents.percussion ? 'on' : 'off'}`);
   }

@@ -57,6 +57,7 @@ const queueName = (name: string): string => name.replace(/[^A-Za-z0-9_.-]/g, '_'
 /** Writes the shards and their manifest. Files skipped whole are listed in the first shard; each other file in the shards holding its pieces. */
 export function writeShards(request: ShardsRequest): ShardsSummary {
   const build = randomBytes(8).toString('hex');
+  const name = queueName(request.name);
   const counts = request.pieces.map((_, p) => request.notes.offsets[p + 1] - request.notes.offsets[p]);
   const runs = dealRuns(counts, request.shards);
   const known = new Set(request.files.map((f) => f.path));
@@ -67,11 +68,11 @@ export function writeShards(request: ShardsRequest): ShardsSummary {
     const holds = new Set(pieces.map((p) => fileOf(p.path, known)));
     const files = request.files.filter((f) => holds.has(f.path) || (k === 0 && f.error !== null));
     const notes = joinNotes(range.map((piece) => ({ notes: request.notes, piece })));
-    const contents = indexContents({ notes, pieces, files, percussion: request.percussion, shard: { build, number: k + 1, of: runs.length, firstPiece: run.first } });
+    const contents = indexContents({ notes, pieces, files, percussion: request.percussion, shard: { build, name, number: k + 1, of: runs.length, firstPiece: run.first } });
     writeIndexFile(path, contents);
     const points = Object.fromEntries(PITCH_MODES.map((mode) => [mode, notePoints(notes, mode).at.length])) as ShardEntry['points'];
     return { path: basename(path), firstPiece: run.first, pieces: run.pieces, notes: notes.at.length, points, crc: readIndexCrc(path) };
   });
-  writeShardManifest(request.manifest, { format: MANIFEST_FORMAT, version: MANIFEST_VERSION, build, name: queueName(request.name), percussion: request.percussion, shards: entries });
+  writeShardManifest(request.manifest, { format: MANIFEST_FORMAT, version: MANIFEST_VERSION, build, name, percussion: request.percussion, shards: entries });
   return { manifest: request.manifest, shards: entries.map((e) => ({ path: join(dirname(request.manifest), e.path), pieces: e.pieces, notes: e.notes })) };
 }

@@ -35,7 +35,7 @@ export function shardMismatch(file: string, manifest: ShardManifest, number: num
   if (crc !== entry.crc) return `${file} has checksum ${crc}, the manifest expects ${entry.crc} for shard ${number}: the file was rebuilt or replaced since`;
   const shard = readIndexMeta(file).shard;
   if (!shard) return `${file} is a whole corpus index, not a shard`;
-  if (shard.build !== manifest.build || shard.number !== number || shard.of !== manifest.shards.length || shard.firstPiece !== entry.firstPiece) {
+  if (shard.build !== manifest.build || shard.name !== manifest.name || shard.number !== number || shard.of !== manifest.shards.length || shard.firstPiece !== entry.firstPiece) {
     return `${file} is shard ${shard.number} of ${shard.of} of build ${shard.build}, the manifest names it shard ${number} of ${manifest.shards.length} of build ${manifest.build}`;
   }
   return null;

@@ -75,6 +75,8 @@ export interface IndexContents {
 /** One shard of a sharded build: a run of the corpus's pieces from `firstPiece` on. */
 export interface ShardOf {
   build: string;
+  /** The corpus's name, as the manifest gives it: what its queues are named after. */
+  name: string;
   /** From 1. */
   number: number;
   of: number;
@@ -139,6 +141,7 @@ const metaSchema = z.object({
   shard: z
     .object({
       build: z.string().describe('the build it belongs to'),
+      name: z.string().describe("the corpus's name"),
       number: z.number().int().min(1).describe('a whole number ≥ 1'),
       of: z.number().int().min(1).describe('a whole number ≥ 1'),
       firstPiece: z.number().int().min(0).describe('a whole number ≥ 0'),

@@ -4,20 +4,19 @@ import type { PitchMode } from '../../../core/note.js';
 import type { MatchMode } from '../../../core/pipeline.js';
 import { type Baseline, type OriginalityReport, type QueryInput, humanBaseline, originalityReport } from '../../../core/report.js';
 import type { CorpusPoints } from '../../../core/corpus.js';
-import type { WindowMatcher } from '../../../core/match.js';
 import { loadQueries } from '../../corpus/corpus-files.js';
-import type { OpenedCorpus } from '../../corpus/open-corpus.js';
+import type { MatcherRequest, OpenedCorpus } from '../../corpus/open-corpus.js';
+import { type QueueFlags, matchesHere, queueOption, queueTimeoutOption, withMatcher } from '../batch-matching.js';
 import { openCorpusTold } from '../notices.js';
 import { type BaselineFile, checkBaselineFits, readBaselineFile } from '../../formats/baseline-file.js';
 import { writeReportHtml } from '../html/report-page.js';
 import { hopOption, minNotesOption, pitchOption, printJson, tempoFreeOption, toleranceOption, windowOption } from '../options.js';
-import { progressBar } from '../progress.js';
 import { baselineText, reportCsv, reportText } from '../report-text.js';
 import { wholeNumber } from '../usage.js';
 import { UsageError } from '../../formats/user-error.js';
 
 /** The flags of every command that scores against a corpus (report, baseline, check). */
-export interface CorpusFlags {
+export interface CorpusFlags extends QueueFlags {
   corpus: string;
   window: number;
   hop: number;
@@ -45,11 +44,16 @@ export const corpusCommand = (cli: Command, name: string, description: string): 
     .addOption(toleranceOption())
     .addOption(tempoFreeOption())
     .addOption(minNotesOption())
+    .addOption(queueOption())
+    .addOption(queueTimeoutOption())
     .option('--percussion', 'keep channel 10 (percussion)')
     .option('--json', 'print JSON');
 
-/** The matcher the batch commands score with: the corpus's one entry point, in the chosen matching mode. */
-const matcherOf = (opened: OpenedCorpus, o: CorpusFlags): WindowMatcher => opened.matcher({ pitch: o.pitch, window: o.window, mode: modeOf(o), exact: o.exact });
+/** What the batch commands match with: the corpus's one entry point, in the chosen matching mode. */
+const requestOf = (o: CorpusFlags): MatcherRequest => ({ pitch: o.pitch, window: o.window, mode: modeOf(o), exact: o.exact });
+
+/** Opens --corpus for a batch command: with --queue, without reading what only matching here needs. */
+export const openForBatch = (o: CorpusFlags): OpenedCorpus => openCorpusTold(o.corpus, { ...o, matching: matchesHere(o) });
 
 /** Reads the query files: each unreadable one is named on stderr and listed; none readable at all is an error. */
 export function readQueries(paths: string[], o: CorpusFlags): ReturnType<typeof loadQueries> {
@@ -60,22 +64,17 @@ export function readQueries(paths: string[], o: CorpusFlags): ReturnType<typeof 
 }
 
 /** Every window of every query scored against the corpus: the report, and what `check` judges. */
-export function scoreQueries(opened: OpenedCorpus, queries: QueryInput[], o: CorpusFlags): { view: CorpusPoints; report: OriginalityReport } {
+export async function scoreQueries(opened: OpenedCorpus, queries: QueryInput[], o: CorpusFlags): Promise<{ view: CorpusPoints; report: OriginalityReport }> {
   const view = opened.view(o.pitch);
-  const bar = progressBar('scoring');
-  const report = originalityReport(queries, view, matcherOf(opened, o), o, bar.tick);
-  bar.stop();
+  const report = await withMatcher(opened, o, requestOf(o), 'scoring', (matcher, tick) => originalityReport(queries, view, matcher, o, tick));
   return { view, report };
 }
 
 /** The corpus's human baseline: what `baseline` prints, and what `check --against-baseline` computes when none is stored. */
-export function computeBaseline(opened: OpenedCorpus, o: CorpusFlags & { samples: number }): Baseline {
+export async function computeBaseline(opened: OpenedCorpus, o: CorpusFlags & { samples: number }): Promise<Baseline> {
   if (o.samples < 1) throw new UsageError('--samples must be at least 1');
   const view = opened.view(o.pitch);
-  const bar = progressBar('baseline');
-  const b = humanBaseline(view, matcherOf(opened, o), o, bar.tick);
-  bar.stop();
-  return b;
+  return withMatcher(opened, o, requestOf(o), 'baseline', (matcher, tick) => humanBaseline(view, matcher, o, tick));
 }
 
 export function registerReport(cli: Command): void {
@@ -85,11 +84,11 @@ export function registerReport(cli: Command): void {
     .option('--csv <file>', 'also write one row per window to this CSV file')
     .option('--html <file>', 'also write a self-contained HTML report (several query folders show as a series)')
     .option('--baseline <file>', 'human baseline JSON (from "earwitness baseline --json") to show beside it in the HTML', readBaselineFile)
-    .action((paths: string[], o: CorpusFlags & { csv?: string; html?: string; baseline?: BaselineFile }) => {
+    .action(async (paths: string[], o: CorpusFlags & { csv?: string; html?: string; baseline?: BaselineFile }) => {
       if (o.baseline) checkBaselineFits(o.baseline, { ...o, mode: modeOf(o) });
-      const opened = openCorpusTold(o.corpus, o);
+      const opened = openForBatch(o);
       const { queries, skipped } = readQueries(paths, o);
-      const { view, report } = scoreQueries(opened, queries, o);
+      const { view, report } = await scoreQueries(opened, queries, o);
       if (o.csv) writeFileSync(o.csv, reportCsv(report));
       if (o.html) writeReportHtml(o.html, { report, queries, corpus: view, source: o.corpus, mode: modeOf(o), baseline: o.baseline ?? null });
       if (o.json) printJson({ ...report, mode: modeOf(o), skipped });
@@ -99,8 +98,8 @@ export function registerReport(cli: Command): void {
   corpusCommand(cli, 'baseline', 'human baseline: sampled corpus pieces scored against the rest of the corpus')
     .option('--samples <n>', 'how many pieces to sample', wholeNumber('--samples'), 50)
     .option('--seed <n>', 'seed of the sample and the bootstrap', wholeNumber('--seed'), 1)
-    .action((o: CorpusFlags & { samples: number }) => {
-      const b = computeBaseline(openCorpusTold(o.corpus, o), o);
+    .action(async (o: CorpusFlags & { samples: number }) => {
+      const b = await computeBaseline(openForBatch(o), o);
       if (o.json) printJson({ ...b, mode: modeOf(o) });
       else process.stdout.write(baselineText(b) + '\n');
     });
