@@ -15,12 +15,14 @@ import { shownUrl } from './redis-url.js';
 export async function reachRedis(url: string, connection: RedisConnection, seconds: number): Promise<void> {
   const deadline = Date.now() + seconds * 1000;
   let last = 'no answer';
+  const refusedLogin = (why: string): boolean => /NOAUTH|WRONGPASS|invalid password|invalid username-password/i.test(why);
   const client = new Redis({
     ...connection,
     lazyConnect: true,
     maxRetriesPerRequest: 0,
     connectTimeout: Math.max(500, Math.min(5000, seconds * 1000)),
-    retryStrategy: () => (Date.now() < deadline ? 250 : null),
+    // A refused login will not change by asking again.
+    retryStrategy: () => (Date.now() < deadline && !refusedLogin(last) ? 250 : null),
   });
   client.on('error', (e: Error) => (last = e.message));
   let timer: NodeJS.Timeout | undefined;
@@ -28,9 +30,9 @@ export async function reachRedis(url: string, connection: RedisConnection, secon
     const timeout = new Promise<never>((_, reject) => (timer = setTimeout(() => reject(new Error(last)), seconds * 1000)));
     await Promise.race([client.connect().then(() => client.ping()), timeout]);
   } catch (e) {
-    const why = (e as Error).message || last;
-    if (/NOAUTH|WRONGPASS|invalid password|AUTH/i.test(why)) throw new UsageError(`--queue ${shownUrl(url)}: Redis refused the login (${why}); give the password as redis://:PASSWORD@HOST:PORT`);
-    throw new UsageError(`--queue ${shownUrl(url)}: Redis did not answer within ${seconds} s (${why === 'Connection is closed.' ? last : why}); is redis-server running there?`);
+    const why = [(e as Error).message, last].find(refusedLogin) ?? last;
+    if (refusedLogin(why)) throw new UsageError(`--queue ${shownUrl(url)}: Redis refused the login (${why}); give the password as redis://:PASSWORD@HOST:PORT`);
+    throw new UsageError(`--queue ${shownUrl(url)}: Redis did not answer within ${seconds} s (${why}); is redis-server running there?`);
   } finally {
     clearTimeout(timer);
     client.disconnect();

@@ -26,7 +26,7 @@ export interface WorkerOptions {
   url: string;
   /** A shard index file written by `corpus build --shards`. */
   file: string;
-  /** How long a job's lock lasts without renewal: a killed worker's batch is taken again after at most about twice this. */
+  /** How long a job's lock lasts without renewal (longer than one window takes): a killed worker's batch is taken again after at most about twice this. */
   lockSeconds?: number;
   /** How long to try reaching Redis at start. */
   timeoutSeconds?: number;
@@ -41,7 +41,7 @@ export interface ServedShard {
   close(): Promise<void>;
 }
 
-/** Windows answered between progress reports (and lock renewals). */
+/** Windows answered between progress reports. */
 const PROGRESS_EVERY = 8;
 
 /** The shard's identity from its META; a whole index or a manifest is refused. */
@@ -86,10 +86,9 @@ export async function serveShard(options: WorkerOptions): Promise<ServedShard> {
     for (let i = 0; i < total; i++) {
       if (d.round === 'best') out.push(wireAnswer(matcher.best(matchWindow(d.windows[i]))));
       else out.push(matcher.count(pointsOf(d.items[i].material), d.items[i].exclude ?? undefined));
-      if ((i + 1) % PROGRESS_EVERY === 0 || i + 1 === total) {
-        await job.updateProgress(i + 1);
-        await yieldNow();
-      }
+      // Between windows the lock's renewal timer gets its turn.
+      await yieldNow();
+      if ((i + 1) % PROGRESS_EVERY === 0 || i + 1 === total) await job.updateProgress(i + 1);
     }
     return out as WireAnswer[] | number[];
   };
