@@ -111,8 +111,9 @@ const placeLookups = new TripleLookups();
  * the material, so this never counts more pieces than `piecesHolding`; it
  * counts fewer when a piece holds the material among other notes that no
  * shared triple survives (then the material reads more distinctive than it is).
+ * A shard that does not hold the source piece (core/shards.ts) passes `source` undefined.
  */
-export function indexedPiecesHolding(index: CorpusIndex, source: number, material: readonly Point[], exclude?: number): number {
+export function indexedPiecesHolding(index: CorpusIndex, source: number | undefined, material: readonly Point[], exclude?: number): number {
   if (material.length === 0) return 0;
   const need = needOf(material);
   const { partners } = index.shape;
@@ -132,7 +133,7 @@ export function indexedPiecesHolding(index: CorpusIndex, source: number, materia
   const hold = (piece: number, shift: number, dp: number): void => {
     if (!holding.has(piece) && holdsAt(index.points, material, { piece, shift, dp }, need)) holding.add(piece);
   };
-  if (source !== exclude) hold(source, 0, 0);
+  if (source !== undefined && source !== exclude) hold(source, 0, 0);
   for (const e of votes.top(PLACES_FILTER.candidates)) hold(votes.pieceAt(e), votes.shiftAt(e), votes.dpAt(e));
   return holding.size;
 }

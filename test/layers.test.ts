@@ -21,9 +21,11 @@ const MAY_IMPORT: Record<string, readonly string[]> = {
   contract: ['core'],
   'bridge/formats': ['core', 'contract'],
   'bridge/corpus': ['bridge/formats', 'core', 'contract'],
+  /** At the corpus's level: serves and asks the shards' queues, opening shards through bridge/corpus. */
+  'bridge/queue': ['bridge/corpus', 'bridge/formats', 'core', 'contract'],
   'bridge/daemon': ['bridge/corpus', 'bridge/formats', 'core', 'contract'],
   'bridge/demo': ['bridge/corpus', 'bridge/formats', 'core', 'contract'],
-  'bridge/cli': ['bridge/daemon', 'bridge/demo', 'bridge/corpus', 'bridge/formats', 'core', 'contract'],
+  'bridge/cli': ['bridge/daemon', 'bridge/demo', 'bridge/queue', 'bridge/corpus', 'bridge/formats', 'core', 'contract'],
   /** bin entry point: dist/bridge/cli.js */
   bridge: ['bridge/cli'],
   ui: ['core', 'contract'],

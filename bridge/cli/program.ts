@@ -7,6 +7,7 @@ import { registerDemo } from './commands/demo.js';
 import { registerListen } from './commands/listen.js';
 import { registerReview } from './commands/review.js';
 import { registerScore } from './commands/score.js';
+import { registerWorker } from './commands/worker.js';
 import { EXIT, Outcome } from './usage.js';
 import { UsageError } from '../formats/user-error.js';
 import { ScoreFileError } from '../formats/score-piece.js';
@@ -28,6 +29,7 @@ A similarity score is evidence for a musician's judgement, not a legal finding.`
   registerReview(cli);
   registerCheck(cli);
   registerDemo(cli);
+  registerWorker(cli);
   return cli;
 }
 

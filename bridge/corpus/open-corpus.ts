@@ -1,6 +1,7 @@
 /**
- * `--corpus PATH`: a folder of score files (MIDI, MusicXML, ABC), or a corpus
- * index file written by `earwitness corpus build`. A folder holding a
+ * `--corpus PATH`: a folder of score files (MIDI, MusicXML, ABC), a corpus
+ * index file written by `earwitness corpus build`, or the shard manifest of
+ * `corpus build --shards` (bridge/corpus/sharded-corpus.ts). A folder holding a
  * current index (every score file's size and mtime as indexed) is opened through the index; a folder
  * whose index is out of date is read file by file, with a note saying so.
  *
@@ -30,6 +31,8 @@ import { type MatchCorpus, type MatchMode, candidatesFor, windowMatcher } from '
 import { type Skipped, findScoreFiles, loadCorpusFolder } from './corpus-files.js';
 import { type IndexContents, type Meta, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta } from '../formats/index-file.js';
 import { UsageError } from '../formats/user-error.js';
+import { looksLikeManifest } from '../formats/shard-manifest.js';
+import { openShards } from './sharded-corpus.js';
 
 export interface OpenedCorpus {
   source: string;
@@ -80,6 +83,11 @@ export interface OpenOptions {
    * rebuilt or deleted while it listens.
    */
   deferNotes?: boolean;
+  /**
+   * Read an index's postings for `pitch` now (the default). False reads
+   * them only if matching here asks: `--queue`, where the shards' workers match.
+   */
+  matching?: boolean;
   /** Told how far reading a folder file by file has got. */
   progress?: (done: number, total: number) => void;
   /**
@@ -134,7 +142,7 @@ function flatView(mode: PitchMode, pieces: readonly Piece[], flat: FlatPoints): 
 
 function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
   const deferNotes = options.deferNotes ?? true;
-  const contents = fromFile(() => readIndexFile(file, [options.pitch ?? 'chromatic'], { deferNotes }));
+  const contents = fromFile(() => readIndexFile(file, options.matching === false ? [] : [options.pitch ?? 'chromatic'], { deferNotes }));
   if (contents.percussion !== (options.percussion ?? false)) {
     throw new UsageError(`--corpus ${file}: the index was built ${contents.percussion ? 'with' : 'without'} --percussion; rebuild it with the same choice, or leave the option ${contents.percussion ? 'on' : 'off'}`);
   }
@@ -177,7 +185,7 @@ export function openCorpus(path: string, options: OpenOptions = {}): OpenedCorpu
   } catch {
     throw new UsageError(`--corpus ${path}: no such folder or index file`);
   }
-  if (!isDir) return fromIndex(path, options);
+  if (!isDir) return looksLikeManifest(path) ? openShards(path, options) : fromIndex(path, options);
   const file = join(path, INDEX_NAME);
   if (!readdirSync(path).includes(INDEX_NAME)) return fromFolder(path, options);
   let why: string | null;

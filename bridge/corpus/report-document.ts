@@ -17,7 +17,7 @@ import type { WindowMatcher } from '../../core/match.js';
 import { type OriginalityReport, type Progress, type QueryInput, originalityReport } from '../../core/report.js';
 import { UsageError } from '../formats/user-error.js';
 import type { Skipped } from './corpus-files.js';
-import type { OpenedCorpus } from './open-corpus.js';
+import type { MatcherRequest, OpenedCorpus } from './open-corpus.js';
 import { type ReportOptions, modeOf } from './report-settings.js';
 
 export type ReportDocument = OriginalityReport & { mode: MatchMode; skipped: Skipped[] };
@@ -28,8 +28,11 @@ export function readableQueries<T extends { queries: unknown[]; skipped: Skipped
   return read;
 }
 
-/** The matcher reports and baselines score with: the corpus's one entry point, in the chosen matching mode. */
-export const matcherFor = (opened: OpenedCorpus, o: ReportOptions): WindowMatcher => opened.matcher({ pitch: o.pitch, window: o.window, mode: modeOf(o), exact: o.exact });
+/** What reports and baselines match with: the corpus's one entry point, in the chosen matching mode. */
+export const matcherRequest = (o: ReportOptions): MatcherRequest => ({ pitch: o.pitch, window: o.window, mode: modeOf(o), exact: o.exact });
+
+/** The matcher reports and baselines score with in this process. */
+export const matcherFor = (opened: OpenedCorpus, o: ReportOptions): WindowMatcher => opened.matcher(matcherRequest(o));
 
 /** Every window of every query scored against the corpus: the report, and what `check` judges. */
 export function scoreQueries(opened: OpenedCorpus, queries: readonly QueryInput[], o: ReportOptions, progress?: Progress): { view: CorpusPoints; report: OriginalityReport } {

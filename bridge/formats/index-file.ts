@@ -68,6 +68,19 @@ export interface IndexContents {
   fingerprints: Partial<Record<PitchMode, FingerprintTable | (() => FingerprintTable)>>;
   /** Human baselines stored by `corpus build --baseline` (optional section BASE; readIndexBaselines reads it). */
   baselines?: Baseline[];
+  /** Which shard of which build this file is, for one of `corpus build --shards` (bridge/formats/shard-manifest.ts). */
+  shard?: ShardOf;
+}
+
+/** One shard of a sharded build: a run of the corpus's pieces from `firstPiece` on. */
+export interface ShardOf {
+  build: string;
+  /** The corpus's name, as the manifest gives it: what its queues are named after. */
+  name: string;
+  /** From 1. */
+  number: number;
+  of: number;
+  firstPiece: number;
 }
 
 /** An index file that cannot be used: names the file, says what is wrong and how to rebuild it. */
@@ -125,6 +138,15 @@ const metaSchema = z.object({
   files: z.array(fileFingerprintSchema),
   notes: z.number().int().min(0).describe('a whole number of notes'),
   modes: z.array(z.enum(PITCH_MODES as [PitchMode, ...PitchMode[]])).describe(`a list of ${PITCH_MODES.join(', ')}`),
+  shard: z
+    .object({
+      build: z.string().describe('the build it belongs to'),
+      name: z.string().describe("the corpus's name"),
+      number: z.number().int().min(1).describe('a whole number ≥ 1'),
+      of: z.number().int().min(1).describe('a whole number ≥ 1'),
+      firstPiece: z.number().int().min(0).describe('a whole number ≥ 0'),
+    })
+    .optional(),
 });
 export type Meta = z.infer<typeof metaSchema>;
 
@@ -152,7 +174,7 @@ const bytesOf = (a: Typed): Uint8Array => new Uint8Array(a.buffer, a.byteOffset,
 export function writeIndexFile(file: string, contents: IndexContents): void {
   checkPlatform();
   const modes = (Object.keys(contents.postings) as PitchMode[]).filter((m) => contents.postings[m]);
-  const meta: Meta = { shape: contents.shape, fingerprint: contents.fingerprint, percussion: contents.percussion, pieces: contents.pieces, files: contents.files, notes: contents.notes.at.length, modes };
+  const meta: Meta = { shape: contents.shape, fingerprint: contents.fingerprint, percussion: contents.percussion, pieces: contents.pieces, files: contents.files, notes: contents.notes.at.length, modes, ...(contents.shard ? { shard: contents.shard } : {}) };
   const sections: [string, Uint8Array][] = [['META', new TextEncoder().encode(JSON.stringify(meta))]];
   for (const [tag, field] of NOTE_SECTIONS) sections.push([tag, bytesOf(contents.notes[field])]);
   for (const mode of modes) for (const [tag, field] of POSTING_SECTIONS) sections.push([MODE_LETTER[mode] + tag, bytesOf(contents.postings[mode]![field])]);
@@ -285,6 +307,13 @@ function withIndex<T>(file: string, read: (opened: Opened) => T): T {
   }
 }
 
+/**
+ * The checksum of an index's section table, eight hex digits: it holds every
+ * section's own CRC-32, so it tells one build of a file from another without
+ * reading the sections.
+ */
+export const readIndexCrc = (file: string): string => withIndex(file, (o) => crc32(o.table).toString(16).padStart(8, '0'));
+
 /** The pieces, shape and file fingerprints alone: cheap, for deciding whether an index is current. */
 export const readIndexMeta = (file: string): Meta => withIndex(file, (o) => readMeta(o, file));
 
@@ -376,7 +405,7 @@ export function readIndexFile(file: string, modes: readonly PitchMode[], options
         return table;
       };
     }
-    return { shape: meta.shape, fingerprint: meta.fingerprint, percussion: meta.percussion, pieces: meta.pieces, files: meta.files, notes, postings, fingerprints };
+    return { shape: meta.shape, fingerprint: meta.fingerprint, percussion: meta.percussion, pieces: meta.pieces, files: meta.files, notes, postings, fingerprints, ...(meta.shard ? { shard: meta.shard } : {}) };
   });
 }
 

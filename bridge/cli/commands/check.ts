@@ -26,13 +26,12 @@ import type { Command } from 'commander';
 import type { Baseline, OriginalityReport } from '../../../core/report.js';
 import { IndexFileError, readIndexBaselines } from '../../formats/index-file.js';
 import type { OpenedCorpus } from '../../corpus/open-corpus.js';
-import { openCorpusTold } from '../notices.js';
 import { printJson } from '../options.js';
 import { pct } from '../report-text.js';
 import { EXIT, Outcome } from '../usage.js';
 import { UsageError, parseNumber, wholeNumber } from '../../formats/user-error.js';
 import { modeOf } from '../../corpus/report-settings.js';
-import { type CorpusFlags, computeBaseline, corpusCommand, readQueries, scoreQueries } from './report.js';
+import { type CorpusFlags, computeBaseline, corpusCommand, openForBatch, readQueries, scoreQueries } from './report.js';
 
 interface CheckFlags extends CorpusFlags {
   minOriginality?: number;
@@ -87,9 +86,9 @@ function storedBaseline(opened: OpenedCorpus, o: CheckFlags): Baseline | null {
   );
 }
 
-function baselineFor(opened: OpenedCorpus, o: CheckFlags): CheckBaseline {
+async function baselineFor(opened: OpenedCorpus, o: CheckFlags): Promise<CheckBaseline> {
   const stored = storedBaseline(opened, o);
-  const b = stored ?? computeBaseline(opened, o);
+  const b = stored ?? (await computeBaseline(opened, o));
   if (!b.ci95) {
     throw new UsageError(`--against-baseline: the human baseline of ${o.corpus} has no 95% interval (it needs 2 or more sampled pieces with ${o.window}-beat windows); give a bar with --min-originality instead`);
   }
@@ -126,15 +125,15 @@ export function registerCheck(cli: Command): void {
     .option('--samples <n>', 'with --against-baseline: pieces the baseline samples', wholeNumber('--samples'), 50)
     .option('--seed <n>', 'seed of the bootstrap intervals and the baseline sample', wholeNumber('--seed'), 1)
     .addHelpText('after', '\nExit codes: 0 the originality meets the bar, 1 it is below the bar, 2 bad command line or unusable input.')
-    .action((paths: string[], o: CheckFlags) => {
+    .action(async (paths: string[], o: CheckFlags) => {
       if (o.minOriginality === undefined && !o.againstBaseline) throw new UsageError('check needs a bar: give --min-originality X (0 to 1) or --against-baseline');
       if (o.minOriginality !== undefined && o.againstBaseline) throw new UsageError('check takes one bar: give --min-originality or --against-baseline, not both');
-      const opened = openCorpusTold(o.corpus, o);
+      const opened = openForBatch(o);
       const { queries, skipped } = readQueries(paths, o);
       if (skipped.length) throw new UsageError(`check judges every query or none: ${skipped.length} of ${skipped.length + queries.length} query files cannot be read (${skipped.map((s) => s.file).join(', ')}); fix or remove them`);
-      const { report } = scoreQueries(opened, queries, o);
+      const { report } = await scoreQueries(opened, queries, o);
       if (report.originality === null) throw new UsageError(`nothing to judge: the query files (${paths.join(', ')}) hold no notes`);
-      const baseline = o.againstBaseline ? baselineFor(opened, o) : undefined;
+      const baseline = o.againstBaseline ? await baselineFor(opened, o) : undefined;
       const bar = baseline ? baseline.ci95![0] : o.minOriginality!;
       const result: CheckResult = {
         pass: report.originality >= bar,

@@ -13,18 +13,17 @@
  */
 import { existsSync, statSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
-import { join, relative, sep } from 'node:path';
+import { basename, join, relative, resolve, sep } from 'node:path';
 import { Worker } from 'node:worker_threads';
 import type { Command } from 'commander';
-import { PITCH_MODES } from '../../../core/note.js';
-import { type FlatNotes, joinNotes, notePoints } from '../../../core/flat-notes.js';
-import { CORPUS_TRIPLES, buildTriples } from '../../../core/triple-index.js';
-import { FINGERPRINT_SHAPE, buildFingerprints } from '../../../core/fingerprint.js';
+import { type FlatNotes, joinNotes } from '../../../core/flat-notes.js';
 import { EXACT_MODE } from '../../../core/pipeline.js';
 import { walkCorpus } from '../../corpus/corpus-files.js';
 import { type ScoreFormat, FORMAT_NAMES, SCORE_FORMATS, formatOf } from '../../formats/read-file.js';
 import { type FileFingerprint, type IndexContents, type PieceInfo, INDEX_NAME, IndexFileError, readIndexFile, writeIndexFile } from '../../formats/index-file.js';
 import { type ParseTask, type ParsedFile, fileHash } from '../../corpus/build-worker.js';
+import { type ShardsSummary, indexContents, writeShards } from '../../corpus/shard-build.js';
+import { MANIFEST_NAME } from '../../formats/shard-manifest.js';
 import { printJson } from '../options.js';
 import { type Baseline, CAUTION, humanBaseline } from '../../../core/report.js';
 import { openCorpusTold } from '../notices.js';
@@ -151,13 +150,20 @@ function previous(out: string): IndexContents | null {
   }
 }
 
-export async function buildCorpusIndex(dir: string, options: { out?: string; percussion?: boolean; fileSeconds: number; baseline?: BaselineRequest }): Promise<BuildSummary> {
-  const began = performance.now();
-  if (!existsSync(dir) || !statSync(dir).isDirectory()) throw new UsageError(`corpus build ${dir}: no such folder`);
-  const out = options.out ?? join(dir, INDEX_NAME);
-  const percussion = options.percussion ?? false;
-  const old = previous(out);
-  const reusable = old && old.percussion === percussion ? old : null;
+/** What reading a corpus folder found: pieces with their notes, every file seen, and what was skipped. */
+interface Gathered {
+  pieces: PieceInfo[];
+  notes: FlatNotes;
+  files: FileFingerprint[];
+  skipped: { file: string; error: string }[];
+  formats: Record<ScoreFormat, FormatCount>;
+  reparsed: number;
+  reused: number;
+}
+
+/** Reads every score file under `dir`, taking unchanged files' pieces from `reusable` (a previous index, or null). */
+async function gather(dir: string, reusable: IndexContents | null, options: { percussion: boolean; fileSeconds: number }): Promise<Gathered> {
+  const { percussion } = options;
   const oldFiles = new Map(reusable?.files.map((f) => [f.path, f]) ?? []);
   const oldPieces = piecesByFile(reusable);
 
@@ -206,25 +212,56 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
     for (const s of skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
     throw new UsageError(`corpus build ${dir}: no readable score file (MIDI, MusicXML or ABC) with notes under it${skipped.length ? ` (${skipped.length} skipped)` : ''}`);
   }
-  const notes = joinNotes(parts);
-  const points = PITCH_MODES.map((mode) => [mode, notePoints(notes, mode)] as const);
-  const postings = Object.fromEntries(points.map(([mode, flat]) => [mode, buildTriples(flat, CORPUS_TRIPLES)]));
-  const fingerprints = Object.fromEntries(points.map(([mode, flat]) => [mode, buildFingerprints(flat, FINGERPRINT_SHAPE)]));
-  const contents = { shape: CORPUS_TRIPLES, fingerprint: FINGERPRINT_SHAPE, percussion, pieces, files, notes, postings, fingerprints };
+  return { pieces, notes: joinNotes(parts), files, skipped, formats, reparsed: tasks.length, reused: slots.length - tasks.length };
+}
+
+const checkFolder = (dir: string): void => {
+  if (!existsSync(dir) || !statSync(dir).isDirectory()) throw new UsageError(`corpus build ${dir}: no such folder`);
+};
+
+const secondsSince = (began: number): number => Math.round((performance.now() - began) / 10) / 100;
+
+export async function buildCorpusIndex(dir: string, options: { out?: string; percussion?: boolean; fileSeconds: number; baseline?: BaselineRequest }): Promise<BuildSummary> {
+  const began = performance.now();
+  checkFolder(dir);
+  const out = options.out ?? join(dir, INDEX_NAME);
+  const percussion = options.percussion ?? false;
+  const old = previous(out);
+  const got = await gather(dir, old && old.percussion === percussion ? old : null, { percussion, fileSeconds: options.fileSeconds });
+  const contents = indexContents({ notes: got.notes, pieces: got.pieces, files: got.files, percussion });
   writeIndexFile(out, contents);
   const baselines = options.baseline ? baselinesOf(out, percussion, options.baseline) : [];
   if (baselines.length) writeIndexFile(out, { ...contents, baselines });
   return {
-    pieces: pieces.length,
-    notes: notes.at.length,
-    skipped,
+    pieces: got.pieces.length,
+    notes: got.notes.at.length,
+    skipped: got.skipped,
     out,
-    seconds: Math.round((performance.now() - began) / 10) / 100,
-    reparsed: tasks.length,
-    reused: slots.length - tasks.length,
-    formats,
+    seconds: secondsSince(began),
+    reparsed: got.reparsed,
+    reused: got.reused,
+    formats: got.formats,
     baselines: baselines.map((b) => ({ window: b.settings.window, p99: b.percentiles.p99 })),
   };
+}
+
+/** What `corpus build --shards --json` prints. */
+export interface ShardsBuilt extends ShardsSummary {
+  pieces: number;
+  notes: number;
+  skipped: { file: string; error: string }[];
+  seconds: number;
+}
+
+/** `corpus build DIR --shards K`: every file read (a sharded build reuses nothing), K index files and their manifest written. */
+export async function buildCorpusShards(dir: string, options: { out?: string; percussion?: boolean; fileSeconds: number; shards: number }): Promise<ShardsBuilt> {
+  const began = performance.now();
+  checkFolder(dir);
+  const percussion = options.percussion ?? false;
+  const got = await gather(dir, null, { percussion, fileSeconds: options.fileSeconds });
+  if (options.shards > got.pieces.length) throw new UsageError(`--shards ${options.shards}: the corpus has only ${got.pieces.length} pieces; give at most that many shards`);
+  const written = writeShards({ manifest: options.out ?? join(dir, MANIFEST_NAME), name: basename(resolve(dir)), shards: options.shards, notes: got.notes, pieces: got.pieces, files: got.files, percussion });
+  return { ...written, pieces: got.pieces.length, notes: got.notes.at.length, skipped: got.skipped, seconds: secondsSince(began) };
 }
 
 const plural = (n: number, one: string, many = `${one}s`): string => `${n} ${n === 1 ? one : many}`;
@@ -237,6 +274,17 @@ export function formatLine(formats: Record<ScoreFormat, FormatCount>): string {
     return `${plural(c.files, `${FORMAT_NAMES[f]} file`)} (${what})`;
   });
   return `by format: ${found.join(', ')}`;
+}
+
+async function buildShardsCommand(dir: string, o: { out?: string; percussion?: boolean; fileSeconds: number; json?: boolean; baseline?: boolean; shards: number }): Promise<void> {
+  if (o.shards < 1) throw new UsageError('--shards must be at least 1');
+  if (o.baseline) throw new UsageError('--baseline and --shards do not go together yet: build the shards, then run "earwitness baseline --corpus MANIFEST"');
+  const r = await buildCorpusShards(dir, { ...o, shards: o.shards });
+  if (o.json) return printJson(r);
+  const lines = [`indexed ${r.pieces} pieces (${r.notes} notes) into ${r.shards.length} shards in ${r.seconds} s; manifest ${r.manifest}`];
+  for (const s of r.shards) lines.push(`  ${s.path}: ${s.pieces} pieces, ${s.notes} notes`);
+  for (const s of r.skipped) lines.push(`  skipped ${s.file}: ${s.error}`);
+  process.stdout.write(lines.join('\n') + '\n');
 }
 
 export function registerCorpus(cli: Command): void {
@@ -252,9 +300,11 @@ export function registerCorpus(cli: Command): void {
     .option('--baseline', 'also store the human baseline, so a preset threshold "auto" means its p99 window score')
     .option('--baseline-windows <beats,...>', 'window lengths to store baselines for (default: those of the built-in presets)', beatList)
     .option('--baseline-samples <n>', 'pieces sampled for each baseline', wholeNumber('--baseline-samples'), 50)
+    .option('--shards <k>', `write K index files of similar note counts and a manifest naming them (--out: the manifest, default DIR/${MANIFEST_NAME}); --corpus then takes the manifest`, wholeNumber('--shards'))
     .option('--json', 'print JSON')
-    .action(async (dir: string, o: { out?: string; percussion?: boolean; fileSeconds: number; json?: boolean; baseline?: boolean; baselineWindows?: number[]; baselineSamples: number }) => {
+    .action(async (dir: string, o: { out?: string; percussion?: boolean; fileSeconds: number; json?: boolean; baseline?: boolean; baselineWindows?: number[]; baselineSamples: number; shards?: number }) => {
       if (o.baselineSamples < 1) throw new UsageError('--baseline-samples must be at least 1');
+      if (o.shards !== undefined) return buildShardsCommand(dir, { ...o, shards: o.shards });
       const baseline = o.baseline ? { windows: o.baselineWindows ?? presetWindows(), samples: o.baselineSamples } : undefined;
       const r = await buildCorpusIndex(dir, { ...o, baseline });
       if (o.json) return printJson(r.baselines.length ? { ...r, caution: CAUTION } : r);

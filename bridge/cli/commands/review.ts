@@ -28,6 +28,7 @@ import { type ReviewSettings, type SessionReview, clock, reviewHtml, whyTheyDiff
 import { midiBytes, tracksByChannel } from '../../formats/midi-write.js';
 import type { OpenedCorpus } from '../../corpus/open-corpus.js';
 import { openCorpusTold } from '../notices.js';
+import { type QueueFlags, matchesHere, queueOption, queueTimeoutOption, withMatcher } from '../batch-matching.js';
 import { minNotesOption, printJson } from '../options.js';
 import { writeOutputFile } from '../../formats/output-file.js';
 import { defaultLogFile } from '../../formats/paths.js';
@@ -102,10 +103,10 @@ function sessionSettings(file: string, summary: SessionSummary, minNotes: number
   };
 }
 
-function openSessionCorpus(summary: SessionSummary, override: string | undefined, pitch: PitchMode): OpenedCorpus {
-  if (override) return openCorpusTold(override, { pitch });
+function openSessionCorpus(summary: SessionSummary, override: string | undefined, pitch: PitchMode, matching: boolean): OpenedCorpus {
+  if (override) return openCorpusTold(override, { pitch, matching });
   try {
-    return openCorpusTold(summary.corpus, { pitch });
+    return openCorpusTold(summary.corpus, { pitch, matching });
   } catch (e) {
     if (!(e instanceof UsageError)) throw e;
     throw new UsageError(`session ${summary.id} was heard against the corpus ${summary.corpus}, which cannot be opened now (${e.message}); pass --corpus PATH to review it against a copy elsewhere`);
@@ -118,15 +119,15 @@ function durationSeconds(s: LoggedSession): number | null {
   return Number.isFinite(start) && Number.isFinite(end) ? Math.max(0, (end - start) / 1000) : null;
 }
 
-function buildReview(s: LoggedSession, settings: ReviewSettings, opened: OpenedCorpus, options: { worst: number; exact: boolean }): SessionReview {
+async function buildReview(s: LoggedSession, settings: ReviewSettings, opened: OpenedCorpus, options: QueueFlags & { corpus: string; worst: number; exact: boolean }): Promise<SessionReview> {
   const view = opened.view(settings.pitch);
   // The log keeps notes as played, in MIDI numbers: snap them as the live scorer did, and for
   // morphetic scoring spell them in the key they suggest.
   const snapped = snapOnsets(s.notes, settings.grid);
   const notes = settings.pitch === 'morphetic' ? spellNotes(snapped) : snapped;
   // The mode the session was heard with, through the corpus's one entry point (its index unless --exact).
-  const matcher = opened.matcher({ pitch: settings.pitch, window: settings.window, mode: settings.mode, exact: options.exact });
-  const report = originalityReport([{ file: `session ${s.summary.id}`, notes, meter: settings.meter }], view, matcher, { ...settings, seed: 1 });
+  const request = { pitch: settings.pitch, window: settings.window, mode: settings.mode, exact: options.exact };
+  const report = await withMatcher(opened, options, request, 'scoring', (matcher) => originalityReport([{ file: `session ${s.summary.id}`, notes, meter: settings.meter }], view, matcher, { ...settings, seed: 1 }));
   const q = report.queries[0];
   const start = Date.parse(s.summary.start);
   const { id, end, corpus: corpusPath, preset } = s.summary;
@@ -218,6 +219,8 @@ interface ReviewFlags {
   baseline?: BaselineFile;
   worst: number;
   exact?: boolean;
+  queue?: string;
+  queueTimeout: number;
   minNotes: number;
   json?: boolean;
 }
@@ -253,13 +256,16 @@ export function registerReview(cli: Command): void {
     .option('--worst <n>', 'how many worst windows to show and pair', wholeNumber('--worst'), DEFAULT_WORST)
     .option('--exact', 'match by brute force even where the corpus has an index (slow: the reference the index is checked against)')
     .addOption(minNotesOption())
+    .addOption(queueOption())
+    .addOption(queueTimeoutOption())
     .option('--json', 'print the review as JSON')
-    .action((id: string, o: ReviewFlags) => {
+    .action(async (id: string, o: ReviewFlags) => {
       const file = o.log ?? defaultLogFile();
       const s = readSession(file, sessionId(id));
       const settings = sessionSettings(file, s.summary, o.minNotes);
       if (o.baseline) checkBaselineFits(o.baseline, settings);
-      const review = buildReview(s, settings, openSessionCorpus(s.summary, o.corpus, settings.pitch), { worst: o.worst, exact: o.exact ?? false });
+      const opened = openSessionCorpus(s.summary, o.corpus, settings.pitch, matchesHere(o));
+      const review = await buildReview(s, settings, opened, { ...o, corpus: o.corpus ?? s.summary.corpus, worst: o.worst, exact: o.exact ?? false });
       const protect = [file];
       const written: string[] = [];
       if (o.html) {
