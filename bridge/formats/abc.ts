@@ -40,6 +40,7 @@ interface AbcElement {
   pitches?: (AbcPitch | null)[];
   gracenotes?: unknown;
   duration?: number;
+  decoration?: string[];
   midiPitches?: { pitch: number }[];
   currentTrackWholeNotes?: number | number[];
   type?: string;
@@ -79,6 +80,8 @@ const PERCUSSION_CHANNEL = 10;
 const MAX_REST_BARS = 10_000;
 /** Longest a tune may be as written, in whole notes (100,000 is 400,000 beats, a day and a half at 180 a minute): abcjs lays out time in steps, and a note of 10^16 whole notes would end the process. */
 const MAX_WHOLE_NOTES = 100_000;
+/** Longest a tune's trilled notes may be in all, in whole notes: abcjs writes a trill out as 32nd notes, 32 a whole note, slowly (a trill of 60,000 whole notes took 85 s). */
+const MAX_TRILLED_WHOLE_NOTES = 1_000;
 /** Highest ending number ([1, [2 … ): abcjs steps through every number up to the highest, so [99999900 would take minutes. */
 const MAX_ENDING = 64;
 /** Largest numerator and denominator of a time signature (a denominator is at least 1): abcjs lays out every beat of a bar, and a hundred million would end the process. */
@@ -197,6 +200,8 @@ function readTune(abc: string, id: string, options: { percussion?: boolean }): S
   const byChar = new Map<number, AbcElement>();
   const written = elements(tune).reduce((sum, el) => sum + (el.el_type === 'note' && el.rest?.type !== 'multimeasure' ? Math.abs(Number(el.duration)) || 0 : 0), 0);
   if (!(written <= MAX_WHOLE_NOTES)) throw new TuneError(`is ${written.toLocaleString('en')} whole notes long as written, longer than the ${MAX_WHOLE_NOTES.toLocaleString('en')} earwitness plays in one tune`);
+  const trilled = elements(tune).reduce((sum, el) => sum + (el.el_type === 'note' && el.decoration?.some((d) => d === 'trill' || d === 'trillh') ? Math.abs(Number(el.duration)) || 0 : 0), 0);
+  if (!(trilled <= MAX_TRILLED_WHOLE_NOTES)) throw new TuneError(`has trills ${trilled.toLocaleString('en')} whole notes long in all, more than the ${MAX_TRILLED_WHOLE_NOTES.toLocaleString('en')} earwitness plays in one tune (abcjs writes a trill out in 32nd notes)`);
   const restBars = elements(tune).reduce((n, el) => n + (el.rest?.type === 'multimeasure' ? Number(el.rest.text) || 0 : 0), 0);
   if (restBars > MAX_REST_BARS) throw new TuneError(`rests for ${restBars.toLocaleString('en')} bars (Z), more than the ${MAX_REST_BARS.toLocaleString('en')} earwitness plays in one tune`);
   const ending = elements(tune).flatMap((e) => (e.startEnding ? String(e.startEnding).split(/[^0-9]+/) : [])).map(Number).find((n) => n > MAX_ENDING);
