@@ -34,10 +34,10 @@ export const matcherRequest = (o: ReportOptions): MatcherRequest => ({ pitch: o.
 /** The matcher reports and baselines score with in this process. */
 export const matcherFor = (opened: OpenedCorpus, o: ReportOptions): WindowMatcher => opened.matcher(matcherRequest(o));
 
-/** Every window of every query scored against the corpus: the report, and what `check` judges. */
-export function scoreQueries(opened: OpenedCorpus, queries: readonly QueryInput[], o: ReportOptions, progress?: Progress): { view: CorpusPoints; report: OriginalityReport } {
+/** Every window of every query scored against the corpus (by `matcher`, else in this process): the report, and what `check` judges. */
+export function scoreQueries(opened: OpenedCorpus, queries: readonly QueryInput[], o: ReportOptions, progress?: Progress, matcher: WindowMatcher = matcherFor(opened, o)): { view: CorpusPoints; report: OriginalityReport } {
   const view = opened.view(o.pitch);
-  return { view, report: originalityReport(queries, view, matcherFor(opened, o), o, progress) };
+  return { view, report: originalityReport(queries, view, matcher, o, progress) };
 }
 
 /** The report with its matching mode and the files skipped: what `report --json` prints and `POST /report` answers. */

@@ -17,6 +17,7 @@ import { loadQueryBytes } from '../corpus/corpus-files.js';
 import { documentText, readableQueries, reportDocument, scoreQueries } from '../corpus/report-document.js';
 import { UsageError } from '../formats/user-error.js';
 import type { FromReportWorker, ReportWorkerSetup, ToReportWorker } from './reports.js';
+import { corpusSummary } from './scorer.js';
 
 const setup = workerData as ReportWorkerSetup;
 const port = parentPort!;
@@ -27,8 +28,7 @@ try {
   // Everything read now, as the scoring worker does: the index file may be rebuilt or deleted while the daemon listens.
   // Notices (a file skipped) are the scoring worker's to tell; they would only repeat here.
   opened = openCorpus(setup.corpus, { deferNotes: false });
-  const { source, corpus } = opened;
-  post({ type: 'ready', corpus: { source, pieces: corpus.pieces.length, notes: corpus.pieces.reduce((s, p) => s + p.notes.length, 0) } });
+  post({ type: 'ready', corpus: corpusSummary(opened) });
 } catch (e) {
   post({ type: 'failed', message: (e as Error).message });
   process.exit(0);

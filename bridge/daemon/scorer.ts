@@ -11,6 +11,7 @@
  *   scorer.submit({ seq: 1, onset: 0, duration: 1, pitch: 60, velocity: 90, channel: 1 });
  *   scorer.counters   // → { evaluations: 1, coalesced: 0, ... }
  */
+import type { OpenedCorpus } from '../corpus/open-corpus.js';
 import { Worker } from 'node:worker_threads';
 import type { LiveNote, LiveVerdict } from './live-scorer.js';
 import type { StretchRule } from '../../core/stretch.js';
@@ -33,6 +34,9 @@ export interface CorpusSummary {
   pieces: number;
   notes: number;
 }
+
+/** What a worker tells the daemon of the corpus it opened. */
+export const corpusSummary = ({ source, corpus }: Pick<OpenedCorpus, 'source' | 'corpus'>): CorpusSummary => ({ source, pieces: corpus.pieces.length, notes: corpus.pieces.reduce((s, p) => s + p.notes.length, 0) });
 
 export type ToWorker = { type: 'evaluate'; reset: boolean; notes: LiveNote[] } | { type: 'reset'; reset: true };
 export type FromWorker =

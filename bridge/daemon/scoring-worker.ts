@@ -14,7 +14,7 @@ import { parentPort, workerData } from 'node:worker_threads';
 import { performance } from 'node:perf_hooks';
 import { openCorpus } from '../corpus/open-corpus.js';
 import { type LiveScorer, liveScorer } from './live-scorer.js';
-import type { FromWorker, ToWorker, WorkerSetup } from './scorer.js';
+import { type FromWorker, type ToWorker, type WorkerSetup, corpusSummary } from './scorer.js';
 
 const setup = workerData as WorkerSetup;
 const port = parentPort!;
@@ -24,11 +24,11 @@ let scorer: LiveScorer;
 try {
   // Everything read now: the index file may be rebuilt or deleted while the daemon listens.
   const opened = openCorpus(setup.corpus, { deferNotes: false, notify: (line) => post({ type: 'notice', line }) });
-  const { source, corpus } = opened;
+  const { corpus } = opened;
   const matching = opened.matchCorpus('chromatic');
   if (setup.tempoFree) matching.fingerprints?.();
   scorer = liveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance, tempoFree: setup.tempoFree, early: setup.early }, matching);
-  post({ type: 'ready', corpus: { source, pieces: corpus.pieces.length, notes: corpus.pieces.reduce((s, p) => s + p.notes.length, 0) } });
+  post({ type: 'ready', corpus: corpusSummary(opened) });
 } catch (e) {
   post({ type: 'failed', message: (e as Error).message });
   process.exit(0);

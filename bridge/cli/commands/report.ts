@@ -1,10 +1,10 @@
 import { writeFileSync } from 'node:fs';
 import type { Command } from 'commander';
-import { type Baseline, type OriginalityReport, type QueryInput, humanBaseline, originalityReport } from '../../../core/report.js';
+import { type Baseline, type OriginalityReport, type QueryInput, humanBaseline } from '../../../core/report.js';
 import type { CorpusPoints } from '../../../core/corpus.js';
 import { loadQueries } from '../../corpus/corpus-files.js';
 import type { OpenedCorpus } from '../../corpus/open-corpus.js';
-import { documentText, matcherRequest, readableQueries, reportDocument } from '../../corpus/report-document.js';
+import { documentText, matcherRequest, readableQueries, reportDocument, scoreQueries as scoreWith } from '../../corpus/report-document.js';
 import { REPORT_DEFAULTS, type ReportOptions, modeOf } from '../../corpus/report-settings.js';
 import { type QueueFlags, matchesHere, queueOption, queueTimeoutOption, withMatcher } from '../batch-matching.js';
 import { openCorpusTold } from '../notices.js';
@@ -49,11 +49,8 @@ export function readQueries(paths: string[], o: CorpusFlags): ReturnType<typeof 
 }
 
 /** Every window of every query scored against the corpus: the report, and what `check` judges. */
-export async function scoreQueries(opened: OpenedCorpus, queries: QueryInput[], o: CorpusFlags): Promise<{ view: CorpusPoints; report: OriginalityReport }> {
-  const view = opened.view(o.pitch);
-  const report = await withMatcher(opened, o, matcherRequest(o), 'scoring', (matcher, tick) => originalityReport(queries, view, matcher, o, tick));
-  return { view, report };
-}
+export const scoreQueries = (opened: OpenedCorpus, queries: QueryInput[], o: CorpusFlags): Promise<{ view: CorpusPoints; report: OriginalityReport }> =>
+  withMatcher(opened, o, matcherRequest(o), 'scoring', (matcher, tick) => scoreWith(opened, queries, o, tick, matcher));
 
 /** The corpus's human baseline: what `baseline` prints, and what `check --against-baseline` computes when none is stored. */
 export async function computeBaseline(opened: OpenedCorpus, o: CorpusFlags & { samples: number }): Promise<Baseline> {
