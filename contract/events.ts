@@ -16,7 +16,7 @@ export interface HelloEvent {
   preset: { name: string; window: number; threshold: number; minNotes: number; consecutive: number; warn: boolean; pitch?: 'chromatic' | 'morphetic'; tolerance?: number; tempoFree?: boolean; minDistinctiveness?: number; early?: EarlyRule };
   midi: { available: boolean; detail: string };
   osc: { port: number };
-  /** Recent score and warning events, so a page that reconnects can redraw its timeline. */
+  /** Recent score and warning events, so a page that reconnects can redraw its timeline; only the newest score keeps its `excerpt` (older ones have null). */
   history: (ScoreEvent | WarningEvent | ClearEvent)[];
 }
 

@@ -26,7 +26,7 @@ import { checkTolerance, toleranceMatching } from './tolerance.js';
 import { scaleTime } from './fingerprint.js';
 import { type CorpusIndex, type FlatPoints, lowerBoundAt } from './triple-index.js';
 import { TripleLookups, voteRarest } from './index-match.js';
-import { excerptOf } from './verify.js';
+import { excerptLines } from './verify.js';
 import { VoteTable } from './votes.js';
 
 /** Share of the matched material a place must hold to count as holding it. */
@@ -37,7 +37,7 @@ export function matchedMaterial(flat: FlatPoints, window: MatchWindow, spanGrain
   const scale = m.timeScale ?? 1;
   const onCorpusTime = scale === 1 ? window.points : scaleTime(window.points, window.startGrains, scale);
   const from = toGrains(m.pieceStart);
-  const { lines } = excerptOf(flat, m.piece, from - tolGrains, from + Math.round(spanGrains / scale) + tolGrains);
+  const lines = excerptLines(flat, m.piece, from - tolGrains, from + Math.round(spanGrains / scale) + tolGrains);
   return toleranceMatching(lines, onCorpusTime, { at: window.startGrains - from, pitch: m.transposition }, tolGrains)
     .map((p) => p.corpus)
     .sort(comparePoints);

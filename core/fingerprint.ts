@@ -29,7 +29,7 @@ import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains } from './note.js'
 import { type MatchWindow, type WindowMatch, better, betterMatch } from './match.js';
 import { type FlatPoints, lowerBoundAt, radixPass } from './triple-index.js';
 import { toleranceMatching } from './tolerance.js';
-import { type Span, type Verifier, excerptOf } from './verify.js';
+import { type Span, type Verifier, excerptLines } from './verify.js';
 import type { CandidateSource } from './index-match.js';
 import { mostCounted } from './votes.js';
 
@@ -283,22 +283,40 @@ class Cells {
 const cells = new Cells();
 
 
+/** The window's triples found in the table, kept between windows: sort keys, and (key, first note, last note) three by three. */
+const scratch = {
+  order: new Float64Array(1024),
+  found: new Int32Array(3 * 1024),
+  grow(): void {
+    const order = new Float64Array(2 * this.order.length);
+    const found = new Int32Array(3 * order.length);
+    order.set(this.order);
+    found.set(this.found);
+    this.order = order;
+    this.found = found;
+  },
+};
+
 /** Votes of the window's triples, rarest key first, into `cells`. */
 function vote(flat: FlatPoints, table: FingerprintTable, settings: FingerprintSettings, window: MatchWindow): void {
   const { at, pitch, offsets } = flat;
   const points = window.points;
   const qa = points.map((p) => p.at);
   const slots = slotsOf(table.keys);
-  // Each triple the table has, as one number: its postings, then the order found, sorted rarest first; the key and notes beside it.
-  const order: number[] = [];
-  const found: number[] = [];
+  // Each triple the table has, as one number: its postings, then the order found, sorted rarest first (a typed sort, by value); the key and notes beside it.
+  let triples = 0;
   eachTriple(qa, 0, points.length, table.shape, (a, b, c) => {
     const k = findKey(table.keys, slots, fingerprintKey(qa[a], qa[b], qa[c], points[a].pitch, points[b].pitch, points[c].pitch));
     if (k < 0) return;
-    order.push((table.starts[k + 1] - table.starts[k]) * 2 ** 21 + found.length / 3);
-    found.push(k, a, c);
+    if (triples === scratch.order.length) scratch.grow();
+    scratch.order[triples] = (table.starts[k + 1] - table.starts[k]) * 2 ** 21 + triples;
+    const f = 3 * triples++;
+    scratch.found[f] = k;
+    scratch.found[f + 1] = a;
+    scratch.found[f + 2] = c;
   });
-  order.sort((x, y) => x - y);
+  const order = scratch.order.subarray(0, triples).sort();
+  const found = scratch.found;
   const gap = toGrains(table.shape.minGap);
   const [logMin, logMax] = [Math.log(settings.minScale), Math.log(settings.maxScale)];
   cells.clear();
@@ -306,7 +324,9 @@ function vote(flat: FlatPoints, table: FingerprintTable, settings: FingerprintSe
   for (let r = 0; r < order.length; r++) {
     const size = Math.floor(order[r] / 2 ** 21);
     const f = 3 * (order[r] % 2 ** 21);
-    const [k, a, c] = [found[f], found[f + 1], found[f + 2]];
+    const k = found[f];
+    const a = found[f + 1];
+    const c = found[f + 2];
     if (r >= settings.minTriples && spent + size > settings.voteBudget) break;
     spent += size;
     const q0 = points[a];
@@ -390,7 +410,7 @@ function refit(flat: FlatPoints, tolGrains: number, found: { match: WindowMatch;
   const startGrains = span.startGrains;
   const from = Math.round(match.pieceStart * GRAINS_PER_BEAT);
   const shift = startGrains - from;
-  const { lines } = excerptOf(flat, match.piece, from - tolGrains, from + span.spanGrains + tolGrains);
+  const lines = excerptLines(flat, match.piece, from - tolGrains, from + span.spanGrains + tolGrains);
   const pairs = toleranceMatching(lines, span.points, { at: shift, pitch: match.transposition }, tolGrains);
   if (pairs.length < 3) return null;
   const xs = pairs.map((p) => p.corpus.at);

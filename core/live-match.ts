@@ -43,9 +43,18 @@ export const STRETCH_CANDIDATES = 32;
 /** Played times are kept relative to an origin so that shifts stay well inside int32 however long a session runs. */
 const REBASE_GRAINS = 2 ** 30;
 
+/**
+ * Vote table size (2^bits slots) for a matcher that listens for hours: a
+ * 16-beat window of a million-note corpus holds some 16,000 live entries, and
+ * a table that grows mid-performance makes that note wait.
+ */
+export const LIVE_TABLE_BITS = 17;
+
 export interface LiveMatcherOptions {
   windowBeats: number;
   mode: MatchMode;
+  /** Each stream's vote table at the start, 2^bits slots (core/votes.ts); default 12, grown as needed. */
+  tableBits?: number;
 }
 
 const snapDown = (at: number, grains: number): number => Math.floor(at / grains) * grains;
@@ -107,7 +116,11 @@ export class LiveMatcher {
 
   /** Votes from nothing but `window`, with times counted from its start. */
   private rebuild(window: readonly Point[], startGrains: number): void {
-    this.voters = this.grids.map((grains) => ({ grains, stream: new StreamingMatch(this.index, { windowBeats: this.options.windowBeats }), newest: -Infinity }));
+    if (this.voters.length === 0) this.voters = this.grids.map((grains) => ({ grains, stream: new StreamingMatch(this.index, { windowBeats: this.options.windowBeats, tableBits: this.options.tableBits }), newest: -Infinity }));
+    for (const v of this.voters) {
+      v.stream.clear();
+      v.newest = -Infinity;
+    }
     this.origin = snapDown(Math.min(startGrains, window[0].at), COARSE_GRAINS);
     this.stale = false;
     for (const p of window) this.add(p);

@@ -93,15 +93,28 @@ function inSpan<N extends Note>(notes: readonly N[], from: number, to: number): 
 /** `inSpan` of a piece's notes, which are sorted by onset: a live verdict asks this of a whole piece after every note. */
 const pieceSpan = (notes: readonly Note[], from: number, to: number): Note[] => notes.slice(firstFrom(notes, from), firstFrom(notes, to));
 
+/** The notes of a matched window's two excerpts, and which of each the match lands on the other (`excerptMarks`). */
+export interface ExcerptMarks<N extends Note> {
+  query: readonly N[];
+  corpus: readonly Note[];
+  queryMatched: boolean[];
+  corpusMatched: boolean[];
+}
+
 /**
- * The two excerpts of a matched window. A note is flagged when the match's
+ * The two excerpts of a matched window, each note flagged when the match's
  * translation (and, for a tempo-free match, its time scale) lands it on a
  * note of the other excerpt of the same pitch in `mode`, within `tolerance`
  * beats; with no tolerance that is exactly the `match.matched` coinciding
  * points. `notes` must be the notes the window was scored from (spelled,
- * for morphetic pitch).
+ * for morphetic pitch). The flags come apart from the notes, so a caller
+ * after a few fields (the live verdict, once a note) copies no note whole.
+ *
+ * @example
+ *   const m = excerptMarks(windowNotes, window, piece, 'chromatic', 0.1);
+ *   m.corpus.filter((_, i) => m.corpusMatched[i]).length   // → window.match.matched, or near it within a tolerance
  */
-export function excerptPair<N extends Note>(notes: readonly N[], window: MatchedWindow, piece: Piece, mode: PitchMode, tolerance = 0): { query: MarkedNote<N>[]; corpus: MarkedNote<Note>[] } {
+export function excerptMarks<N extends Note>(notes: readonly N[], window: MatchedWindow, piece: Piece, mode: PitchMode, tolerance = 0): ExcerptMarks<N> {
   const from = toGrains(window.start);
   const width = toGrains(window.end) - from;
   const scale = window.match.timeScale ?? 1;
@@ -115,9 +128,15 @@ export function excerptPair<N extends Note>(notes: readonly N[], window: Matched
   // Pitch lines want points in order; the query's notes (a session's, in arrival order) may not be.
   const queryLines = pitchLines([...queryAt].sort(comparePoints));
   const corpusLines = pitchLines(corpusAt);
+  return { query, corpus, queryMatched: queryAt.map((q) => within(corpusLines, q, slack)), corpusMatched: corpusAt.map((c) => within(queryLines, c, slack)) };
+}
+
+/** `excerptMarks` as notes carrying their flags: the form the reports' piano rolls draw. */
+export function excerptPair<N extends Note>(notes: readonly N[], window: MatchedWindow, piece: Piece, mode: PitchMode, tolerance = 0): { query: MarkedNote<N>[]; corpus: MarkedNote<Note>[] } {
+  const m = excerptMarks(notes, window, piece, mode, tolerance);
   return {
-    query: query.map((q, i) => ({ ...q, matched: within(corpusLines, queryAt[i], slack) })),
-    corpus: corpus.map((c, i) => ({ ...c, matched: within(queryLines, corpusAt[i], slack) })),
+    query: m.query.map((q, i) => ({ ...q, matched: m.queryMatched[i] })),
+    corpus: m.corpus.map((c, i) => ({ ...c, matched: m.corpusMatched[i] })),
   };
 }
 

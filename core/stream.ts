@@ -57,14 +57,16 @@ export class StreamingMatch {
   private readonly at: number[] = [];
   private readonly voted: number[][] = [];
   private readonly lookups = new TripleLookups();
-  private readonly votes = new VoteTable();
+  private readonly votes: VoteTable;
   private start = 0;
 
-  constructor(private readonly index: CorpusIndex, options: { windowBeats: number; settings?: StreamSettings }) {
+  /** `tableBits`: the vote table's starting size, 2^bits slots (core/votes.ts); it grows as it must. */
+  constructor(private readonly index: CorpusIndex, options: { windowBeats: number; settings?: StreamSettings; tableBits?: number }) {
     if (!(Number.isFinite(options.windowBeats) && options.windowBeats > 0)) throw new RangeError(`windowBeats must be a positive number of beats, got ${options.windowBeats}`);
     this.windowBeats = options.windowBeats;
     this.horizon = toGrains(index.shape.horizonBeats);
     this.settings = options.settings ?? DEFAULT_STREAM;
+    this.votes = new VoteTable(options.tableBits);
   }
 
   /** Points in the window now. */
@@ -99,6 +101,15 @@ export class StreamingMatch {
       castVotes(this.index, this.votes, this.points[a], k, 1);
       this.voted[a].push(k);
     }
+  }
+
+  /** Forgets every point and vote, keeping the tables: a new passage. */
+  clear(): void {
+    this.points.length = 0;
+    this.at.length = 0;
+    this.voted.length = 0;
+    this.votes.clear();
+    this.start = 0;
   }
 
   /** Starts the window at `beforeGrains`: earlier points leave it, taking back their votes. */

@@ -19,7 +19,8 @@
  *   toleranceMatching(pitchLines(corpusExcerpt), playedWindow, { at: 7680, pitch: 5 }, toGrains(0.1)).length
  *   // → 22   corpus notes matched one to one by played notes within ±0.1 beat
  */
-import { type Point, GRAINS_PER_BEAT, countInSpan } from './note.js';
+import { type Point, GRAINS_PER_BEAT } from './note.js';
+import { type FlatPoints, lowerBoundAt } from './triple-index.js';
 import { type Translation, keyTranslation, translationKey } from './cardinality.js';
 import { type WindowMatch, betterMatch } from './match.js';
 
@@ -61,9 +62,20 @@ export interface MatchedPair {
  */
 export function toleranceMatching(lines: PitchLines, window: readonly Point[], t: Translation, tolGrains: number, windowLines: PitchLines = pitchLines(window)): MatchedPair[] {
   const pairs: MatchedPair[] = [];
-  for (const [pitch, played] of windowLines) {
+  matchAlongLines(lines, windowLines, t, tolGrains, (corpusAt, queryAt, pitch) => pairs.push({ corpus: { at: corpusAt, pitch: pitch - t.pitch }, query: { at: queryAt, pitch } }));
+  return pairs;
+}
+
+/** How many pairs `toleranceMatching` finds, without making them: what a search trying many translations needs. */
+export const toleranceCount = (lines: PitchLines, windowLines: PitchLines, t: Translation, tolGrains: number): number => matchAlongLines(lines, windowLines, t, tolGrains);
+
+/** Walks each pitch line of the window against the corpus's, greedily from the left; returns the pairs' count, telling `pair` of each. */
+function matchAlongLines(lines: PitchLines, windowLines: PitchLines, t: Translation, tolGrains: number, pair?: (corpusAt: number, queryAt: number, pitch: number) => void): number {
+  let n = 0;
+  // forEach, not for…of: an entry array per pitch line, per translation tried, is garbage a live note waits for.
+  windowLines.forEach((played, pitch) => {
     const line = lines.get(pitch - t.pitch);
-    if (!line) continue;
+    if (!line) return;
     let i = firstAtLeast(line, played[0] - t.at - tolGrains);
     let j = 0;
     while (i < line.length && j < played.length) {
@@ -71,13 +83,14 @@ export function toleranceMatching(lines: PitchLines, window: readonly Point[], t
       if (at + tolGrains < played[j]) i++;
       else if (played[j] + tolGrains < at) j++;
       else {
-        pairs.push({ corpus: { at: line[i], pitch: pitch - t.pitch }, query: { at: played[j], pitch } });
+        pair?.(line[i], played[j], pitch);
+        n++;
         i++;
         j++;
       }
     }
-  }
-  return pairs;
+  });
+  return n;
 }
 
 /** Restricts the candidate search to one transposition and time shifts near a guess. */
@@ -98,18 +111,19 @@ function shiftsBetween(lines: PitchLines, window: readonly Point[], pitch: numbe
   return out.sort((a, b) => a - b);
 }
 
-/** Histogram of pairs by (time-difference bin, pitch difference), keyed like translations. */
-function binCounts(points: readonly Point[], lines: PitchLines, window: readonly Point[], bin: number, near?: Near): Map<number, number> {
+/** Histogram of pairs by (time-difference bin, pitch difference), keyed like translations: near a guess, or over the whole piece. */
+function binCounts(s: PieceSearch, bin: number): Map<number, number> {
   const counts = new Map<number, number>();
   const add = (shift: number, pitch: number): void => {
     const k = translationKey(Math.floor(shift / bin), pitch);
     counts.set(k, (counts.get(k) ?? 0) + 1);
   };
-  if (near) {
-    const { at, pitch } = near.translation;
-    for (const shift of shiftsBetween(lines, window, pitch, at - near.within, at + near.within)) add(shift, pitch);
+  if (s.near) {
+    const { at, pitch } = s.near.translation;
+    for (const shift of shiftsBetween(s.lines, s.window, pitch, at - s.near.within, at + s.near.within)) add(shift, pitch);
   } else {
-    for (const q of window) for (const c of points) add(q.at - c.at, q.pitch - c.pitch);
+    const { at, pitch, offsets } = s.flat;
+    for (const q of s.window) for (let c = offsets[s.piece]; c < offsets[s.piece + 1]; c++) add(q.at - at[c], q.pitch - pitch[c]);
   }
   return counts;
 }
@@ -140,8 +154,10 @@ function refinedShifts(lines: PitchLines, window: readonly Point[], b: number, p
 }
 
 export interface PieceSearch {
+  /** The corpus's points, and the piece searched. */
+  flat: FlatPoints;
   piece: number;
-  points: readonly Point[];
+  /** The piece's pitch lines, over at least the corpus span any shift searched can reach. */
   lines: PitchLines;
   /** Window points, sorted, on the corpus's time scale. */
   window: readonly Point[];
@@ -155,7 +171,8 @@ export interface PieceSearch {
 /** The best tolerant match of a window in one piece, or `incumbent` when nothing there beats it. */
 export function bestInPiece(s: PieceSearch, incumbent: WindowMatch | null): WindowMatch | null {
   const bin = Math.max(1, s.tolGrains);
-  const counts = binCounts(s.points, s.lines, s.window, bin, s.near);
+  const counts = binCounts(s, bin);
+  const { at, offsets } = s.flat;
   const bound = (k: number): number => {
     const { at, pitch } = keyTranslation(k);
     let around = 0;
@@ -169,9 +186,10 @@ export function bestInPiece(s: PieceSearch, incumbent: WindowMatch | null): Wind
     if (best && most / s.window.length < best.score) break;
     const { at: b, pitch } = keyTranslation(k);
     for (const shift of refinedShifts(s.lines, s.window, b, pitch, bin, s.tolGrains)) {
-      const matched = toleranceMatching(s.lines, s.window, { at: shift, pitch }, s.tolGrains, windowLines).length;
+      const matched = toleranceCount(s.lines, windowLines, { at: shift, pitch }, s.tolGrains);
       const from = s.startGrains - shift;
-      const excerptNotes = countInSpan(s.points, from, from + s.spanGrains);
+      const lo = lowerBoundAt(at, from, offsets[s.piece], offsets[s.piece + 1]);
+      const excerptNotes = lowerBoundAt(at, from + s.spanGrains, lo, offsets[s.piece + 1]) - lo;
       const candidate: WindowMatch = {
         piece: s.piece,
         pieceStart: from / GRAINS_PER_BEAT,

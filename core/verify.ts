@@ -21,7 +21,7 @@ import { type Point, GRAINS_PER_BEAT, toGrains } from './note.js';
 import { keyTranslation, translationKey } from './cardinality.js';
 import { type WindowMatch, better, betterMatch } from './match.js';
 import { type FlatPoints, lowerBoundAt } from './triple-index.js';
-import { type PitchLines, bestInPiece, checkTolerance, pitchLines } from './tolerance.js';
+import { type PitchLines, bestInPiece, checkTolerance } from './tolerance.js';
 
 /** The points a verifier scores: a window, or a window rescaled to the corpus's tempo. */
 export interface Span {
@@ -143,20 +143,18 @@ export function reachable(flat: FlatPoints, span: Span, c: Candidate, reach: num
   return n;
 }
 
-/** Points of one piece as objects, with their pitch lines. */
-export interface PieceExcerpt {
-  points: Point[];
-  lines: PitchLines;
-}
-
-/** The piece's points with ontime in [from, to) grains, with their pitch lines. */
-export function excerptOf(flat: FlatPoints, piece: number, from: number, to: number): PieceExcerpt {
+/** The pitch lines of one piece's points with ontime in [from, to) grains, read straight off the flat arrays. */
+export function excerptLines(flat: FlatPoints, piece: number, from: number, to: number): PitchLines {
   const { at, pitch, offsets } = flat;
   const lo = lowerBoundAt(at, from, offsets[piece], offsets[piece + 1]);
   const hi = lowerBoundAt(at, to, lo, offsets[piece + 1]);
-  const points: Point[] = [];
-  for (let i = lo; i < hi; i++) points.push({ at: at[i], pitch: pitch[i] });
-  return { points, lines: pitchLines(points) };
+  const lines: PitchLines = new Map();
+  for (let i = lo; i < hi; i++) {
+    const line = lines.get(pitch[i]);
+    if (line) line.push(at[i]);
+    else lines.set(pitch[i], [at[i]]);
+  }
+  return lines;
 }
 
 /** The verifier for a corpus's flat points, exact (`toleranceBeats` 0) or within a tolerance. */
@@ -172,20 +170,20 @@ export function verifier(flat: FlatPoints, toleranceBeats: number): Verifier {
     };
   }
   // Whole pieces' points and lines for the reference search, made the first time it looks in a piece.
-  const pieces = new Map<number, PieceExcerpt>();
-  const whole = (piece: number): PieceExcerpt => pieces.get(piece) ?? pieces.set(piece, excerptOf(flat, piece, -Infinity, Infinity)).get(piece)!;
+  const pieces = new Map<number, PitchLines>();
+  const whole = (piece: number): PitchLines => pieces.get(piece) ?? pieces.set(piece, excerptLines(flat, piece, -Infinity, Infinity)).get(piece)!;
   return {
     toleranceBeats,
     near(span, c, incumbent = null) {
       // A refined shift lies up to two tolerances past the searched ones, and matches a tolerance further.
       const margin = c.within + 3 * tolGrains;
       const from = span.startGrains - c.shift;
-      const around = excerptOf(flat, c.piece, from - margin, from + span.spanGrains + margin);
+      const lines = excerptLines(flat, c.piece, from - margin, from + span.spanGrains + margin);
       const near = { translation: { at: c.shift, pitch: c.dp }, within: c.within };
-      return bestInPiece({ piece: c.piece, ...around, window: span.points, startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains, near }, incumbent);
+      return bestInPiece({ flat, piece: c.piece, lines, window: span.points, startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains, near }, incumbent);
     },
     // The search's refined shifts lie within two tolerances of those it starts from, and match a tolerance further.
     bound: (span, c) => reachable(flat, span, c, c.within + 3 * tolGrains),
-    every: (span, piece, best) => bestInPiece({ piece, ...whole(piece), window: span.points, startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains }, best),
+    every: (span, piece, best) => bestInPiece({ flat, piece, lines: whole(piece), window: span.points, startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains }, best),
   };
 }

@@ -6,8 +6,10 @@
  * in arrays of their own in the order they were first voted for, so finding
  * the most-voted reads them front to back instead of hopping over the whole
  * table. Counts go down as well as up (a streaming window takes back the
- * votes of notes it forgets); entries at zero are dropped when the entry
- * arrays fill.
+ * votes of notes it forgets): an entry that falls to zero leaves its hash
+ * slot at once (the probe run closed up behind it, so lookups stay short
+ * however long a table streams) and leaves a hole in the entry arrays,
+ * which are closed up in order, without rehashing, when they fill.
  *
  * @example
  *   const votes = new VoteTable();
@@ -28,6 +30,8 @@ export class VoteTable {
   private count: Int32Array;
   private slot: Int32Array;
   private size = 0;
+  /** Entries below `size` that have left (count 0, slot −1). */
+  private holes = 0;
 
   constructor(bits = 12) {
     this.bits = bits;
@@ -36,11 +40,16 @@ export class VoteTable {
     this.slot = new Int32Array(1 << (bits - 1));
   }
 
+  /** The home slot (times 4) of (low, high). */
+  private home(low: number, high: number): number {
+    return (Math.imul(low ^ Math.imul(high, 0x85ebca6b), 0x9e3779b1) >>> (32 - this.bits)) << 2;
+  }
+
   /** The slot (times 4) holding (low, high), or the empty slot where it would go. */
   private find(low: number, high: number): number {
     const mask = (4 << this.bits) - 4;
     const slots = this.slots;
-    let s = (Math.imul(low ^ Math.imul(high, 0x85ebca6b), 0x9e3779b1) >>> (32 - this.bits)) << 2;
+    let s = this.home(low, high);
     while (slots[s + 2] !== 0 && (slots[s] !== low || slots[s + 1] !== high)) s = (s + 4) & mask;
     return s;
   }
@@ -51,12 +60,13 @@ export class VoteTable {
     let s = this.find(shift, high);
     if (this.slots[s + 2] === 0) {
       if (this.size === this.count.length) {
-        this.compact();
+        this.makeRoom();
         s = this.find(shift, high);
       }
       this.claim(s, shift, high, 0);
     }
-    this.count[this.slots[s + 2] - 1] += delta;
+    const e = this.slots[s + 2] - 1;
+    if ((this.count[e] += delta) <= 0) this.remove(s, e);
   }
 
   /** Makes slot `s` a new entry for (low, high) with `votes`. */
@@ -69,19 +79,58 @@ export class VoteTable {
     this.slot[e] = s;
   }
 
-  /** Keeps the entries holding votes, in order, in a table with room for as many again. */
-  private compact(): void {
+  /** Takes entry `e`, in slot `s`, out: later slots of its probe run shift back (linear probing keeps no tombstones), and the entry becomes a hole. */
+  private remove(s: number, e: number): void {
+    const slots = this.slots;
+    const mask = (4 << this.bits) - 4;
+    let hole = s;
+    for (let j = (s + 4) & mask; slots[j + 2] !== 0; j = (j + 4) & mask) {
+      const home = this.home(slots[j], slots[j + 1]);
+      // The entry at j may fill the hole unless its home lies cyclically in (hole, j].
+      const stays = hole <= j ? home > hole && home <= j : home > hole || home <= j;
+      if (stays) continue;
+      slots[hole] = slots[j];
+      slots[hole + 1] = slots[j + 1];
+      slots[hole + 2] = slots[j + 2];
+      this.slot[slots[hole + 2] - 1] = hole;
+      hole = j;
+    }
+    slots[hole + 2] = 0;
+    this.count[e] = 0;
+    this.slot[e] = -1;
+    // Finding the most-voted reads every entry, holes too: once they are half, they go.
+    if (++this.holes * 2 > this.size) this.closeHoles();
+  }
+
+  /** The entry arrays are full: closes up their holes, and doubles the table if that leaves it over half full. */
+  private makeRoom(): void {
+    this.closeHoles();
+    if (this.size * 2 > this.count.length) this.grow();
+  }
+
+  /** Closes up the holes in the entry arrays, in order; the hash slots follow their entries, nothing is rehashed. */
+  private closeHoles(): void {
     let live = 0;
-    for (let e = 0; e < this.size; e++) if (this.count[e] > 0) live++;
-    while (live * 4 > 1 << this.bits) this.bits++;
+    for (let e = 0; e < this.size; e++) {
+      if (this.slot[e] < 0) continue;
+      this.count[live] = this.count[e];
+      this.slot[live] = this.slot[e];
+      this.slots[this.slot[live] + 2] = live + 1;
+      live++;
+    }
+    this.size = live;
+    this.holes = 0;
+  }
+
+  /** Doubles the table, its entries kept in order. */
+  private grow(): void {
     const old = { slots: this.slots, slot: this.slot, count: this.count, size: this.size };
-    const n = 1 << this.bits;
+    const n = 1 << ++this.bits;
     this.slots = new Int32Array(4 * n);
     this.count = new Int32Array(n >> 1);
     this.slot = new Int32Array(n >> 1);
     this.size = 0;
     for (let e = 0; e < old.size; e++) {
-      if (old.count[e] <= 0) continue;
       const low = old.slots[old.slot[e]];
       const high = old.slots[old.slot[e] + 1];
       this.claim(this.find(low, high), low, high, old.count[e]);
@@ -90,11 +139,12 @@ export class VoteTable {
 
   /** Forgets every vote; costs the number of entries, not the table's size. */
   clear(): void {
-    for (let e = 0; e < this.size; e++) this.slots[this.slot[e] + 2] = 0;
+    for (let e = 0; e < this.size; e++) if (this.slot[e] >= 0) this.slots[this.slot[e] + 2] = 0;
     this.size = 0;
+    this.holes = 0;
   }
 
-  /** The `n` most-voted entries with at least `atLeast` votes, most first; ties keep the order of first vote. */
+  /** The `n` most-voted entries with at least `atLeast` votes, most first; ties in entry order (the order of first vote since the entry last had none). */
   top(n: number, atLeast = 1): number[] {
     return mostCounted(this.count, this.size, n, atLeast);
   }

@@ -145,6 +145,12 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
 
   const push = (e: DaemonEvent): void => {
     if (e.type === 'score' || e.type === 'warning' || e.type === 'clear') {
+      // A page draws the newest score's excerpt only: older scores keep theirs out of the history (and out of the heap).
+      if (e.type === 'score') {
+        let last = history.length - 1;
+        while (last >= 0 && history[last].type !== 'score') last--;
+        if (last >= 0) history[last] = { ...(history[last] as ScoreEvent), excerpt: null };
+      }
       history.push(e);
       if (history.length > HISTORY_EVENTS) history.shift();
     }

@@ -25,9 +25,9 @@ import { type Corpus, corpusPoints, pieceName } from '../../core/corpus.js';
 import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
 import { buildFingerprints } from '../../core/fingerprint.js';
 import type { MatchCorpus } from '../../core/pipeline.js';
-import { LiveMatcher } from '../../core/live-match.js';
+import { LIVE_TABLE_BITS, LiveMatcher } from '../../core/live-match.js';
 import { LiveWindow } from '../../core/live-window.js';
-import { excerptPair, snapOnsets } from '../../core/review.js';
+import { excerptMarks, snapOnsets } from '../../core/review.js';
 import { type StretchMatch, type StretchRule, hotStretch, nearestStretch, thresholdOf } from '../../core/stretch.js';
 import type { StretchSummary } from '../../core/session-state.js';
 import type { WindowMatch } from '../../core/match.js';
@@ -110,7 +110,7 @@ export function liveCorpus(corpus: Corpus): MatchCorpus & { index: CorpusIndex }
  * when not given: `openCorpus(...).matchCorpus('chromatic')` is the daemon's).
  */
 export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching: MatchCorpus & { index: CorpusIndex } = liveCorpus(corpus)): LiveScorer {
-  const live = new LiveMatcher(matching, { windowBeats: options.windowBeats, mode: { tolerance: options.tolerance ?? 0, tempoFree: options.tempoFree ?? false } });
+  const live = new LiveMatcher(matching, { windowBeats: options.windowBeats, mode: { tolerance: options.tolerance ?? 0, tempoFree: options.tempoFree ?? false }, tableBits: LIVE_TABLE_BITS });
   const window = new LiveWindow<Note & { seq: number }>({ beats: options.windowBeats, maxNotes: MAX_WINDOW_NOTES });
   let lastSeq = 0;
   const early = options.early && options.early.lengths.length ? options.early : null;
@@ -157,14 +157,13 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
       const piece = corpus.pieces[m.piece];
       const match: LiveMatch = { ...matchOf(m), distinctiveness: m.distinctiveness! };
       const summary = { ...match, bar: match.pieceBar, beatInBar: match.pieceBeatInBar, score: m.score };
-      const { corpus: excerpt } = excerptPair(notes, { start: windowStart, end: windowEnd, bar: null, beatInBar: null, notes: points.length, score: m.score, tooShort: false, match: summary }, piece, 'chromatic', options.tolerance ?? 0);
-      return {
-        ...base,
-        score: m.score,
-        match,
-        timeShift: windowStart - m.pieceStart,
-        excerpt: excerpt.slice(0, MAX_EXCERPT_NOTES).map((n) => ({ onset: n.onset, duration: n.duration, pitch: n.pitch, matched: n.matched })),
-      };
+      const marks = excerptMarks(notes, { start: windowStart, end: windowEnd, bar: null, beatInBar: null, notes: points.length, score: m.score, tooShort: false, match: summary }, piece, 'chromatic', options.tolerance ?? 0);
+      const excerpt: ExcerptNote[] = [];
+      for (let i = 0; i < Math.min(marks.corpus.length, MAX_EXCERPT_NOTES); i++) {
+        const n = marks.corpus[i];
+        excerpt.push({ onset: n.onset, duration: n.duration, pitch: n.pitch, matched: marks.corpusMatched[i] });
+      }
+      return { ...base, score: m.score, match, timeShift: windowStart - m.pieceStart, excerpt };
     },
   };
 }

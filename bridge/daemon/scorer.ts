@@ -16,6 +16,7 @@ import { Worker } from 'node:worker_threads';
 import type { LiveNote, LiveVerdict } from './live-scorer.js';
 import type { StretchRule } from '../../core/stretch.js';
 import { UsageError } from '../formats/user-error.js';
+import { exposeCollector } from './idle-collect.js';
 
 export interface WorkerSetup {
   corpus: string;
@@ -102,6 +103,8 @@ export async function startScorer(
   const launch = (): Promise<CorpusSummary> =>
     new Promise((resolve, reject) => {
       let ready = false;
+      // The worker collects its garbage between notes (idle-collect.ts).
+      exposeCollector();
       worker = new Worker(options.workerUrl ?? WORKER_URL, { workerData: setup });
       worker.on('message', (m: FromWorker) => {
         if (m.type === 'ready') {

@@ -13,6 +13,7 @@
 import { parentPort, workerData } from 'node:worker_threads';
 import { performance } from 'node:perf_hooks';
 import { openCorpus } from '../corpus/open-corpus.js';
+import { idleCollector } from './idle-collect.js';
 import { type LiveScorer, liveScorer } from './live-scorer.js';
 import { type FromWorker, type ToWorker, type WorkerSetup, corpusSummary } from './scorer.js';
 
@@ -21,6 +22,8 @@ const port = parentPort!;
 const post = (m: FromWorker): void => port.postMessage(m);
 
 let scorer: LiveScorer;
+/** The verdict has gone: the scoring's garbage goes now, not during the next note's (idle-collect.ts). */
+const collect = idleCollector();
 try {
   // Everything read now: the index file may be rebuilt or deleted while the daemon listens.
   const opened = openCorpus(setup.corpus, { deferNotes: false, notify: (line) => post({ type: 'notice', line }) });
@@ -28,6 +31,7 @@ try {
   const matching = opened.matchCorpus('chromatic');
   if (setup.tempoFree) matching.fingerprints?.();
   scorer = liveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance, tempoFree: setup.tempoFree, early: setup.early }, matching);
+  collect({ full: true });
   post({ type: 'ready', corpus: corpusSummary(opened) });
 } catch (e) {
   post({ type: 'failed', message: (e as Error).message });
@@ -40,4 +44,5 @@ port.on('message', (m: ToWorker) => {
   const started = performance.now();
   for (const n of m.notes) scorer.add(n);
   post({ type: 'verdict', verdict: scorer.evaluate(), elapsedMs: performance.now() - started });
+  collect();
 });
