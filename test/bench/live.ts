@@ -111,7 +111,7 @@ async function main(): Promise<void> {
 }
 
 // This client collects its own garbage between notes, untimed, so it needs the engine's collector: run again with it.
-if (typeof (globalThis as { gc?: unknown }).gc !== 'function') process.exit(spawnSync(process.execPath, ['--expose-gc', ...process.argv.slice(1)], { stdio: 'inherit' }).status ?? 1);
+if (typeof (globalThis as { gc?: unknown }).gc !== 'function') process.exit(spawnSync(process.execPath, [...process.execArgv, '--expose-gc', ...process.argv.slice(1)], { stdio: 'inherit' }).status ?? 1);
 
 main().catch((e: Error) => {
   process.stderr.write(`live benchmark: ${e.message}\n`);

@@ -38,7 +38,8 @@ import { type FlatPoints, CORPUS_TRIPLES, buildTriples, corpusIndex, flattenPoin
 import { FINGERPRINT_SHAPE, buildFingerprints } from '../../core/fingerprint.js';
 import { DEFAULT_FILTER } from '../../core/index-match.js';
 import { type CandidateKind, type MatchCorpus, type MatchMode, windowMatcher } from '../../core/pipeline.js';
-import { LiveMatcher } from '../../core/live-match.js';
+import { LIVE_TABLE_BITS, LiveMatcher } from '../../core/live-match.js';
+import { idleCollector } from '../../bridge/daemon/idle-collect.js';
 import { originalityReport } from '../../core/report.js';
 import { readIndexFile, writeIndexFile } from '../../bridge/formats/index-file.js';
 import { decodeChorale } from '../helpers/jsb.js';
@@ -103,7 +104,8 @@ export interface CorpusRow {
   residentMB: number;
   modes: ModeRow[];
   /** Live path per note (add, expire to the last 16 beats, best with distinctiveness), CPU time, per mode. */
-  live: { mode: string; p50Ms: number; p99Ms: number; maxMs: number; notes: number }[];
+  /** CPU per note until the match is known; `collectMs`: the mean CPU per note of the collection after it, off the note's path as in the scoring worker. */
+  live: { mode: string; p50Ms: number; p99Ms: number; maxMs: number; collectMs: number; notes: number }[];
   /** A one-hour session (about 30,000 notes) reviewed through the index at tolerance 0.1, distinctiveness counted. */
   review?: { notes: number; windows: number; seconds: number; cpuSeconds: number };
 }
@@ -272,10 +274,17 @@ function modeRows(corpus: MatchCorpus, probes: readonly Probe[], mode: MatchMode
   return sampled.length ? rows : rows.slice(0, 1);
 }
 
-/** Every query played back to back, 4 beats apart, one note at a time into the live matcher: CPU time per note. */
+/**
+ * Every query played back to back, 4 beats apart, one note at a time into the
+ * live matcher as the scoring worker runs it (bridge/daemon/live-scorer.ts:
+ * its vote tables sized for a long window, its garbage collected after each
+ * verdict): CPU time per note, and the collection's apart.
+ */
 function liveRow(corpus: MatchCorpus & { index: NonNullable<MatchCorpus['index']> }, played: readonly Point[][], mode: MatchMode, name: string): CorpusRow['live'][number] {
-  const live = new LiveMatcher(corpus, { windowBeats: W, mode });
+  const live = new LiveMatcher(corpus, { windowBeats: W, mode, tableBits: LIVE_TABLE_BITS });
+  const collect = idleCollector();
   const perNote: number[] = [];
+  let collecting = 0;
   const window: Point[] = [];
   played.forEach((query, q) => {
     const offset = q * toGrains(QUERY_BEATS + 4);
@@ -287,11 +296,14 @@ function liveRow(corpus: MatchCorpus & { index: NonNullable<MatchCorpus['index']
       live.add(p);
       live.expire(window[0].at);
       live.best({ points: window, startGrains: window[0].at });
-      perNote.push(cpuMs() - c);
+      const verdict = cpuMs();
+      perNote.push(verdict - c);
+      collect();
+      collecting += cpuMs() - verdict;
     }
   });
   const s = [...perNote].sort((a, b) => a - b);
-  return { mode: name, p50Ms: round(percentile(s, 50)), p99Ms: round(percentile(s, 99)), maxMs: round(s[s.length - 1]), notes: s.length };
+  return { mode: name, p50Ms: round(percentile(s, 50)), p99Ms: round(percentile(s, 99)), maxMs: round(s[s.length - 1]), collectMs: round(collecting / s.length), notes: s.length };
 }
 
 /** A one-hour session at 120 beats a minute (7,200 beats, about 30,000 notes): the queries end to end, again and again, reviewed at tolerance 0.1. */
@@ -377,7 +389,7 @@ function table(r: CorpusRow): string {
         `  | ${m.mode} | ${m.candidates} | ${m.latency.p50Ms} ms | ${m.latency.p99Ms} ms | ${m.latency.windows} | ${m.windowsPerCpuSecond} | ${m.reportWindowsPerCpuSecond ?? "—"} | ${m.speedup ?? '—'}× | ` +
         `${m.candidates === 'every' ? '—' : `${pct(m.recall.atLeast05.share)} of ${m.recall.atLeast05.windows}`} | ${m.candidates === 'every' ? '—' : m.aboveReference} | ${m.tempo ? `${m.tempo.found} of ${m.tempo.windows}` : '—'} |`,
     ),
-    ...r.live.map((l) => `  live per note, ${l.mode}: CPU p50 ${l.p50Ms} ms, p99 ${l.p99Ms} ms, max ${l.maxMs} ms (${l.notes} notes)`),
+    ...r.live.map((l) => `  live per note, ${l.mode}: CPU p50 ${l.p50Ms} ms, p99 ${l.p99Ms} ms, max ${l.maxMs} ms (${l.notes} notes); collecting after each, ${l.collectMs} ms a note`),
   ];
   if (r.review) lines.push(`  review of a one-hour session (${r.review.notes} notes, ${r.review.windows} windows) at tolerance 0.1: ${r.review.seconds} s (${r.review.cpuSeconds} s CPU)`);
   return lines.join('\n');
@@ -433,4 +445,6 @@ function main(): void {
   process.stderr.write(`results added to ${recordResults({ ...run, rows, modes })}\n`);
 }
 
+// The live rows collect garbage between notes as the scoring worker does, which needs the engine's collector: run again with it.
+if (typeof (globalThis as { gc?: unknown }).gc !== 'function') process.exit(spawnSync(process.execPath, [...process.execArgv, '--expose-gc', ...process.argv.slice(1)], { stdio: 'inherit' }).status ?? 1);
 main();

@@ -129,6 +129,28 @@ describe('within a tolerance, on chorales played with human timing', () => {
   });
 });
 
+describe('tempo-free, note by note, on chorales played at another tempo (test/fixtures/jsb/README.md)', () => {
+  const { corpus: choraleCorpus } = chorales();
+  const choraleCorpusMatch = matchCorpusOf(corpusPoints(choraleCorpus, 'chromatic'));
+
+  it.each([1.5, 0.75, 2])('a passage played %s× as long: once the window holds it, found with the time scale within 2%', (scale) => {
+    for (const piece of [2, 14, 26]) {
+      // Beats 8–40 of the chorale at the new tempo, a 16-beat window streamed over it as a performer plays it.
+      const take = toPoints(played(passage(choraleCorpus.pieces[piece].notes, 8, 40), { scale, seed: piece, jitter: 0.02 }));
+      const live = new LiveMatcher(choraleCorpusMatch, { windowBeats: W, mode: { tolerance: 0.1, tempoFree: true } });
+      let last: ReturnType<LiveMatcher['best']> = null;
+      play(live, take.filter((p) => p.at < toGrains(Math.min(32, 32 * scale))), (window, start) => {
+        last = live.best({ points: window, startGrains: start });
+      });
+      const m = last!;
+      expect(m.piece).toBe(piece);
+      expect(m.transposition).toBe(0);
+      expect(Math.abs(m.timeScale! / scale - 1)).toBeLessThan(0.02);
+      expect(m.score).toBeGreaterThanOrEqual(0.8);
+    }
+  });
+});
+
 describe('candidatesOf', () => {
   const t = (piece: number, shift: number, dp: number) => ({ piece, shift, dp, votes: 1 });
 
