@@ -17,7 +17,8 @@
  *
  * Detection delay: beats from a quote's first note to the note a warning
  * was raised at; caught: a warning before the quote ends; a false warning:
- * one raised outside every quote and the window after it.
+ * one raised outside every quote and the window after it. The figures are
+ * added to test/bench/RESULTS.md, a column per (preset, corpus, playing, rule).
  *
  *   node dist/test/bench/early.js [--beats 2400] [--synthetic-notes 100000]
  *
@@ -43,6 +44,7 @@ import { pieceOf } from '../helpers/corpus.js';
 import { played } from '../helpers/material.js';
 import { ROOT, listen, spawnDaemon, tempDir } from '../helpers/daemon.js';
 import { synthCorpus, unrelated } from './synthetic.js';
+import { recordResults } from './results.js';
 
 const CHORALES = join(ROOT, '..', 'shared', 'data', 'jsb-chorales', 'Jsb16thSeparated.json');
 /** The presets as they were before recent stretches (whole window only). */
@@ -206,6 +208,9 @@ async function main(): Promise<void> {
     }
   }
   process.stdout.write(`${JSON.stringify({ bench: 'early', date: new Date().toISOString(), beats, rows })}\n`);
+  // A column per row in the results file, named by what it plays.
+  const columns = rows.map(({ preset, corpus, playing, rule, ...figures }) => ({ corpus: `${preset} · ${corpus} · ${playing} · ${rule}`, ...figures }));
+  process.stderr.write(`results added to ${recordResults({ bench: 'early', beats, rows: columns })}\n`);
 }
 
 const toNotes = (points: readonly { at: number; pitch: number }[]): Note[] =>

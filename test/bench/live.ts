@@ -10,7 +10,9 @@
  *   node dist/test/bench/live.js [--notes 1000000] [--samples 100] [--window 16] [-- LISTEN FLAGS…]
  *
  * Flags after `--` go to `earwitness listen` as they are (`-- --tolerance 0`
- * measures the exact matcher alone).
+ * measures the exact matcher alone). It also times this machine's floor,
+ * the same trip with no scoring (test/bench/echo-floor.ts), and adds its
+ * figures to test/bench/RESULTS.md.
  *
  * @example
  *   node dist/test/bench/live.js --notes 10000
@@ -29,6 +31,7 @@ import type { ScoreEvent } from '../../contract/events.js';
 import { synthCorpus } from './synthetic.js';
 import { idleCollector } from '../../bridge/daemon/idle-collect.js';
 import { echoFloor } from './echo-floor.js';
+import { recordResults } from './results.js';
 import { CLI, health, listen, spawnDaemon, tempDir } from '../helpers/daemon.js';
 
 /** The benchmark's own flags: those before a `--`. */
@@ -108,6 +111,24 @@ async function main(): Promise<void> {
       `target p99 ≤ 10 ms (Wessel & Wright 2002): ${percentile(latencies, 99) <= 10 ? 'met' : 'not met'}`,
     ].join('\n') + '\n',
   );
+  const r = (x: number): number => Math.round(x * 100) / 100;
+  const summary = {
+    bench: 'live',
+    window,
+    listen: extra.join(' ') || 'preset jam',
+    rows: [
+      {
+        corpus: `synthetic ${total.toLocaleString('en')}`,
+        notes: latencies.length,
+        coalesced: h.coalesced,
+        noteInScoreOut: { p50Ms: r(percentile(latencies, 50)), p99Ms: r(percentile(latencies, 99)), maxMs: r(latencies[latencies.length - 1]) },
+        worker: { p50Ms: r(percentile(workerMs, 50)), p99Ms: r(percentile(workerMs, 99)) },
+        floor: { frameBytes: Math.round(percentile(frameBytes, 50)), p50Ms: r(floor.p50Ms), p99Ms: r(floor.p99Ms), maxMs: r(floor.maxMs) },
+      },
+    ],
+  };
+  process.stdout.write(JSON.stringify(summary) + '\n');
+  process.stderr.write(`results added to ${recordResults(summary)}\n`);
 }
 
 // This client collects its own garbage between notes, untimed, so it needs the engine's collector: run again with it.
