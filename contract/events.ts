@@ -50,8 +50,10 @@ export interface ScoreEvent {
   pieceBar?: number | null;
   pieceBeatInBar?: number | null;
   transposition: number | null;
-  /** Beats from the corpus excerpt to the played window: played onset = corpus onset + timeShift. */
+  /** Beats from the corpus excerpt to the played window: played onset = corpus onset + timeShift (at timeScale 1). */
   timeShift: number | null;
+  /** The played passage's length over the corpus's: 1 at the corpus tempo, another only with tempo-free matching; played onset = windowStart + (corpus onset − pieceStart) × timeScale. Null when nothing matched; absent from older daemons (read as 1). */
+  timeScale?: number | null;
   matched: number;
   windowNotes: number;
   windowStart: number;

@@ -201,7 +201,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     push({
       type: 'score', seq: v.seq, time, score: v.score,
       piece: m?.piece ?? null, title: m?.title ?? null, pieceStart: m?.pieceStart ?? null, pieceBar: m?.pieceBar ?? null, pieceBeatInBar: m?.pieceBeatInBar ?? null, transposition: m?.transposition ?? null,
-      timeShift: v.timeShift, matched: m?.matched ?? 0, windowNotes: v.windowNotes, windowStart: v.windowStart, windowEnd: v.windowEnd, excerpt: v.excerpt, distinctiveness: m?.distinctiveness ?? null,
+      timeShift: v.timeShift, timeScale: m?.timeScale ?? null, matched: m?.matched ?? 0, windowNotes: v.windowNotes, windowStart: v.windowStart, windowEnd: v.windowEnd, excerpt: v.excerpt, distinctiveness: m?.distinctiveness ?? null,
       stretch: stretchOf(v),
     });
     logged(() => log.addScore(session, { seq: v.seq, time, score: v.score, windowStart: v.windowStart, windowNotes: v.windowNotes, piece: m?.piece ?? null, transposition: m?.transposition ?? null, pieceStart: m?.pieceStart ?? null, matched: m?.matched ?? 0 }));

@@ -47,6 +47,8 @@ export interface LiveMatch {
   pieceBar: number | null;
   pieceBeatInBar: number | null;
   transposition: number;
+  /** The played passage's length over the corpus's: 1 unless a tempo-free match found another tempo. */
+  timeScale: number;
   matched: number;
   excerptNotes: number;
   /** 1 when the matched material is found in one corpus place only (core/distinctiveness.ts). */
@@ -117,7 +119,7 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
   const matchOf = (m: WindowMatch): Omit<LiveMatch, 'distinctiveness'> => {
     const piece = corpus.pieces[m.piece];
     const at = barFields(piece.meter ?? [], m.pieceStart);
-    return { piece: piece.path, title: pieceName(piece), pieceIndex: m.piece, pieceStart: m.pieceStart, pieceBar: at.bar, pieceBeatInBar: at.beatInBar, transposition: m.transposition, matched: m.matched, excerptNotes: m.excerptNotes };
+    return { piece: piece.path, title: pieceName(piece), pieceIndex: m.piece, pieceStart: m.pieceStart, pieceBar: at.bar, pieceBeatInBar: at.beatInBar, transposition: m.transposition, timeScale: m.timeScale ?? 1, matched: m.matched, excerptNotes: m.excerptNotes };
   };
   const judged = (rule: StretchRule, points: ReturnType<typeof toPoints>, startGrains: number): LiveStretch | null => {
     const stretches = live.stretches({ points, startGrains }, rule.lengths);

@@ -118,6 +118,19 @@ describe('overlay view state', () => {
     });
   });
 
+  it('stretches the excerpt by the time scale of a match at another tempo', () => {
+    const excerpt = [
+      { onset: 8, duration: 1, pitch: 60, matched: true },
+      { onset: 9.5, duration: 0.5, pitch: 62, matched: true },
+    ];
+    // Played 1.5 times as long: corpus beat 8 (pieceStart) at the window's start, every corpus beat 1.5 played beats.
+    const s = run(ev(hello()), ev(score(T0, 1, { excerpt, pieceStart: 8, timeShift: 92, timeScale: 1.5, transposition: 0, windowStart: 100, windowEnd: 116 })));
+    expect(roll(s)?.corpus).toEqual([
+      { onset: 100, duration: 1.5, pitch: 60, matched: true },
+      { onset: 102.25, duration: 0.75, pitch: 62, matched: true },
+    ]);
+  });
+
   it('shows the recent stretch a score judged, in played beats', () => {
     const stretch = { startBeat: 104, endBeat: 107.5, notes: 8, beats: 4, threshold: 0.95, score: 1, hot: true, piece: 'a.mid', title: 'a', pieceStart: 12, transposition: 5, matched: 8, distinctiveness: 1 };
     const s = run(ev(hello()), ev(note(1, 104, 65)), ev(score(T0, 0.3, { windowStart: 100, windowEnd: 116, stretch })));

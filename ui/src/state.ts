@@ -163,8 +163,9 @@ export interface Roll {
 
 /**
  * The piano roll of the last score: played notes inside its window, and the
- * corpus excerpt aligned with them (played onset = corpus onset + timeShift,
- * played pitch = corpus pitch + transposition).
+ * corpus excerpt aligned with them (played onset = windowStart + (corpus
+ * onset − pieceStart) × timeScale, which is corpus onset + timeShift at the
+ * corpus tempo; played pitch = corpus pitch + transposition).
  */
 export function roll(s: ViewState): Roll | null {
   const sc = s.score;
@@ -172,9 +173,11 @@ export function roll(s: ViewState): Roll | null {
   const played = s.notes
     .filter((n) => n.onset >= sc.windowStart && n.onset < sc.windowEnd)
     .map(({ onset, duration, pitch }) => ({ onset, duration, pitch }));
-  const shift = sc.timeShift ?? 0;
   const up = sc.transposition ?? 0;
-  const corpus = (sc.excerpt ?? []).map((n) => ({ onset: n.onset + shift, duration: n.duration, pitch: n.pitch + up, matched: n.matched }));
+  // On the played time: the excerpt's start at the window's, its beats stretched by the time scale (1 at the corpus tempo).
+  const scale = sc.timeScale ?? 1;
+  const from = sc.pieceStart ?? sc.windowStart - (sc.timeShift ?? 0);
+  const corpus = (sc.excerpt ?? []).map((n) => ({ onset: sc.windowStart + (n.onset - from) * scale, duration: n.duration * scale, pitch: n.pitch + up, matched: n.matched }));
   const st = sc.stretch;
   return { start: sc.windowStart, end: sc.windowEnd, played, corpus, stretch: st ? { start: st.startBeat, end: st.endBeat, hot: st.hot } : null };
 }

@@ -2,7 +2,8 @@
  * `listen --tempo-free` end to end: through the daemon (preset jam, OSC in),
  * unrelated playing, then 24 beats of a corpus melody played 1.5 times as
  * long (36 beats). With the flag, once the window lies inside the quote the
- * scores name the melody and reach 0.8; without it, the same stream at the
+ * scores name the melody, reach 0.8 and give its time scale within 2%, the
+ * piano roll's excerpt marked on that time; without it, the same stream at the
  * written tempo's matching scores under 0.5 there. Melodies are invented
  * (test/helpers/daemon.ts); OSC messages are encoded by the `osc` package
  * (OSC 1.0).
@@ -59,6 +60,9 @@ describe('a quote played slower', () => {
     const best = free.reduce((a, b) => (b.score > a.score ? b : a));
     expect(best.piece).toBe('cinderpath.mid');
     expect(best.score).toBeGreaterThanOrEqual(0.8);
+    // The tempo it was heard at, and the excerpt sent for the piano roll marked on that time: every note matched.
+    expect(Math.abs(best.timeScale! / SCALE - 1)).toBeLessThan(0.02);
+    expect(best.excerpt!.filter((n) => n.matched).length).toBe(best.matched);
     const fixed = (await scores(corpus, played, ['--no-tempo-free'])).filter(inside);
     const fixedBest = Math.max(...fixed.map((e) => e.score));
     console.log(`a quote at 1.5× its length: best ${best.score.toFixed(3)} tempo-free (${best.piece}), ${fixedBest.toFixed(3)} at the written tempo, over ${free.length} windows`);
