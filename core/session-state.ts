@@ -72,6 +72,8 @@ export interface VerdictMatch {
   pieceBar?: number | null;
   pieceBeatInBar?: number | null;
   distinctiveness?: number;
+  /** The played passage's length over the corpus's (tempo-free matching); 1 or absent at the corpus tempo. */
+  timeScale?: number;
 }
 
 /** Which recent stretch of the window matched (core/stretch.ts), in the session's beats. */
@@ -115,6 +117,8 @@ export interface Warning {
   startBeat: number;
   /** Of the match warned about, as in the score event. */
   distinctiveness?: number;
+  /** Present when a tempo-free match found the passage at another tempo: its length played over the corpus's. */
+  timeScale?: number;
   /** When a recent stretch raised it: which (then piece, score and pieceStart are the stretch's). */
   stretch?: StretchSummary;
 }
@@ -207,7 +211,11 @@ function act(step: Step, actions: PolicyAction[], verdict: Verdict | null, time:
       step.effects.push({ type: 'raise', warning });
     } else if (a.type === 'raise' && verdict?.match) {
       const m = verdict.match;
-      const warning: Warning = { seq: verdict.seq, time, piece: m.piece, title: m.title, score: verdict.score, transposition: m.transposition, pieceStart: m.pieceStart, ...(m.pieceBar === undefined ? {} : { pieceBar: m.pieceBar, pieceBeatInBar: m.pieceBeatInBar ?? null }), startBeat: verdict.windowStart, distinctiveness: m.distinctiveness };
+      const warning: Warning = {
+        seq: verdict.seq, time, piece: m.piece, title: m.title, score: verdict.score, transposition: m.transposition, pieceStart: m.pieceStart,
+        ...(m.pieceBar === undefined ? {} : { pieceBar: m.pieceBar, pieceBeatInBar: m.pieceBeatInBar ?? null }), startBeat: verdict.windowStart, distinctiveness: m.distinctiveness,
+        ...(m.timeScale === undefined || m.timeScale === 1 ? {} : { timeScale: m.timeScale }),
+      };
       step.state = { ...step.state, standing: warning, warnings: step.state.warnings + 1 };
       step.effects.push({ type: 'raise', warning });
     }

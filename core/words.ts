@@ -12,6 +12,7 @@
  *   transpositionWords(0)                    // → "same pitch"
  *   transpositionWords(-3)                   // → "3 semitones down"
  *   transpositionWords(2, 'morphetic')       // → "2 scale steps up"
+ *   tempoWords(1.5)                          // → "1.5× as long (slower)"
  *   barBeatText([], 9)                       // → "3:2"
  *   positionWords([], -2)                    // → "2 beats before the piece begins"
  *   parseGrid('1/16T')                       // → 6 (divisions of a beat)
@@ -30,6 +31,15 @@ const plural = (n: number, one: string, many = `${one}s`): string => `${n} ${Mat
 
 /** A whole or fractional number as a person writes it: 2, 2.5, 1.33. */
 export const numberWords = (x: number): string => String(Math.round(x * 100) / 100);
+
+/**
+ * A tempo-free match's time scale as a player says it: null within 2% of the
+ * corpus tempo, else "1.5× as long (slower)" or "0.75× as long (faster)".
+ */
+export function tempoWords(timeScale: number): string | null {
+  if (Math.abs(timeScale - 1) < 0.02) return null;
+  return `${numberWords(timeScale)}× as long (${timeScale > 1 ? 'slower' : 'faster'})`;
+}
 
 /** "same pitch", "5 semitones up", "1 semitone down", "2 scale steps up": from the corpus passage to what was played. */
 export function transpositionWords(t: number, pitch: PitchMode = 'chromatic'): string {

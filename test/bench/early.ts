@@ -15,6 +15,11 @@
  * streams: as it was before recent stretches (`BEFORE` flags), then as it
  * ships.
  *
+ * Streams of own playing alone come from the demo's melody generator
+ * (core/markov.ts) at orders 0 and 1, trained on each corpus's top voices:
+ * the idiom's intervals and rhythms, none of its passages; they count
+ * false warnings only.
+ *
  * Detection delay: beats from a quote's first note to the note a warning
  * was raised at; caught: a warning before the quote ends; a false warning:
  * one raised outside every quote and the window after it. The figures are
@@ -34,6 +39,7 @@ import osc from 'osc';
 import { type Note, GRAINS_PER_BEAT, toGrains, toPoints } from '../../core/note.js';
 import type { Piece } from '../../core/corpus.js';
 import { percentile, seededRandom } from '../../core/stats.js';
+import { generator, melodyOf, trainChain } from '../../core/markov.js';
 import { windows } from '../../core/windows.js';
 import { EXACT_MODE, windowMatcher } from '../../core/pipeline.js';
 import { midiBytes } from '../../bridge/formats/midi-write.js';
@@ -97,6 +103,23 @@ function stream(own: readonly Note[][], corpus: readonly Piece[], beats: number,
   }
   notes.sort((a, b) => a.onset - b.onset || a.pitch - b.pitch);
   return { notes, quotes, beats: t };
+}
+
+/**
+ * Own playing and nothing else: `beats` of melody from the demo's generator
+ * (core/markov.ts) at `order`, trained on the corpus's top voices, so it
+ * speaks the corpus's idiom note to note without holding its passages.
+ */
+function markovStream(corpus: readonly Piece[], beats: number, order: number, seed: number): Stream {
+  const next = generator(trainChain(corpus.map((p) => melodyOf(p.notes)), order), seededRandom(seed)).next;
+  const notes: Note[] = [];
+  for (let t = 0; t < beats; ) {
+    const e = next();
+    notes.push({ onset: t, duration: e.duration, pitch: e.pitch, morph: e.pitch, velocity: 80, channel: 1 });
+    // A tune's last event steps by its own length; none steps by nothing.
+    t += Math.max(e.step, 1 / 12);
+  }
+  return { notes, quotes: [], beats };
 }
 
 function writeCorpusFolder(pieces: readonly Piece[], label: string): string {
@@ -195,8 +218,8 @@ async function main(): Promise<void> {
 
   const rows: Row[] = [];
   for (const set of sets) {
-    for (const playing of ['verbatim', 'played'] as const) {
-      const s = stream(set.own, set.corpus, beats, playing, 7);
+    for (const playing of ['verbatim', 'played', 'markov order 0', 'markov order 1'] as const) {
+      const s = playing === 'verbatim' || playing === 'played' ? stream(set.own, set.corpus, beats, playing, 7) : markovStream(set.corpus, beats, Number(playing.slice(-1)), 7);
       for (const preset of ['jam', 'livecode']) {
         for (const rule of ['before', 'after'] as const) {
           const r = await run(set.dir, preset, rule === 'before' ? BEFORE[preset] : [], s);

@@ -9,13 +9,16 @@ import { readFileSync, readdirSync, statSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import ts from 'typescript';
 import { describe, expect, it } from 'vitest';
-import { barBeatText, gridWords, parseGrid, parsePitch, positionWords, transpositionWords } from '../../core/words.js';
+import { barBeatText, gridWords, parseGrid, parsePitch, positionWords, tempoWords, transpositionWords } from '../../core/words.js';
 import { ROOT } from '../helpers/daemon.js';
 
 describe('transposition words', () => {
   it('from the corpus passage to what was played, in semitones or scale steps', () => {
     expect(transpositionWords(0)).toBe('same pitch');
     expect(transpositionWords(5)).toBe('5 semitones up');
+    expect(tempoWords(1.5)).toBe('1.5× as long (slower)');
+    expect(tempoWords(0.75)).toBe('0.75× as long (faster)');
+    expect(tempoWords(0.99)).toBeNull();
     expect(transpositionWords(-3)).toBe('3 semitones down');
     expect(transpositionWords(-1)).toBe('1 semitone down');
     expect(transpositionWords(2, 'morphetic')).toBe('2 scale steps up');

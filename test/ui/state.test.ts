@@ -158,6 +158,11 @@ describe('overlay view state', () => {
     expect(headlineWords(placed).where).toBe('42% now · same pitch · from bar 4, beat 1');
     const before = run(ev(hello()), ev(score(T0, 0.42, { pieceStart: -2, pieceBar: null, pieceBeatInBar: null })));
     expect(headlineWords(before).where).toBe('42% now · 5 semitones up · from 2 beats before the piece begins');
+    // A tempo-free match says its tempo when it is not the corpus's; within 2% it says nothing of it.
+    const slower = run(ev(hello()), ev(score(T0, 0.42, { transposition: 0, pieceStart: 9, pieceBar: 4, pieceBeatInBar: 1, timeScale: 1.5 })));
+    expect(headlineWords(slower).where).toBe('42% now · same pitch · 1.5× as long (slower) · from bar 4, beat 1');
+    const near = run(ev(hello()), ev(score(T0, 0.42, { transposition: 0, pieceStart: 9, pieceBar: 4, pieceBeatInBar: 1, timeScale: 1.01 })));
+    expect(headlineWords(near).where).toBe('42% now · same pitch · from bar 4, beat 1');
     const none = run(ev(hello()), ev(score(T0, 0, { piece: null, title: null, pieceStart: null, transposition: null, timeShift: null })));
     expect(headlineWords(none)).toEqual({ lead: 'Nearest:', title: 'nothing in the corpus', where: '0% now' });
     const steps = run(ev(hello([], { preset: { ...hello().preset, pitch: 'morphetic' } })), ev(score(T0, 0.5, { transposition: 1 })));

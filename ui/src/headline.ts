@@ -7,12 +7,13 @@
  * @example
  *   renderHeadline(elements, state);
  *   // warning standing → "Close to:" / "The Ninth Buoy" / "warned at 88% · 5 semitones up · from bar 3, beat 1"
+ *   // a tempo-free match → "… · 5 semitones up · 1.5× as long (slower) · from bar 3, beat 1"
  *
  * Two figures can show at once: the meter's is the window just played
  * ("now"), the card's under a warning is the score the warning was raised at
  * ("warned at"); each says which it is.
  */
-import { placedWords, transpositionWords } from '../../core/words.js';
+import { placedWords, tempoWords, transpositionWords } from '../../core/words.js';
 import { type ViewState, percent, status } from './state.js';
 
 export interface HeadlineElements {
@@ -34,11 +35,14 @@ interface Placing {
   pieceStart: number;
   pieceBar?: number | null;
   pieceBeatInBar?: number | null;
+  timeScale?: number | null;
 }
 
-/** "5 semitones up · from bar 3, beat 1": the match as the one vocabulary tells it (core/words.ts). */
-const matchWords = (m: Placing, s: ViewState): string =>
-  `${transpositionWords(m.transposition, s.hello?.preset.pitch)} · from ${placedWords({ bar: m.pieceBar ?? null, beatInBar: m.pieceBeatInBar ?? null }, m.pieceStart)}`;
+/** "5 semitones up · 1.5× as long (slower) · from bar 3, beat 1": the match as the one vocabulary tells it (core/words.ts); the tempo only when it differs. */
+const matchWords = (m: Placing, s: ViewState): string => {
+  const tempo = m.timeScale == null ? null : tempoWords(m.timeScale);
+  return `${transpositionWords(m.transposition, s.hello?.preset.pitch)}${tempo ? ` · ${tempo}` : ''} · from ${placedWords({ bar: m.pieceBar ?? null, beatInBar: m.pieceBeatInBar ?? null }, m.pieceStart)}`;
+};
 
 /** The three lines of the card for a state. */
 export function headlineWords(s: ViewState): Words {

@@ -12,7 +12,7 @@ import { createSocket } from 'node:dgram';
 import osc from 'osc';
 import { beforeAll, describe, expect, it } from 'vitest';
 import type { Note } from '../../../core/note.js';
-import type { ScoreEvent } from '../../../contract/events.js';
+import type { ScoreEvent, WarningEvent } from '../../../contract/events.js';
 import { type TestCorpus, listen, melody, passage, spawnDaemon, writeCorpus } from '../../helpers/daemon.js';
 
 const QUOTE_AT = 16;
@@ -25,8 +25,8 @@ function stream(corpus: TestCorpus): Note[] {
   return [...own, ...quote];
 }
 
-/** The scores of every note of `played`, sent one at a time to a daemon started with `flags`. */
-async function scores(corpus: TestCorpus, played: readonly Note[], flags: string[]): Promise<ScoreEvent[]> {
+/** The scores of every note of `played`, sent one at a time to a daemon started with `flags`, and the warnings raised. */
+async function heard(corpus: TestCorpus, played: readonly Note[], flags: string[]): Promise<{ scores: ScoreEvent[]; warnings: WarningEvent[] }> {
   const d = await spawnDaemon(['--corpus', corpus.dir, '--preset', 'jam', '--input', 'osc', ...flags]);
   try {
     const events = await listen(d.http);
@@ -38,8 +38,9 @@ async function scores(corpus: TestCorpus, played: readonly Note[], flags: string
       out.push(await events.next<ScoreEvent>((e) => e.type === 'score' && e.seq === i + 1));
     }
     socket.close();
+    const warnings = events.events.filter((e): e is WarningEvent => e.type === 'warning');
     events.close();
-    return out;
+    return { scores: out, warnings };
   } finally {
     await d.stop();
   }
@@ -55,7 +56,8 @@ describe('a quote played slower', () => {
     const played = stream(corpus);
     // Windows wholly inside the quote: starting at or after its first beat.
     const inside = (e: ScoreEvent): boolean => e.windowStart >= QUOTE_AT;
-    const free = (await scores(corpus, played, ['--tempo-free'])).filter(inside);
+    const withFlag = await heard(corpus, played, ['--tempo-free']);
+    const free = withFlag.scores.filter(inside);
     expect(free.length).toBeGreaterThan(3);
     const best = free.reduce((a, b) => (b.score > a.score ? b : a));
     expect(best.piece).toBe('cinderpath.mid');
@@ -63,7 +65,11 @@ describe('a quote played slower', () => {
     // The tempo it was heard at, and the excerpt sent for the piano roll marked on that time: every note matched.
     expect(Math.abs(best.timeScale! / SCALE - 1)).toBeLessThan(0.02);
     expect(best.excerpt!.filter((n) => n.matched).length).toBe(best.matched);
-    const fixed = (await scores(corpus, played, ['--no-tempo-free'])).filter(inside);
+    // The warning raised names the melody and the tempo it was heard at.
+    const warned = withFlag.warnings.find((w) => w.piece === 'cinderpath.mid' && w.timeScale !== undefined);
+    expect(warned).toBeDefined();
+    expect(Math.abs(warned!.timeScale! / SCALE - 1)).toBeLessThan(0.02);
+    const fixed = (await heard(corpus, played, ['--no-tempo-free'])).scores.filter(inside);
     const fixedBest = Math.max(...fixed.map((e) => e.score));
     console.log(`a quote at 1.5× its length: best ${best.score.toFixed(3)} tempo-free (${best.piece}), ${fixedBest.toFixed(3)} at the written tempo, over ${free.length} windows`);
     expect(fixedBest).toBeLessThan(0.5);
