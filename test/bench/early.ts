@@ -139,9 +139,10 @@ interface Row {
   corpus: string;
   playing: string;
   rule: 'before' | 'after';
-  p50: number;
-  p90: number;
-  caught: number;
+  /** Null for a stream of own playing only (no quotes to catch). */
+  p50: number | null;
+  p90: number | null;
+  caught: number | null;
   falsePer10Min: number;
   falseWarnings: number;
   ownMinutes: number;
@@ -184,10 +185,11 @@ async function run(dir: string, preset: string, extra: string[], s: Stream): Pro
   delays.sort((a, b) => a - b);
   latencies.sort((a, b) => a - b);
   const round = (x: number) => (Number.isFinite(x) ? Math.round(x * 100) / 100 : -1);
+  const quoted = delays.length > 0;
   return {
-    p50: round(percentile(delays, 50)),
-    p90: round(percentile(delays, 90)),
-    caught: round(delays.filter(Number.isFinite).length / delays.length),
+    p50: quoted ? round(percentile(delays, 50)) : null,
+    p90: quoted ? round(percentile(delays, 90)) : null,
+    caught: quoted ? round(delays.filter(Number.isFinite).length / delays.length) : null,
     falsePer10Min: round((falses.length / ownBeats) * 1200),
     falseWarnings: falses.length,
     ownMinutes: round(ownBeats / 120),
@@ -225,7 +227,7 @@ async function main(): Promise<void> {
           const r = await run(set.dir, preset, rule === 'before' ? BEFORE[preset] : [], s);
           const row = { preset, corpus: set.name, playing, rule, ...r };
           rows.push(row);
-          process.stdout.write(`| ${preset} | ${set.name} | ${playing} | ${rule} | ${r.p50} | ${r.p90} | ${(r.caught * 100).toFixed(0)}% | ${r.falsePer10Min} (${r.falseWarnings} in ${r.ownMinutes} min) | ${r.latencyP50Ms} / ${r.latencyP99Ms} ms | ${r.loadAverage.join(' / ')} |\n`);
+          process.stdout.write(`| ${preset} | ${set.name} | ${playing} | ${rule} | ${r.p50 ?? '—'} | ${r.p90 ?? '—'} | ${r.caught === null ? '—' : `${(r.caught * 100).toFixed(0)}%`} | ${r.falsePer10Min} (${r.falseWarnings} in ${r.ownMinutes} min) | ${r.latencyP50Ms} / ${r.latencyP99Ms} ms | ${r.loadAverage.join(' / ')} |\n`);
         }
       }
     }
