@@ -45,8 +45,8 @@ const REBASE_GRAINS = 2 ** 30;
 
 /**
  * Vote table size (2^bits slots) for a matcher that listens for hours: a
- * 16-beat window of a million-note corpus holds some 16,000 live entries, and
- * a table that grows mid-performance makes that note wait.
+ * long window of a large corpus holds many thousands of live entries, and a
+ * table that grows mid-performance makes that note wait.
  */
 export const LIVE_TABLE_BITS = 17;
 

@@ -79,7 +79,3 @@ export function lowerBound(points: readonly Point[], grains: number): number {
   }
   return lo;
 }
-
-/** Number of points with ontime in [from, to) grains. */
-export const countInSpan = (points: readonly Point[], from: number, to: number): number =>
-  lowerBound(points, to) - lowerBound(points, from);

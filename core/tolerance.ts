@@ -172,7 +172,7 @@ export interface PieceSearch {
 export function bestInPiece(s: PieceSearch, incumbent: WindowMatch | null): WindowMatch | null {
   const bin = Math.max(1, s.tolGrains);
   const counts = binCounts(s, bin);
-  const { at, offsets } = s.flat;
+  const { at: onsets, offsets } = s.flat;
   const bound = (k: number): number => {
     const { at, pitch } = keyTranslation(k);
     let around = 0;
@@ -188,8 +188,8 @@ export function bestInPiece(s: PieceSearch, incumbent: WindowMatch | null): Wind
     for (const shift of refinedShifts(s.lines, s.window, b, pitch, bin, s.tolGrains)) {
       const matched = toleranceCount(s.lines, windowLines, { at: shift, pitch }, s.tolGrains);
       const from = s.startGrains - shift;
-      const lo = lowerBoundAt(at, from, offsets[s.piece], offsets[s.piece + 1]);
-      const excerptNotes = lowerBoundAt(at, from + s.spanGrains, lo, offsets[s.piece + 1]) - lo;
+      const lo = lowerBoundAt(onsets, from, offsets[s.piece], offsets[s.piece + 1]);
+      const excerptNotes = lowerBoundAt(onsets, from + s.spanGrains, lo, offsets[s.piece + 1]) - lo;
       const candidate: WindowMatch = {
         piece: s.piece,
         pieceStart: from / GRAINS_PER_BEAT,

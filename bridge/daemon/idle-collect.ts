@@ -1,6 +1,6 @@
 /**
  * Garbage collection at a moment of our choosing. Scoring a note makes
- * short-lived objects by the hundred kilobytes; left to itself, the engine
+ * many short-lived objects; left to itself, the engine
  * collects the young generation whenever it fills, which is in the middle
  * of some later note's scoring, and a collection that finds that note's
  * working set still alive copies it. Collected just after a verdict has
