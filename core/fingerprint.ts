@@ -26,8 +26,8 @@
  *   // → { piece: 2, pieceStart: 4, transposition: 0, matched: 30, excerptNotes: 30, score: 1, timeScale: 1.5 }
  */
 import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains } from './note.js';
-import { type MatchWindow, type WindowMatch, better, betterMatch } from './match.js';
-import { type FlatPoints, lowerBoundAt, radixPass } from './triple-index.js';
+import { type MatchWindow, type WindowMatch, betterMatch } from './match.js';
+import { type FlatPoints, radixPass } from './triple-index.js';
 import { toleranceMatching } from './tolerance.js';
 import { type Span, type Verifier, excerptLines } from './verify.js';
 import type { CandidateSource } from './index-match.js';
@@ -95,17 +95,26 @@ export function checkFingerprintShape(shape: FingerprintShape): void {
   if (!(shape.minGap > 0 && Number.isFinite(shape.minGap))) throw new RangeError(`fingerprint minGap must be a positive number of beats, got ${shape.minGap}`);
 }
 
+/** steps[i − from]: the first point after i at least `gap` grains later (to when none), for every i of [from, to); rises with i, so one pass finds all. */
+let steps = new Int32Array(1024);
+
 /**
- * Calls `emit(a, i, j)` for every triple of a sorted run of onsets
+ * Calls `emit(a, b, c, code)` for every triple of a sorted run of onsets
  * [from, to): b is the i-th note from the first minGap or more after a, c
- * the j-th from the first minGap or more after b.
+ * the j-th from the first minGap or more after b, and code is i × 16 + j.
  */
 function eachTriple(at: ArrayLike<number>, from: number, to: number, shape: FingerprintShape, emit: (a: number, b: number, c: number, code: number) => void): void {
   const gap = toGrains(shape.minGap);
+  if (steps.length < to - from) steps = new Int32Array(2 ** Math.ceil(Math.log2(to - from)));
+  for (let i = from, j = from + 1; i < to; i++) {
+    if (j <= i) j = i + 1;
+    while (j < to && at[j] < at[i] + gap) j++;
+    steps[i - from] = j;
+  }
   for (let a = from; a < to; a++) {
-    const b0 = lowerBoundAt(at, at[a] + gap, a + 1, to);
+    const b0 = steps[a - from];
     for (let b = b0; b < Math.min(to, b0 + shape.fanOut); b++) {
-      const c0 = lowerBoundAt(at, at[b] + gap, b + 1, to);
+      const c0 = steps[b - from];
       for (let c = c0; c < Math.min(to, c0 + shape.fanOut); c++) emit(a, b, c, (b - b0) * 16 + (c - c0));
     }
   }
@@ -177,24 +186,59 @@ function findKey(keys: Uint32Array, slots: Int32Array, key: number): number {
   }
 }
 
-/** The piece holding global point `i`. */
-function pieceOf(offsets: Uint32Array, i: number): number {
-  let lo = 0;
-  let hi = offsets.length - 1;
-  while (hi - lo > 1) {
-    const mid = (lo + hi) >>> 1;
-    if (offsets[mid] <= i) lo = mid;
-    else hi = mid;
-  }
-  return lo;
-}
-
 /** The first point after `i` (before `end`) at least `gap` grains later: a step or two on, so walked, not searched. */
 function firstAfter(at: ArrayLike<number>, i: number, gap: number, end: number): number {
   const t = at[i] + gap;
   let j = i + 1;
   while (j < end && at[j] < t) j++;
   return j;
+}
+
+/**
+ * What a vote reads of each stored triple, side by side: posted[3s] = piece ×
+ * 256 + pitch of its first note, posted[3s + 1] = that note's ontime,
+ * posted[3s + 2] = grains from it to the triple's last note. Filled in for a
+ * key the first time it votes, so a vote reads its postings in order instead
+ * of searching the pieces and walking the points; zero pages cost no memory
+ * until written, so only keys voted from take any.
+ */
+interface Posted {
+  posted: Int32Array;
+  gather(k: number): void;
+}
+
+const postedOf = new WeakMap<FingerprintTable, Posted>();
+
+function posted(flat: FlatPoints, table: FingerprintTable): Posted {
+  const known = postedOf.get(table);
+  if (known) return known;
+  const { at, pitch, offsets } = flat;
+  const { starts, anchors, codes } = table;
+  const gap = toGrains(table.shape.minGap);
+  const out = new Int32Array(3 * anchors.length);
+  const gathered = new Uint8Array(table.keys.length);
+  // Each point's piece, once per table: a triple's first note may lie in any piece.
+  const pieceOf = new Int32Array(at.length);
+  for (let p = 0; p + 1 < offsets.length; p++) pieceOf.fill(p, offsets[p], offsets[p + 1]);
+  const made: Posted = {
+    posted: out,
+    gather(k) {
+      if (gathered[k]) return;
+      for (let s = starts[k]; s < starts[k + 1]; s++) {
+        const ca = anchors[s];
+        const piece = pieceOf[ca];
+        const end = offsets[piece + 1];
+        const cb = firstAfter(at, ca, gap, end) + (codes[s] >> 4);
+        const cc = firstAfter(at, cb, gap, end) + (codes[s] & 15);
+        out[3 * s] = piece * 256 + pitch[ca];
+        out[3 * s + 1] = at[ca];
+        out[3 * s + 2] = at[cc] - at[ca];
+      }
+      gathered[k] = 1;
+    },
+  };
+  postedOf.set(table, made);
+  return made;
 }
 
 /** A window's points on the corpus's time: offsets from the window start divided by `scale`. */
@@ -299,7 +343,6 @@ const scratch = {
 
 /** Votes of the window's triples, rarest key first, into `cells`. */
 function vote(flat: FlatPoints, table: FingerprintTable, settings: FingerprintSettings, window: MatchWindow): void {
-  const { at, pitch, offsets } = flat;
   const points = window.points;
   const qa = points.map((p) => p.at);
   const slots = slotsOf(table.keys);
@@ -317,8 +360,8 @@ function vote(flat: FlatPoints, table: FingerprintTable, settings: FingerprintSe
   });
   const order = scratch.order.subarray(0, triples).sort();
   const found = scratch.found;
-  const gap = toGrains(table.shape.minGap);
   const [logMin, logMax] = [Math.log(settings.minScale), Math.log(settings.maxScale)];
+  const { posted: post, gather } = posted(flat, table);
   cells.clear();
   let spent = 0;
   for (let r = 0; r < order.length; r++) {
@@ -329,20 +372,19 @@ function vote(flat: FlatPoints, table: FingerprintTable, settings: FingerprintSe
     const c = found[f + 2];
     if (r >= settings.minTriples && spent + size > settings.voteBudget) break;
     spent += size;
+    gather(k);
     const q0 = points[a];
     const span = points[c].at - q0.at;
+    const lead = q0.at - window.startGrains;
     for (let s = table.starts[k]; s < table.starts[k + 1]; s++) {
-      const ca = table.anchors[s];
-      const piece = pieceOf(offsets, ca);
+      const piecePitch = post[3 * s];
+      const piece = piecePitch >> 8;
       if (piece === window.exclude) continue;
-      const end = offsets[piece + 1];
-      const cb = firstAfter(at, ca, gap, end) + (table.codes[s] >> 4);
-      const cc = firstAfter(at, cb, gap, end) + (table.codes[s] & 15);
-      const scale = span / (at[cc] - at[ca]);
+      const scale = span / post[3 * s + 2];
       const logScale = Math.log(scale);
       if (logScale < logMin || logScale > logMax) continue;
-      const start = at[ca] - (q0.at - window.startGrains) / scale;
-      cells.add(piece, Math.floor(start / POSITION_CELL), Math.round(logScale / SCALE_CELL), q0.pitch - pitch[ca], logScale, start);
+      const start = post[3 * s + 1] - lead / scale;
+      cells.add(piece, Math.floor(start / POSITION_CELL), Math.round(logScale / SCALE_CELL), q0.pitch - (piecePitch & 255), logScale, start);
     }
   }
 }
@@ -452,17 +494,17 @@ export function fingerprintCandidates(flat: FlatPoints, table: FingerprintTable,
     best(window, verify, spanGrains) {
       if (window.points.length < 3) return null;
       const tolGrains = toGrains(verify.toleranceBeats);
-      let best: WindowMatch | null = null;
       vote(flat, table, settings, window);
+      let found: { match: WindowMatch; span: Span } | null = null;
       for (const a of bestAlignments(settings.candidates)) {
-        const found = verifyAt(verify, window, spanGrains, a);
-        if (!found) continue;
-        const again = refit(flat, tolGrains, found);
-        const refined = inRange(again) ? verifyAt(verify, window, spanGrains, again) : null;
-        const pick = refined && !betterMatch(found.match, refined.match) ? refined.match : found.match;
-        best = better(pick, best);
+        const at = verifyAt(verify, window, spanGrains, a);
+        if (at && betterMatch(at.match, found?.match ?? null)) found = at;
       }
-      return best;
+      if (!found) return null;
+      // The estimate's time scale, refitted over the notes it matched, for the best place only: the others scored less at theirs.
+      const again = refit(flat, tolGrains, found);
+      const refined = inRange(again) ? verifyAt(verify, window, spanGrains, again) : null;
+      return refined && !betterMatch(found.match, refined.match) ? refined.match : found.match;
     },
   };
 }

@@ -25,7 +25,7 @@
  *   live.best({ points: windowPoints, startGrains: windowStart })
  *   // → { piece: 7, pieceStart: 8, transposition: 5, matched: 22, excerptNotes: 24, score: 0.917, distinctiveness: 1 }
  */
-import { type Point, toGrains } from './note.js';
+import { type Point, comparePoints, toGrains } from './note.js';
 import type { MatchWindow, WindowMatch } from './match.js';
 import type { CorpusIndex } from './triple-index.js';
 import { type CandidateSource, COARSE_GRAINS, FINE_GRAINS, SCAN_POINTS, candidatesOf, snapTo, verifyAll } from './index-match.js';
@@ -50,6 +50,10 @@ const REBASE_GRAINS = 2 ** 30;
  */
 export const LIVE_TABLE_BITS = 17;
 
+/** The warm-up (`LiveMatcher.warmUp`): corpus passages played, and points in each. */
+export const WARM_UP_PASSAGES = 4;
+export const WARM_UP_POINTS = 64;
+
 export interface LiveMatcherOptions {
   windowBeats: number;
   mode: MatchMode;
@@ -70,6 +74,7 @@ export class LiveMatcher {
   private readonly windowGrains: number;
   private readonly grids: number[];
   private readonly index: CorpusIndex;
+  private readonly flat: MatchCorpus['flat'];
   private readonly stages: Stage[];
   private readonly count: PieceCount;
   private voters: Voter[] = [];
@@ -83,6 +88,7 @@ export class LiveMatcher {
     private readonly options: LiveMatcherOptions,
   ) {
     this.index = corpus.index;
+    this.flat = corpus.flat;
     this.windowGrains = toGrains(options.windowBeats);
     this.grids = options.mode.tolerance > 0 ? [FINE_GRAINS, COARSE_GRAINS] : [FINE_GRAINS];
     const streamed: CandidateSource = { name: 'stream', best: (window, verify, spanGrains) => this.streamBest(window, verify, spanGrains) };
@@ -112,6 +118,37 @@ export class LiveMatcher {
   /** Forgets every point: a new passage. The next `best` builds the votes afresh from the window it is given. */
   reset(): void {
     this.stale = true;
+  }
+
+  /**
+   * Plays a few corpus passages through the matcher, note by note as a
+   * listener would, every other one with its pitches in reverse order (so one
+   * matches and one does not), then forgets them. The engine compiles the
+   * scoring code, and the vote and cell tables reach their working size,
+   * before the first note played, not during it. A listener calls it once
+   * after loading.
+   */
+  warmUp(): void {
+    const { offsets, at, pitch } = this.flat;
+    const pieces = offsets.length - 1;
+    for (let w = 0; w < WARM_UP_PASSAGES && pieces > 0; w++) {
+      const piece = Math.floor((w * pieces) / WARM_UP_PASSAGES);
+      const from = offsets[piece];
+      const to = Math.min(offsets[piece + 1], from + WARM_UP_POINTS);
+      const passage: Point[] = [];
+      for (let i = from; i < to; i++) passage.push({ at: at[i] - at[from], pitch: w % 2 ? pitch[to - 1 - (i - from)] : pitch[i] });
+      const window: Point[] = [];
+      this.reset();
+      passage.sort(comparePoints);
+      for (const point of passage.filter((p, i) => i === 0 || comparePoints(passage[i - 1], p) !== 0)) {
+        window.push(point);
+        while (window[0].at <= point.at - this.windowGrains) window.shift();
+        this.add(point);
+        this.expire(window[0].at);
+        this.best({ points: window, startGrains: window[0].at });
+      }
+    }
+    this.reset();
   }
 
   /** Votes from nothing but `window`, with times counted from its start. */

@@ -113,6 +113,7 @@ export function liveCorpus(corpus: Corpus): MatchCorpus & { index: CorpusIndex }
  */
 export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching: MatchCorpus & { index: CorpusIndex } = liveCorpus(corpus)): LiveScorer {
   const live = new LiveMatcher(matching, { windowBeats: options.windowBeats, mode: { tolerance: options.tolerance ?? 0, tempoFree: options.tempoFree ?? false }, tableBits: LIVE_TABLE_BITS });
+  live.warmUp();
   const window = new LiveWindow<Note & { seq: number }>({ beats: options.windowBeats, maxNotes: MAX_WINDOW_NOTES });
   let lastSeq = 0;
   const early = options.early && options.early.lengths.length ? options.early : null;

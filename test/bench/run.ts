@@ -277,11 +277,13 @@ function modeRows(corpus: MatchCorpus, probes: readonly Probe[], mode: MatchMode
 /**
  * Every query played back to back, 4 beats apart, one note at a time into the
  * live matcher as the scoring worker runs it (bridge/daemon/live-scorer.ts:
- * its vote tables sized for a long window, its garbage collected after each
- * verdict): CPU time per note, and the collection's apart.
+ * warmed up after loading, its vote tables sized for a long window, its
+ * garbage collected after each verdict): CPU time per note, and the
+ * collection's apart.
  */
 function liveRow(corpus: MatchCorpus & { index: NonNullable<MatchCorpus['index']> }, played: readonly Point[][], mode: MatchMode, name: string): CorpusRow['live'][number] {
   const live = new LiveMatcher(corpus, { windowBeats: W, mode, tableBits: LIVE_TABLE_BITS });
+  live.warmUp();
   const collect = idleCollector();
   const perNote: number[] = [];
   let collecting = 0;

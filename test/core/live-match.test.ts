@@ -149,6 +149,23 @@ describe('tempo-free, note by note, on chorales played at another tempo (test/fi
       expect(m.score).toBeGreaterThanOrEqual(0.8);
     }
   });
+
+  it('a warmed-up matcher answers every window as a fresh one does: the warm-up leaves no votes behind', () => {
+    const take = toPoints(played(passage(choraleCorpus.pieces[14].notes, 8, 40), { scale: 1.5, seed: 3, jitter: 0.02 }));
+    const tempoFree = { windowBeats: W, mode: { tolerance: 0.1, tempoFree: true } };
+    const warmed = new LiveMatcher(choraleCorpusMatch, tempoFree);
+    warmed.warmUp();
+    const cold = new LiveMatcher(choraleCorpusMatch, tempoFree);
+    let compared = 0;
+    play(warmed, take, (window, start) => {
+      cold.add(window[window.length - 1]);
+      cold.expire(start);
+      const m = warmed.best({ points: window, startGrains: start });
+      expect(m).toEqual(cold.best({ points: window, startGrains: start }));
+      if (m && m.piece === 14) compared++;
+    });
+    expect(compared).toBeGreaterThan(20);
+  });
 });
 
 describe('candidatesOf', () => {
