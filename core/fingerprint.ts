@@ -433,12 +433,12 @@ function bestAlignments(count: number): Alignment[] {
   return out;
 }
 
-/** The window rescaled to an alignment's time scale, verified near the estimated place. */
-function verifyAt(verify: Verifier, window: MatchWindow, spanGrains: number, a: Alignment): { match: WindowMatch; span: Span } | null {
+/** The window rescaled to an alignment's time scale, verified near the estimated place; null when nothing there beats `incumbent`. */
+function verifyAt(verify: Verifier, window: MatchWindow, spanGrains: number, a: Alignment, incumbent: WindowMatch | null): { match: WindowMatch; span: Span } | null {
   const span: Span = { points: scaleTime(window.points, window.startGrains, a.scale), startGrains: window.startGrains, spanGrains: Math.round(spanGrains / a.scale) };
-  const m = verify.near(span, { piece: a.piece, shift: Math.round(window.startGrains - a.start), dp: a.pitch, within: NEAR_WITHIN });
+  const m = verify.near(span, { piece: a.piece, shift: Math.round(window.startGrains - a.start), dp: a.pitch, within: NEAR_WITHIN }, incumbent);
   // Four decimals: finer than any tempo difference a player could mean.
-  return m ? { match: { ...m, timeScale: Math.round(a.scale * 1e4) / 1e4 }, span } : null;
+  return m && m !== incumbent ? { match: { ...m, timeScale: Math.round(a.scale * 1e4) / 1e4 }, span } : null;
 }
 
 /**
@@ -491,19 +491,19 @@ export function fingerprintCandidates(flat: FlatPoints, table: FingerprintTable,
   const inRange = (a: Alignment | null): a is Alignment => a !== null && a.scale >= settings.minScale && a.scale <= settings.maxScale;
   return {
     name: 'fingerprints',
-    best(window, verify, spanGrains) {
+    best(window, verify, spanGrains, incumbent = null) {
       if (window.points.length < 3) return null;
       const tolGrains = toGrains(verify.toleranceBeats);
       vote(flat, table, settings, window);
       let found: { match: WindowMatch; span: Span } | null = null;
       for (const a of bestAlignments(settings.candidates)) {
-        const at = verifyAt(verify, window, spanGrains, a);
-        if (at && betterMatch(at.match, found?.match ?? null)) found = at;
+        const at = verifyAt(verify, window, spanGrains, a, found?.match ?? incumbent);
+        if (at) found = at;
       }
       if (!found) return null;
       // The estimate's time scale, refitted over the notes it matched, for the best place only: the others scored less at theirs.
       const again = refit(flat, tolGrains, found);
-      const refined = inRange(again) ? verifyAt(verify, window, spanGrains, again) : null;
+      const refined = inRange(again) ? verifyAt(verify, window, spanGrains, again, null) : null;
       return refined && !betterMatch(found.match, refined.match) ? refined.match : found.match;
     },
   };

@@ -302,7 +302,12 @@ export const wideBudgetFor = (settings: FilterSettings, notes: number): number =
 export interface CandidateSource {
   /** For benchmarks and reports: where the candidates come from. */
   readonly name: string;
-  best(window: MatchWindow, verify: Verifier, spanGrains: number): WindowMatch | null;
+  /**
+   * The best verified match of the window. `incumbent`, when given, is the
+   * best an earlier stage found: a source may leave out what cannot beat it,
+   * and then answers null.
+   */
+  best(window: MatchWindow, verify: Verifier, spanGrains: number, incumbent?: WindowMatch | null): WindowMatch | null;
 }
 
 /**

@@ -119,7 +119,7 @@ export function bestOfStages(stages: readonly Stage[], window: MatchWindow, span
   for (const { source, verify } of stages) {
     // Nothing scores above 1: a window matched whole needs no other source's candidates.
     if (best && best.score >= 1) break;
-    const m = source.best(window, verify, spanGrains);
+    const m = source.best(window, verify, spanGrains, best);
     best = better(m && mode.tempoFree && m.timeScale === undefined ? { ...m, timeScale: 1 } : m, best);
   }
   if (!best || best.matched === 0 || !count) return best;
