@@ -117,7 +117,6 @@ export function indexedPiecesHolding(index: CorpusIndex, source: number | undefi
   if (material.length === 0) return 0;
   const need = needOf(material);
   const { partners } = index.shape;
-  const { offsets } = index.points;
   const horizon = toGrains(index.shape.horizonBeats);
   const lookups = placeLookups;
   lookups.clear();
@@ -126,9 +125,7 @@ export function indexedPiecesHolding(index: CorpusIndex, source: number | undefi
   const votes = placeVotes;
   votes.clear();
   lookups.sort();
-  const skipFrom = exclude === undefined ? 0 : offsets[exclude];
-  const skipTo = exclude === undefined ? 0 : offsets[exclude + 1];
-  voteRarest(index, votes, lookups, material, { next: 0, spent: 0 }, PLACES_FILTER.voteBudget, PLACES_FILTER.minTriples, skipFrom, skipTo);
+  voteRarest(index, votes, lookups, material, { next: 0, spent: 0 }, PLACES_FILTER.voteBudget, PLACES_FILTER.minTriples, exclude ?? -1);
   const holding = new Set<number>();
   const hold = (piece: number, shift: number, dp: number): void => {
     if (!holding.has(piece) && holdsAt(index.points, material, { piece, shift, dp }, need)) holding.add(piece);

@@ -27,7 +27,7 @@
  */
 import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains } from './note.js';
 import { type MatchWindow, type WindowMatch, betterMatch } from './match.js';
-import { type FlatPoints, radixPass } from './triple-index.js';
+import { type FlatPoints, type RunReader, radixPass, runsOf } from './triple-index.js';
 import { toleranceMatching } from './tolerance.js';
 import { type Span, type Verifier, excerptLines } from './verify.js';
 import type { CandidateSource } from './index-match.js';
@@ -70,6 +70,9 @@ export interface FingerprintTable {
   /** Where its other two notes are: (b − first b) × 16 + (c − first c), the firsts being the earliest notes minGap or more after a and after b. */
   codes: Uint8Array;
 }
+
+/** A table as matching reads it: the anchors and codes in memory, or read a key's run at a time (core/triple-index.ts RunReader). */
+export type StoredFingerprints = Omit<FingerprintTable, 'anchors' | 'codes'> & { anchors: Uint32Array | RunReader; codes: Uint8Array | RunReader<Uint8Array> };
 
 /** Width of a ratio bin, in natural-log units: simple ratios (1, 2, 3/2, 4/3, 3) fall well inside their bins. */
 const RATIO_STEP = 0.1;
@@ -207,15 +210,16 @@ interface Posted {
   gather(k: number): void;
 }
 
-const postedOf = new WeakMap<FingerprintTable, Posted>();
+const postedOf = new WeakMap<StoredFingerprints, Posted>();
 
-function posted(flat: FlatPoints, table: FingerprintTable): Posted {
+function posted(flat: FlatPoints, table: StoredFingerprints): Posted {
   const known = postedOf.get(table);
   if (known) return known;
   const { at, pitch, offsets } = flat;
-  const { starts, anchors, codes } = table;
+  const { starts } = table;
+  const [anchorRuns, codeRuns] = [runsOf(table.anchors), runsOf(table.codes)];
   const gap = toGrains(table.shape.minGap);
-  const out = new Int32Array(3 * anchors.length);
+  const out = new Int32Array(3 * starts[table.keys.length]);
   const gathered = new Uint8Array(table.keys.length);
   // Each point's piece, once per table: a triple's first note may lie in any piece.
   const pieceOf = new Int32Array(at.length);
@@ -224,12 +228,18 @@ function posted(flat: FlatPoints, table: FingerprintTable): Posted {
     posted: out,
     gather(k) {
       if (gathered[k]) return;
-      for (let s = starts[k]; s < starts[k + 1]; s++) {
-        const ca = anchors[s];
+      const from = starts[k];
+      const anchors = anchorRuns(from, starts[k + 1]);
+      const codes = codeRuns(from, starts[k + 1]);
+      for (let i = 0; i < anchors.length; i++) {
+        const s = from + i;
+        const ca = anchors[i];
+        if (ca >= at.length) throw new RangeError(`fingerprint ${s} names point ${ca}, but the index holds ${at.length} points`);
         const piece = pieceOf[ca];
         const end = offsets[piece + 1];
-        const cb = firstAfter(at, ca, gap, end) + (codes[s] >> 4);
-        const cc = firstAfter(at, cb, gap, end) + (codes[s] & 15);
+        const cb = firstAfter(at, ca, gap, end) + (codes[i] >> 4);
+        const cc = firstAfter(at, cb, gap, end) + (codes[i] & 15);
+        if (cc >= end) throw new RangeError(`fingerprint ${s} reaches past the end of piece ${piece}`);
         out[3 * s] = piece * 256 + pitch[ca];
         out[3 * s + 1] = at[ca];
         out[3 * s + 2] = at[cc] - at[ca];
@@ -342,7 +352,7 @@ const scratch = {
 };
 
 /** Votes of the window's triples, rarest key first, into `cells`. */
-function vote(flat: FlatPoints, table: FingerprintTable, settings: FingerprintSettings, window: MatchWindow): void {
+function vote(flat: FlatPoints, table: StoredFingerprints, settings: FingerprintSettings, window: MatchWindow): void {
   const points = window.points;
   const qa = points.map((p) => p.at);
   const slots = slotsOf(table.keys);
@@ -485,7 +495,7 @@ export function checkFingerprintSettings(settings: FingerprintSettings): void {
  * table, each verified (by a verifier within a tolerance) at its estimated
  * time scale and again at the refitted one. Its matches carry `timeScale`.
  */
-export function fingerprintCandidates(flat: FlatPoints, table: FingerprintTable, options: Partial<FingerprintSettings> = {}): CandidateSource {
+export function fingerprintCandidates(flat: FlatPoints, table: StoredFingerprints, options: Partial<FingerprintSettings> = {}): CandidateSource {
   const settings = { ...DEFAULT_FINGERPRINT, ...options };
   checkFingerprintSettings(settings);
   const inRange = (a: Alignment | null): a is Alignment => a !== null && a.scale >= settings.minScale && a.scale <= settings.maxScale;

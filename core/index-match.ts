@@ -259,14 +259,14 @@ export class TripleLookups {
 /**
  * Adds `delta` votes from every posting of key position `k`, each for the
  * translation taking that corpus anchor onto the window point `anchor`;
- * postings at [skipFrom, skipTo) (a piece left out) do not vote.
+ * postings in piece `skip` (a piece left out) do not vote.
  */
-export function castVotes(index: CorpusIndex, votes: VoteTable, anchor: Point, k: number, delta: number, skipFrom = 0, skipTo = 0): void {
-  const { posted, anchors, starts } = index;
+export function castVotes(index: CorpusIndex, votes: VoteTable, anchor: Point, k: number, delta: number, skip = -1): void {
+  const { posted, starts } = index;
   index.gather(k);
   for (let s = starts[k]; s < starts[k + 1]; s++) {
-    const a = anchors[s];
-    if (a < skipFrom || a >= skipTo) votes.add(posted[2 * s + 1] >>> 8, anchor.at - posted[2 * s], anchor.pitch - (posted[2 * s + 1] & 255), delta);
+    const piece = posted[2 * s + 1] >>> 8;
+    if (piece !== skip) votes.add(piece, anchor.at - posted[2 * s], anchor.pitch - (posted[2 * s + 1] & 255), delta);
   }
 }
 
@@ -281,17 +281,17 @@ export interface RarestRead {
  * posting for the translation onto the point of `anchors` the triple starts
  * at, until `budget` postings are read in all — but at least `minTriples`
  * triples, so a run of common figures still votes. Postings at
- * [skipFrom, skipTo) (a piece left out) do not vote. Called again with a
+ * in piece `skip` (a piece left out) do not vote. Called again with a
  * larger budget, it reads on where it stopped.
  */
-export function voteRarest(index: CorpusIndex, votes: VoteTable, lookups: TripleLookups, anchors: readonly Point[], read: RarestRead, budget: number, minTriples: number, skipFrom = 0, skipTo = 0): void {
+export function voteRarest(index: CorpusIndex, votes: VoteTable, lookups: TripleLookups, anchors: readonly Point[], read: RarestRead, budget: number, minTriples: number, skip = -1): void {
   const { starts } = index;
   for (const found = lookups.size; read.next < found; read.next++) {
     const k = lookups.keyAt(read.next);
     const size = starts[k + 1] - starts[k];
     if (read.next >= minTriples && read.spent + size > budget) break;
     read.spent += size;
-    castVotes(index, votes, anchors[lookups.anchorAt(read.next)], k, 1, skipFrom, skipTo);
+    castVotes(index, votes, anchors[lookups.anchorAt(read.next)], k, 1, skip);
   }
 }
 
@@ -318,12 +318,11 @@ export interface CandidateSource {
  */
 export function indexCandidates(index: CorpusIndex, settings: FilterSettings = DEFAULT_FILTER): CandidateSource {
   const horizon = toGrains(index.shape.horizonBeats);
-  const { offsets } = index.points;
   const wideBudget = wideBudgetFor(settings, index.points.at.length);
   // One vote table and lookup buffer per view of the window, reused: fresh ones would grow to the same size each time.
   const pool = [0, 1].map(() => ({ votes: new VoteTable(), lookups: new TripleLookups() }));
   /** The votes of one view of the window (as played, or snapped to a grid), read on as far as `budget` on each call. */
-  const voter = (slot: number, points: readonly Point[], skipFrom: number, skipTo: number) => {
+  const voter = (slot: number, points: readonly Point[], skip: number) => {
     const { votes, lookups } = pool[slot];
     votes.clear();
     lookups.clear();
@@ -332,7 +331,7 @@ export function indexCandidates(index: CorpusIndex, settings: FilterSettings = D
     lookups.sort();
     const read: RarestRead = { next: 0, spent: 0 };
     return (budget: number, n: number, atLeast: number): VotedTranslation[] => {
-      voteRarest(index, votes, lookups, points, read, budget, settings.minTriples, skipFrom, skipTo);
+      voteRarest(index, votes, lookups, points, read, budget, settings.minTriples, skip);
       return topVoted(votes, n, atLeast);
     };
   };
@@ -349,12 +348,10 @@ export function indexCandidates(index: CorpusIndex, settings: FilterSettings = D
         const shift = window.startGrains - Math.round(scanned.pieceStart * GRAINS_PER_BEAT);
         return verifyAll(span, [{ piece: scanned.piece, shift, dp: scanned.transposition, within: tolGrains }], verify);
       }
-      const skipFrom = window.exclude === undefined ? 0 : offsets[window.exclude];
-      const skipTo = window.exclude === undefined ? 0 : offsets[window.exclude + 1];
       // Exactly, the window votes as it is. Within a tolerance it votes snapped to each grid, the vote
       // budget shared between them: reading postings is most of the cost.
       const views = tolGrains === 0 ? [points] : [snapPoints(points, FINE_GRAINS), snapPoints(points, COARSE_GRAINS)];
-      const voters = views.map((view, slot) => voter(slot, view, skipFrom, skipTo));
+      const voters = views.map((view, slot) => voter(slot, view, window.exclude ?? -1));
       const share = (budget: number): number => Math.round(budget / voters.length);
       // Within a tolerance one shared triple (three notes in common) is not worth a search of its own.
       const first = verifyAll(span, candidatesOf(voters.flatMap((v) => v(share(settings.voteBudget), settings.candidates, tolGrains === 0 ? 1 : 2)), tolGrains), verify);

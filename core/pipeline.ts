@@ -25,7 +25,7 @@ import { toGrains } from './note.js';
 import { type MatchWindow, type WindowMatch, type WindowMatcher, better } from './match.js';
 import type { CorpusIndex, FlatPoints } from './triple-index.js';
 import { type CandidateSource, type FilterSettings, indexCandidates } from './index-match.js';
-import { type FingerprintTable, DEFAULT_FINGERPRINT, fingerprintCandidates } from './fingerprint.js';
+import { type StoredFingerprints, DEFAULT_FINGERPRINT, fingerprintCandidates } from './fingerprint.js';
 import { type Verifier, verifier } from './verify.js';
 import { type PieceCount, matchDistinctiveness } from './distinctiveness.js';
 import { checkTolerance } from './tolerance.js';
@@ -58,7 +58,7 @@ export interface MatchCorpus {
   /** The triple index over `flat` (needed for 'index' candidates and the live path). */
   index?: CorpusIndex;
   /** The fingerprint table over `flat` (needed for tempo-free matching), read when first asked for. */
-  fingerprints?: () => FingerprintTable;
+  fingerprints?: () => StoredFingerprints;
 }
 
 export interface MatcherOptions {

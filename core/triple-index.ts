@@ -70,6 +70,20 @@ export interface TriplePostings {
   anchors: Uint32Array;
 }
 
+/**
+ * Entries [from, to) of a stored array that is not held in memory: how an
+ * index file opened on demand hands over a key's postings the first time
+ * they are voted from (bridge/formats/index-file.ts).
+ */
+export type RunReader<T extends Uint32Array | Uint8Array = Uint32Array> = (from: number, to: number) => T;
+
+/** Postings an index is made from: the anchors in memory, or read a key's run at a time. */
+export type StoredPostings = Omit<TriplePostings, 'anchors'> & { anchors: Uint32Array | RunReader };
+
+/** A stored array's reader: a view of it when it is in memory. */
+export const runsOf = <T extends Uint32Array | Uint8Array>(stored: T | RunReader<T>): RunReader<T> =>
+  typeof stored === 'function' ? stored : (from, to) => stored.subarray(from, to) as T;
+
 /** Throws unless a triple shape is usable. */
 export function checkTripleShape(shape: TripleShape): void {
   if (!(Number.isInteger(shape.partners) && shape.partners >= 2 && shape.partners <= 16)) {
@@ -172,7 +186,7 @@ export function buildTriples(points: FlatPoints, shape: TripleShape = CORPUS_TRI
 }
 
 /** An index ready to query: the postings, a hash table over their keys, and each point packed for voting. */
-export interface CorpusIndex extends TriplePostings {
+export interface CorpusIndex extends StoredPostings {
   /** Point i is packed[2i] = ontime, packed[2i + 1] = piece × 256 + pitch. */
   packed: Int32Array;
   /**
@@ -193,8 +207,13 @@ const hashKey = (key: number, bits: number): number => {
   return Math.imul(hi ^ Math.imul(key - hi * PART, 0x85ebca6b), 0x9e3779b1) >>> (32 - bits);
 };
 
-/** Adds what queries need to stored postings: linear in the points and keys, so loading stays fast. */
-export function corpusIndex(postings: TriplePostings): CorpusIndex {
+/**
+ * Adds what queries need to stored postings: linear in the points and keys,
+ * so loading stays fast. Anchors given as a RunReader are read a key at a
+ * time, the first time the key votes; one naming a point the index does not
+ * hold (a damaged file) is a RangeError.
+ */
+export function corpusIndex(postings: StoredPostings): CorpusIndex {
   const { keys, points } = postings;
   const bits = Math.max(4, Math.ceil(Math.log2(keys.length * 2 + 1)));
   const slots = new Int32Array(1 << bits);
@@ -215,9 +234,10 @@ export function corpusIndex(postings: TriplePostings): CorpusIndex {
       packed[2 * i + 1] = (p << 8) | pitch[i];
     }
   }
-  const { anchors, starts } = postings;
+  const { starts } = postings;
+  const run = runsOf(postings.anchors);
   // Zero pages cost no memory until written: only the keys voted from are ever gathered.
-  const posted = new Int32Array(anchors.length * 2);
+  const posted = new Int32Array(starts[keys.length] * 2);
   const gathered = new Uint8Array(keys.length);
   return {
     ...postings,
@@ -226,9 +246,13 @@ export function corpusIndex(postings: TriplePostings): CorpusIndex {
     pieces,
     gather(k) {
       if (gathered[k]) return;
-      for (let s = starts[k]; s < starts[k + 1]; s++) {
-        posted[2 * s] = packed[2 * anchors[s]];
-        posted[2 * s + 1] = packed[2 * anchors[s] + 1];
+      const from = starts[k];
+      const anchors = run(from, starts[k + 1]);
+      for (let i = 0; i < anchors.length; i++) {
+        const a = anchors[i];
+        if (a >= at.length) throw new RangeError(`posting ${from + i} of the triple index names point ${a}, but the index holds ${at.length} points`);
+        posted[2 * (from + i)] = packed[2 * a];
+        posted[2 * (from + i) + 1] = packed[2 * a + 1];
       }
       gathered[k] = 1;
     },

@@ -10,6 +10,7 @@ import { registerScore } from './commands/score.js';
 import { registerWorker } from './commands/worker.js';
 import { EXIT, Outcome } from './usage.js';
 import { UsageError } from '../formats/user-error.js';
+import { IndexFileError } from '../formats/index-file.js';
 import { ScoreFileError } from '../formats/score-piece.js';
 
 export function program(): Command {
@@ -47,7 +48,7 @@ export async function run(argv: string[]): Promise<number> {
   } catch (e) {
     if (e instanceof CommanderError) return e.exitCode === 0 ? EXIT.ok : EXIT.usage;
     if (e instanceof Outcome) return e.code;
-    const known = e instanceof UsageError || (e as Error).name === 'MidiFileError' || e instanceof ScoreFileError || e instanceof RangeError;
+    const known = e instanceof UsageError || e instanceof IndexFileError || (e as Error).name === 'MidiFileError' || e instanceof ScoreFileError || e instanceof RangeError;
     process.stderr.write(`earwitness: ${(e as Error).message}\n`);
     if (!known) process.stderr.write(`${(e as Error).stack}\n`);
     return EXIT.usage;

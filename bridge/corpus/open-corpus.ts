@@ -26,7 +26,7 @@ import type { PitchMode, Point } from '../../core/note.js';
 import type { WindowMatcher } from '../../core/match.js';
 import { notePoints, pieceNotes } from '../../core/flat-notes.js';
 import { type CorpusIndex, type FlatPoints, buildTriples, corpusIndex, flattenPoints, piecePoints } from '../../core/triple-index.js';
-import { type FingerprintTable, buildFingerprints } from '../../core/fingerprint.js';
+import { type FingerprintTable, type StoredFingerprints, buildFingerprints } from '../../core/fingerprint.js';
 import { type MatchCorpus, type MatchMode, candidatesFor, windowMatcher } from '../../core/pipeline.js';
 import { type Skipped, findScoreFiles, loadCorpusFolder } from './corpus-files.js';
 import { type IndexContents, type Meta, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta } from '../formats/index-file.js';
@@ -78,9 +78,11 @@ export interface OpenOptions {
   pitch?: PitchMode;
   /**
    * Read an index's note sections that matching does not need only when first
-   * used (the default). False reads everything now, for a caller that must
-   * never go back to the file: the daemon's worker, whose index may be
-   * rebuilt or deleted while it listens.
+   * used (the default). False reads every note now, for a caller whose index
+   * may be rebuilt or deleted while it runs: the daemon's workers. (Postings
+   * and fingerprints are read a key at a time either way, through the file
+   * held open since it was opened, so a rebuild or deletion does not touch
+   * them: bridge/formats/index-file.ts `onDemand`.)
    */
   deferNotes?: boolean;
   /**
@@ -142,16 +144,17 @@ function flatView(mode: PitchMode, pieces: readonly Piece[], flat: FlatPoints): 
 
 function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
   const deferNotes = options.deferNotes ?? true;
-  const contents = fromFile(() => readIndexFile(file, options.matching === false ? [] : [options.pitch ?? 'chromatic'], { deferNotes }));
+  // Postings and fingerprints a key's run at a time, as matching first votes from the key: what a session touches of a large index.
+  const contents = fromFile(() => readIndexFile(file, options.matching === false ? [] : [options.pitch ?? 'chromatic'], { deferNotes, onDemand: true }));
   if (contents.percussion !== (options.percussion ?? false)) {
     throw new UsageError(`--corpus ${file}: the index was built ${contents.percussion ? 'with' : 'without'} --percussion; rebuild it with the same choice, or leave the option ${contents.percussion ? 'on' : 'off'}`);
   }
   const pieces = lazyPieces(contents);
   const pointsOf = perMode((mode) => fromFile(() => notePoints(contents.notes, mode)));
   const matchCorpus = perMode((mode) => {
-    const postings = contents.postings[mode] ?? fromFile(() => readIndexFile(file, [mode], { deferNotes })).postings[mode]!;
-    const read = contents.fingerprints[mode] as () => FingerprintTable;
-    let table: FingerprintTable | null = null;
+    const postings = contents.postings[mode] ?? fromFile(() => readIndexFile(file, [mode], { deferNotes, onDemand: true })).postings[mode]!;
+    const read = contents.fingerprints[mode] as () => StoredFingerprints;
+    let table: StoredFingerprints | null = null;
     return { flat: pointsOf(mode), index: corpusIndex({ ...postings, points: pointsOf(mode), shape: contents.shape }), fingerprints: () => (table ??= fromFile(read)) };
   });
   const opened = {

@@ -25,7 +25,7 @@ const post = (m: FromReportWorker): void => port.postMessage(m);
 
 let opened: ReturnType<typeof openCorpus>;
 try {
-  // Everything read now, as the scoring worker does: the index file may be rebuilt or deleted while the daemon listens.
+  // Every note read now, as the scoring worker does: the index file may be rebuilt or deleted while the daemon listens (postings are read through the file held open).
   // Notices (a file skipped) are the scoring worker's to tell; they would only repeat here.
   opened = openCorpus(setup.corpus, { deferNotes: false });
   post({ type: 'ready', corpus: corpusSummary(opened) });

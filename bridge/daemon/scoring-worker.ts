@@ -25,7 +25,7 @@ let scorer: LiveScorer;
 /** The verdict has gone: the scoring's garbage goes now, not during the next note's (idle-collect.ts). */
 const collect = idleCollector();
 try {
-  // Everything read now: the index file may be rebuilt or deleted while the daemon listens.
+  // Every note read now: the index file may be rebuilt or deleted while the daemon listens (postings are read through the file held open).
   const opened = openCorpus(setup.corpus, { deferNotes: false, notify: (line) => post({ type: 'notice', line }) });
   const { corpus } = opened;
   const matching = opened.matchCorpus('chromatic');

@@ -22,11 +22,11 @@ import { z } from 'zod';
 import { PITCH_MODES, type PitchMode } from '../../core/note.js';
 import type { Piece } from '../../core/corpus.js';
 import type { FlatNotes } from '../../core/flat-notes.js';
-import type { TripleShape, TriplePostings } from '../../core/triple-index.js';
+import type { RunReader, StoredPostings, TripleShape } from '../../core/triple-index.js';
 import type { Baseline } from '../../core/report.js';
 import { baselineSchema } from './baseline-file.js';
 import { type SavedProblem, readSaved } from './saved.js';
-import type { FingerprintShape, FingerprintTable } from '../../core/fingerprint.js';
+import type { FingerprintShape, FingerprintTable, StoredFingerprints } from '../../core/fingerprint.js';
 
 /** 2: adds each pitch dimension's fingerprint table (tempo-free matching); a version 1 file is refused with a rebuild hint. */
 export const INDEX_VERSION = 2;
@@ -52,7 +52,8 @@ const fileFingerprintSchema = z.object({
 });
 export type FileFingerprint = z.infer<typeof fileFingerprintSchema>;
 
-export type ModePostings = Pick<TriplePostings, 'keys' | 'starts' | 'anchors'>;
+/** A pitch dimension's postings: in memory, or (read with `onDemand`) their anchors read a key's run at a time. */
+export type ModePostings = Pick<StoredPostings, 'keys' | 'starts' | 'anchors'>;
 
 export interface IndexContents {
   shape: TripleShape;
@@ -64,8 +65,8 @@ export interface IndexContents {
   postings: Partial<Record<PitchMode, ModePostings>>;
   /** Which triples the fingerprint tables hold. */
   fingerprint: FingerprintShape;
-  /** Writing: each pitch dimension's fingerprint table. Reading: each asked-for dimension's, read and checked when first called. */
-  fingerprints: Partial<Record<PitchMode, FingerprintTable | (() => FingerprintTable)>>;
+  /** Writing: each pitch dimension's fingerprint table. Reading: each dimension's, read and checked when first called (`onDemand`: its anchors and codes a run at a time). */
+  fingerprints: Partial<Record<PitchMode, FingerprintTable | (() => StoredFingerprints)>>;
   /** Human baselines stored by `corpus build --baseline` (optional section BASE; readIndexBaselines reads it). */
   baselines?: Baseline[];
   /** Which shard of which build this file is, for one of `corpus build --shards` (bridge/formats/shard-manifest.ts). */
@@ -177,7 +178,13 @@ export function writeIndexFile(file: string, contents: IndexContents): void {
   const meta: Meta = { shape: contents.shape, fingerprint: contents.fingerprint, percussion: contents.percussion, pieces: contents.pieces, files: contents.files, notes: contents.notes.at.length, modes, ...(contents.shard ? { shard: contents.shard } : {}) };
   const sections: [string, Uint8Array][] = [['META', new TextEncoder().encode(JSON.stringify(meta))]];
   for (const [tag, field] of NOTE_SECTIONS) sections.push([tag, bytesOf(contents.notes[field])]);
-  for (const mode of modes) for (const [tag, field] of POSTING_SECTIONS) sections.push([MODE_LETTER[mode] + tag, bytesOf(contents.postings[mode]![field])]);
+  for (const mode of modes) {
+    for (const [tag, field] of POSTING_SECTIONS) {
+      const stored = contents.postings[mode]![field];
+      if (typeof stored === 'function') throw new Error(`writeIndexFile: the ${mode} postings were read on demand; read them whole to write them`);
+      sections.push([MODE_LETTER[mode] + tag, bytesOf(stored)]);
+    }
+  }
   for (const mode of modes) {
     const table = contents.fingerprints[mode];
     if (!table || typeof table === 'function') throw new Error(`writeIndexFile: the ${mode} fingerprint table is missing`);
@@ -328,6 +335,19 @@ export interface ReadOptions {
    * IndexFileError. A rebuild reuses every note, so it reads them all at once.
    */
   deferNotes?: boolean;
+  /**
+   * Read the postings' anchors, and the fingerprint tables' anchors and
+   * codes, a key's run at a time when matching first votes from the key, not
+   * whole now: at a hundred million notes they are gigabytes, of which a
+   * session touches a small part. The file stays open for the life of the
+   * process, so a rebuild (written beside it and renamed over it) or a
+   * deletion does not change what is read. Runs are not checked against
+   * their section's CRC, which covers the whole section; a run naming a point
+   * the index does not hold is refused (core/triple-index.ts), and every
+   * candidate a posting proposes is verified against the checked notes, so a
+   * damaged posting can cost a match but never invent one.
+   */
+  onDemand?: boolean;
 }
 
 /** The note fields the point sets of `modes` are made from. */
@@ -345,6 +365,22 @@ function laterSection<T extends Typed>(file: string, table: Buffer, tag: string,
   });
 }
 
+/**
+ * Entries [from, to) of a section, read through the open file when asked;
+ * with `below`, an entry of that value or more (a note the index does not
+ * hold) is an IndexFileError.
+ */
+function runReader<T extends Uint32Array | Uint8Array>(opened: Opened, file: string, tag: string, ctor: Uint32ArrayConstructor | Uint8ArrayConstructor, count: number, below = Infinity): RunReader<T> {
+  const entry = entryOf(opened, file, tag, ctor, count);
+  const size = ctor.BYTES_PER_ELEMENT;
+  return (from, to) => {
+    if (!(Number.isInteger(from) && Number.isInteger(to) && from >= 0 && from <= to && to <= count)) throw new RangeError(`entries ${from}…${to} of section ${tag} asked for; it holds ${count}`);
+    const run = new ctor(readExactly(opened.fd, file, (to - from) * size, entry.offset + from * size, `section ${tag}`).buffer, 0, to - from) as T;
+    for (let i = 0; i < run.length; i++) if (run[i] >= below) throw new IndexFileError(file, `damaged: entry ${from + i} of section ${tag} names note ${run[i]}, but the index holds ${below} notes`);
+    return run;
+  };
+}
+
 /** Sets `field` of `target` to be read by `read` on first use, then kept. */
 function onFirstUse<T extends object>(target: T, field: keyof T, read: () => unknown): void {
   Object.defineProperty(target, field, {
@@ -358,55 +394,69 @@ function onFirstUse<T extends object>(target: T, field: keyof T, read: () => unk
   });
 }
 
-/** Reads an index with the postings of the given pitch dimensions; every section read is checked (`deferNotes`: see ReadOptions). */
+/** Reads an index with the postings of the given pitch dimensions; every section read is checked (`deferNotes`, `onDemand`: see ReadOptions). */
 export function readIndexFile(file: string, modes: readonly PitchMode[], options: ReadOptions = {}): IndexContents {
-  return withIndex(file, (opened) => {
-    const meta = readMeta(opened, file);
-    const pieces = meta.pieces.length;
-    const offsets = section<Uint32Array>(opened, file, 'NOFS', Uint32Array, pieces + 1);
-    if (offsets[pieces] !== meta.notes) throw new IndexFileError(file, `damaged: the piece offsets end at ${offsets[pieces]}, not at the ${meta.notes} notes the index holds`);
-    const notes = { offsets } as FlatNotes;
-    const now = pointFields(modes);
-    for (const [tag, field, ctor] of NOTE_SECTIONS.slice(1)) {
-      if (!options.deferNotes || now.includes(field)) (notes as unknown as Record<string, Typed>)[field] = section(opened, file, tag, ctor, meta.notes);
-      else {
-        entryOf(opened, file, tag, ctor, meta.notes);
-        onFirstUse(notes, field, () => laterSection(file, opened.table, tag, ctor, meta.notes));
+  const opened = openIndex(file);
+  try {
+    return readOpened(file, opened, modes, options);
+  } finally {
+    // An index read on demand keeps its file open for its runs.
+    if (!options.onDemand) closeSync(opened.fd);
+  }
+}
+
+function readOpened(file: string, opened: Opened, modes: readonly PitchMode[], options: ReadOptions): IndexContents {
+  const meta = readMeta(opened, file);
+  const pieces = meta.pieces.length;
+  const offsets = section<Uint32Array>(opened, file, 'NOFS', Uint32Array, pieces + 1);
+  if (offsets[pieces] !== meta.notes) throw new IndexFileError(file, `damaged: the piece offsets end at ${offsets[pieces]}, not at the ${meta.notes} notes the index holds`);
+  const notes = { offsets } as FlatNotes;
+  const now = pointFields(modes);
+  for (const [tag, field, ctor] of NOTE_SECTIONS.slice(1)) {
+    if (!options.deferNotes || now.includes(field)) (notes as unknown as Record<string, Typed>)[field] = section(opened, file, tag, ctor, meta.notes);
+    else {
+      entryOf(opened, file, tag, ctor, meta.notes);
+      onFirstUse(notes, field, () => laterSection(file, opened.table, tag, ctor, meta.notes));
+    }
+  }
+  const postings: Partial<Record<PitchMode, ModePostings>> = {};
+  for (const mode of modes) {
+    if (!meta.modes.includes(mode)) throw new IndexFileError(file, `holds no ${mode} postings`);
+    const tag = (t: string): string => MODE_LETTER[mode] + t;
+    const entry = (t: string) => opened.sections.get(tag(t));
+    const keys = entry('KEY')?.length ?? 0;
+    const anchors = entry('ANC')?.length ?? 0;
+    const starts = section<Uint32Array>(opened, file, tag('RUN'), Uint32Array, keys / 8 + 1);
+    postings[mode] = {
+      keys: section(opened, file, tag('KEY'), Float64Array, keys / 8),
+      starts,
+      anchors: options.onDemand ? runReader<Uint32Array>(opened, file, tag('ANC'), Uint32Array, anchors / 4, meta.notes) : section<Uint32Array>(opened, file, tag('ANC'), Uint32Array, anchors / 4),
+    };
+    if (starts[starts.length - 1] !== anchors / 4) throw new IndexFileError(file, `damaged: the ${mode} key runs end at ${starts[starts.length - 1]}, not at the ${anchors / 4} postings`);
+  }
+  const fingerprints: IndexContents['fingerprints'] = {};
+  for (const mode of meta.modes) {
+    // Present and of consistent lengths now; read, and checked, when tempo-free matching first asks.
+    const length = (t: string): number => opened.sections.get(MODE_LETTER[mode] + t)?.length ?? -1;
+    const keys = length('FKY') / 4;
+    const triples = length('FAN') / 4;
+    if (!(keys >= 0 && triples >= 0)) throw new IndexFileError(file, `damaged: the ${mode} fingerprint sections are missing`);
+    const counts: Record<keyof FingerprintArrays, number> = { keys, starts: keys + 1, anchors: triples, codes: triples };
+    for (const [tag, field, ctor] of FINGERPRINT_SECTIONS) entryOf(opened, file, MODE_LETTER[mode] + tag, ctor, counts[field]);
+    fingerprints[mode] = () => {
+      const table = { shape: meta.fingerprint } as StoredFingerprints;
+      for (const [tag, field, ctor] of FINGERPRINT_SECTIONS) {
+        const t = MODE_LETTER[mode] + tag;
+        const value = !options.onDemand ? laterSection(file, opened.table, t, ctor, counts[field])
+          : field === 'anchors' || field === 'codes' ? runReader(opened, file, t, ctor as Uint32ArrayConstructor | Uint8ArrayConstructor, counts[field], field === 'anchors' ? meta.notes : Infinity)
+          : section(opened, file, t, ctor, counts[field]);
+        (table as unknown as Record<string, unknown>)[field] = value;
       }
-    }
-    const postings: Partial<Record<PitchMode, ModePostings>> = {};
-    for (const mode of modes) {
-      if (!meta.modes.includes(mode)) throw new IndexFileError(file, `holds no ${mode} postings`);
-      const tag = (t: string): string => MODE_LETTER[mode] + t;
-      const entry = (t: string) => opened.sections.get(tag(t));
-      const keys = entry('KEY')?.length ?? 0;
-      const anchors = entry('ANC')?.length ?? 0;
-      const starts = section<Uint32Array>(opened, file, tag('RUN'), Uint32Array, keys / 8 + 1);
-      postings[mode] = {
-        keys: section(opened, file, tag('KEY'), Float64Array, keys / 8),
-        starts,
-        anchors: section(opened, file, tag('ANC'), Uint32Array, anchors / 4),
-      };
-      if (starts[starts.length - 1] !== anchors / 4) throw new IndexFileError(file, `damaged: the ${mode} key runs end at ${starts[starts.length - 1]}, not at the ${anchors / 4} postings`);
-    }
-    const fingerprints: IndexContents['fingerprints'] = {};
-    for (const mode of meta.modes) {
-      // Present and of consistent lengths now; read, and checked, when tempo-free matching first asks.
-      const length = (t: string): number => opened.sections.get(MODE_LETTER[mode] + t)?.length ?? -1;
-      const keys = length('FKY') / 4;
-      const triples = length('FAN') / 4;
-      if (!(keys >= 0 && triples >= 0)) throw new IndexFileError(file, `damaged: the ${mode} fingerprint sections are missing`);
-      const counts: Record<keyof FingerprintArrays, number> = { keys, starts: keys + 1, anchors: triples, codes: triples };
-      for (const [tag, field, ctor] of FINGERPRINT_SECTIONS) entryOf(opened, file, MODE_LETTER[mode] + tag, ctor, counts[field]);
-      fingerprints[mode] = () => {
-        const table = { shape: meta.fingerprint } as FingerprintTable;
-        for (const [tag, field, ctor] of FINGERPRINT_SECTIONS) (table as unknown as Record<string, Typed>)[field] = laterSection(file, opened.table, MODE_LETTER[mode] + tag, ctor, counts[field]);
-        if (table.starts[keys] !== triples) throw new IndexFileError(file, `damaged: the ${mode} fingerprint runs end at ${table.starts[keys]}, not at the ${triples} triples`);
-        return table;
-      };
-    }
-    return { shape: meta.shape, fingerprint: meta.fingerprint, percussion: meta.percussion, pieces: meta.pieces, files: meta.files, notes, postings, fingerprints, ...(meta.shard ? { shard: meta.shard } : {}) };
-  });
+      if (table.starts[keys] !== triples) throw new IndexFileError(file, `damaged: the ${mode} fingerprint runs end at ${table.starts[keys]}, not at the ${triples} triples`);
+      return table;
+    };
+  }
+  return { shape: meta.shape, fingerprint: meta.fingerprint, percussion: meta.percussion, pieces: meta.pieces, files: meta.files, notes, postings, fingerprints, ...(meta.shard ? { shard: meta.shard } : {}) };
 }
 
 /** Version of the optional BASE section's JSON, apart from the index's: a reader of the postings need not understand it. */

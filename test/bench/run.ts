@@ -35,7 +35,7 @@ import { windows } from '../../core/windows.js';
 import { percentile, seededRandom } from '../../core/stats.js';
 import { type FlatNotes, notePoints } from '../../core/flat-notes.js';
 import { type FlatPoints, CORPUS_TRIPLES, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
-import { FINGERPRINT_SHAPE, buildFingerprints } from '../../core/fingerprint.js';
+import { type StoredFingerprints, FINGERPRINT_SHAPE, buildFingerprints } from '../../core/fingerprint.js';
 import { DEFAULT_FILTER } from '../../core/index-match.js';
 import { type CandidateKind, type MatchCorpus, type MatchMode, windowMatcher } from '../../core/pipeline.js';
 import { LIVE_TABLE_BITS, LiveMatcher } from '../../core/live-match.js';
@@ -194,7 +194,7 @@ function freshLoadSeconds(file: string): number {
     const { notePoints } = await import(${JSON.stringify(join(dist, 'core/flat-notes.js'))});
     const { corpusIndex } = await import(${JSON.stringify(join(dist, 'core/triple-index.js'))});
     const t = performance.now();
-    const read = readIndexFile(${JSON.stringify(file)}, ['chromatic'], { deferNotes: true });
+    const read = readIndexFile(${JSON.stringify(file)}, ['chromatic'], { deferNotes: true, onDemand: true });
     corpusIndex({ ...read.postings.chromatic, points: notePoints(read.notes, 'chromatic'), shape: read.shape });
     process.stdout.write(String((performance.now() - t) / 1000));`;
   const r = spawnSync(process.execPath, ['--input-type=module', '-e', script], { encoding: 'utf8' });
@@ -347,9 +347,9 @@ function benchCorpus(name: string, make: () => Point[][], options: { perKind: nu
     const bytes = statSync(file).size;
     // The median of three: the first read of a file just written can wait on the disk, as a user's load (long after the build) does not.
     const loadSeconds = [freshLoadSeconds(file), freshLoadSeconds(file), freshLoadSeconds(file)].sort((a, b) => a - b)[1];
-    const read = readIndexFile(file, ['chromatic']);
+    const read = readIndexFile(file, ['chromatic'], { deferNotes: true, onDemand: true });
     const flat = notePoints(read.notes, 'chromatic');
-    const corpus = { flat, index: corpusIndex({ ...read.postings.chromatic!, points: flat, shape: read.shape }), fingerprints: read.fingerprints.chromatic as () => ReturnType<typeof buildFingerprints> };
+    const corpus = { flat, index: corpusIndex({ ...read.postings.chromatic!, points: flat, shape: read.shape }), fingerprints: read.fingerprints.chromatic as () => StoredFingerprints };
     const table = corpus.fingerprints();
     const withTable = { ...corpus, fingerprints: () => table };
     const rows = BENCH_MODES.flatMap((m) =>

@@ -19,6 +19,7 @@ import { windows } from '../../core/windows.js';
 import { seededRandom } from '../../core/stats.js';
 import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
 import { DEFAULT_FILTER, scanBest, wideBudgetFor } from '../../core/index-match.js';
+import { windowMatcher } from '../../core/pipeline.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';
 import { corpusOf, pieceOf } from '../helpers/corpus.js';
 import { loadChorales } from '../helpers/jsb.js';
@@ -168,6 +169,21 @@ describe('indexed matching equals exact matching wherever the exact score is ≥
     const own = compare(query, exact, indexed).filter((r) => r.start + toGrains(W) <= toGrains(48));
     expect(own).toHaveLength(5);
     for (const r of own) expect([r.indexed?.piece, r.indexed?.score]).toEqual([2, 1]);
+  });
+
+  it('postings read a key at a time, as from an index file opened on demand, answer as postings in memory, reading only the keys voted from', () => {
+    const flat = flattenPoints(view);
+    const postings = buildTriples(flat);
+    let read = 0;
+    const onDemand = corpusIndex({ ...postings, anchors: (from, to) => ((read += to - from), postings.anchors.slice(from, to)) });
+    const match = (index: CorpusIndex) => windowMatcher({ flat, index }, { windowBeats: W, mode: { tolerance: 0.1, tempoFree: false }, candidates: 'index' });
+    const query = copyOf(corpus[3], { from: 8, beats: 32, move: 0, transpose: 3, alter: 0.2, seed: 4 });
+    const ws = windows(query, { window: W, hop: 4 });
+    expect(ws.map((w) => match(onDemand).best({ points: w.points, startGrains: toGrains(w.start) }))).toEqual(ws.map((w) => match(corpusIndex(postings)).best({ points: w.points, startGrains: toGrains(w.start) })));
+    expect(read).toBeGreaterThan(0);
+    expect(read).toBeLessThan(postings.anchors.length);
+    const damaged = corpusIndex({ ...postings, anchors: (from, to) => new Uint32Array(to - from).fill(flat.at.length) });
+    expect(() => match(damaged).best({ points: ws[0].points, startGrains: toGrains(ws[0].start) })).toThrow(`names point ${flat.at.length}, but the index holds ${flat.at.length} points`);
   });
 });
 

@@ -21,11 +21,12 @@ import { openCorpus } from '../../../bridge/corpus/open-corpus.js';
 import { UsageError } from '../../../bridge/formats/user-error.js';
 import { corpusOf, pieceOf } from '../../helpers/corpus.js';
 import { loadChorales } from '../../helpers/jsb.js';
-import { type FingerprintTable, FINGERPRINT_SHAPE, buildFingerprints } from '../../../core/fingerprint.js';
+import { type FingerprintTable, type StoredFingerprints, FINGERPRINT_SHAPE, buildFingerprints } from '../../../core/fingerprint.js';
 import { windowMatcher } from '../../../core/pipeline.js';
 import { played } from '../../helpers/material.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'ew-index-file-'));
+const postingsOf = (c: IndexContents) => c.postings.chromatic!;
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 // Chorales from the open JSB dataset (test/fixtures/jsb), spelled in their estimated keys, so morphetic pitches differ from chromatic ones.
@@ -201,6 +202,47 @@ describe('index file', () => {
     const back = readIndexFile(f, ['chromatic'], { deferNotes: true });
     writeIndexFile(f, { ...written, pieces: written.pieces.slice(0, 11), files: written.files.slice(0, 11), notes: joinNotes(written.pieces.slice(0, 11).map((_, piece) => ({ notes, piece }))) });
     expect(() => back.notes.duration).toThrow(/replaced since it was opened \(its section table differs\), so its NDUR section no longer belongs with what was read; open it again; rebuild it with/);
+  });
+
+  /** Every key's run of a stored array, read through `runs`. */
+  const everyRun = (starts: Uint32Array, runs: (from: number, to: number) => Uint32Array | Uint8Array): number[] => {
+    const out: number[] = [];
+    for (let k = 0; k + 1 < starts.length; k++) out.push(...runs(starts[k], starts[k + 1]));
+    return out;
+  };
+
+  it('on demand: each key\'s postings and fingerprints, read a run at a time through the open file, are the stored ones', () => {
+    const back = readIndexFile(file, ['chromatic', 'morphetic'], { onDemand: true });
+    for (const mode of PITCH_MODES) {
+      const postings = back.postings[mode]!;
+      expect(postings.anchors).toBeTypeOf('function');
+      expect(everyRun(postings.starts, postings.anchors as (from: number, to: number) => Uint32Array)).toEqual([...written.postings[mode]!.anchors]);
+      const table = (back.fingerprints[mode] as () => StoredFingerprints)();
+      const stored = written.fingerprints[mode] as FingerprintTable;
+      expect([table.keys, table.starts]).toEqual([stored.keys, stored.starts]);
+      expect(everyRun(table.starts, table.anchors as (from: number, to: number) => Uint32Array)).toEqual([...stored.anchors]);
+      expect(everyRun(table.starts, table.codes as (from: number, to: number) => Uint8Array)).toEqual([...stored.codes]);
+    }
+    expect(() => (postingsOf(back).anchors as (from: number, to: number) => Uint32Array)(5, 4)).toThrow(RangeError);
+  });
+
+  it('on demand: a file rebuilt over it after opening is still read as it was when opened', () => {
+    const f = broken('rebuilt-on-demand', bytes);
+    const back = readIndexFile(f, ['chromatic'], { onDemand: true });
+    writeIndexFile(f, { ...written, postings: { chromatic: buildTriples(notePoints(joinNotes([{ notes, piece: 1 }]), 'chromatic')), morphetic: written.postings.morphetic }, pieces: written.pieces.slice(1, 2), files: written.files.slice(1, 2), notes: joinNotes([{ notes, piece: 1 }]) });
+    expect(everyRun(postingsOf(back).starts, postingsOf(back).anchors as (from: number, to: number) => Uint32Array)).toEqual([...written.postings.chromatic!.anchors]);
+  });
+
+  it('on demand: a posting naming a note the index does not hold is refused when its key is first read, naming the section and how to rebuild', () => {
+    const damaged = Uint8Array.from(bytes);
+    const last = sectionAt(bytes, 'CANC') + 4 * (written.postings.chromatic!.anchors.length - 1);
+    damaged.set([0xff, 0xff, 0xff, 0x7f], last);
+    const f = broken('posting-past-the-end', damaged);
+    const back = readIndexFile(f, ['chromatic'], { onDemand: true });
+    const { starts } = postingsOf(back);
+    const runs = postingsOf(back).anchors as (from: number, to: number) => Uint32Array;
+    expect(runs(starts[0], starts[1])).toEqual(written.postings.chromatic!.anchors.subarray(starts[0], starts[1]));
+    expect(() => everyRun(starts, runs)).toThrow(`${f}: damaged: entry ${written.postings.chromatic!.anchors.length - 1} of section CANC names note 2147483647, but the index holds ${notes.at.length} notes; rebuild it with`);
   });
 
   it('in the default place, the message names the folder to rebuild', () => {
