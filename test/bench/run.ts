@@ -100,6 +100,8 @@ export interface CorpusRow {
   pieces: number;
   buildSeconds: number;
   loadSeconds: number;
+  /** Resident memory of that fresh process once loaded (the median run's), MB. */
+  loadedMB: number;
   indexBytesPerNote: number;
   residentMB: number;
   modes: ModeRow[];
@@ -186,8 +188,8 @@ function prepare(make: () => Point[][], perKind: number): { notes: FlatNotes; pi
   return { notes, pieces: corpus.length, ...queries(corpus, perKind, 7) };
 }
 
-/** Seconds a fresh process takes to load the index (chromatic postings) ready to match, as `--corpus FILE` does. */
-function freshLoadSeconds(file: string): number {
+/** Seconds a fresh process takes to load the index (chromatic postings) ready to match, as `--corpus FILE` does, and its resident memory then. */
+function freshLoad(file: string): { seconds: number; residentMB: number } {
   const dist = join(import.meta.dirname, '../..');
   const script = `
     const { readIndexFile } = await import(${JSON.stringify(join(dist, 'bridge/formats/index-file.js'))});
@@ -196,10 +198,10 @@ function freshLoadSeconds(file: string): number {
     const t = performance.now();
     const read = readIndexFile(${JSON.stringify(file)}, ['chromatic'], { deferNotes: true, onDemand: true });
     corpusIndex({ ...read.postings.chromatic, points: notePoints(read.notes, 'chromatic'), shape: read.shape });
-    process.stdout.write(String((performance.now() - t) / 1000));`;
+    process.stdout.write(JSON.stringify({ seconds: (performance.now() - t) / 1000, residentMB: process.memoryUsage().rss / 2 ** 20 }));`;
   const r = spawnSync(process.execPath, ['--input-type=module', '-e', script], { encoding: 'utf8' });
   if (r.status !== 0) throw new Error(`loading ${file} in a fresh process failed: ${r.stderr}`);
-  return Number(r.stdout);
+  return JSON.parse(r.stdout) as { seconds: number; residentMB: number };
 }
 
 const timed = (m: WindowMatcher, p: Probe): { ms: number; match: WindowMatch | null } => {
@@ -346,7 +348,7 @@ function benchCorpus(name: string, make: () => Point[][], options: { perKind: nu
     const buildSeconds = ms(t0) / 1000;
     const bytes = statSync(file).size;
     // The median of three: the first read of a file just written can wait on the disk, as a user's load (long after the build) does not.
-    const loadSeconds = [freshLoadSeconds(file), freshLoadSeconds(file), freshLoadSeconds(file)].sort((a, b) => a - b)[1];
+    const load = [freshLoad(file), freshLoad(file), freshLoad(file)].sort((a, b) => a.seconds - b.seconds)[1];
     const read = readIndexFile(file, ['chromatic'], { deferNotes: true, onDemand: true });
     const flat = notePoints(read.notes, 'chromatic');
     const corpus = { flat, index: corpusIndex({ ...read.postings.chromatic!, points: flat, shape: read.shape }), fingerprints: read.fingerprints.chromatic as () => StoredFingerprints };
@@ -361,7 +363,8 @@ function benchCorpus(name: string, make: () => Point[][], options: { perKind: nu
       notes: flat.at.length,
       pieces,
       buildSeconds: round(buildSeconds, 2),
-      loadSeconds: round(loadSeconds, 3),
+      loadSeconds: round(load.seconds, 3),
+      loadedMB: Math.round(load.residentMB),
       indexBytesPerNote: round(bytes / flat.at.length, 1),
       residentMB: Math.round(process.memoryUsage().rss / 2 ** 20),
       modes: rows,
@@ -383,7 +386,7 @@ function table(r: CorpusRow): string {
   const pct = (x: number | null): string => (x === null ? '—' : `${round(100 * x, 1)}%`);
   const lines = [
     `${r.corpus}: ${r.notes} notes in ${r.pieces} pieces`,
-    `  build ${r.buildSeconds} s (triples and fingerprints, both pitch dimensions, written), load ${r.loadSeconds} s, ${r.indexBytesPerNote} bytes/note on disk, resident ${r.residentMB} MB`,
+    `  build ${r.buildSeconds} s (triples and fingerprints, both pitch dimensions, written), load ${r.loadSeconds} s (${r.loadedMB} MB resident then), ${r.indexBytesPerNote} bytes/note on disk, resident ${r.residentMB} MB`,
     '  | mode | candidates | p50 | p99 | windows | per CPU second | with distinctiveness | speed-up | recall ≥ 0.5 | above reference | tempo copies found |',
     '  | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |',
     ...r.modes.map(
