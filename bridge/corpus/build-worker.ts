@@ -13,6 +13,7 @@
 import { createHash } from 'node:crypto';
 import { readFileSync, statSync } from 'node:fs';
 import { parentPort } from 'node:worker_threads';
+import { getHeapStatistics } from 'node:v8';
 import { type FlatNotes, flattenNotes } from '../../core/flat-notes.js';
 import { type Skipped, readPieces } from './corpus-files.js';
 import type { PieceInfo } from '../formats/index-file.js';
@@ -61,7 +62,25 @@ function parse(task: ParseTask): { message: ParsedFile; transfer: ArrayBuffer[] 
   }
 }
 
+/**
+ * Heap used since the last full collection past which the next one is made.
+ * Reading a file makes many short-lived objects; left to itself the engine
+ * lets them pile up, and after a few thousand files each one read several
+ * times slower (test/bench/RESULTS.md). A full collection between files,
+ * every so often, keeps the pace steady. The engine's collector is there
+ * when `corpus build` started this thread after exposing it
+ * (bridge/daemon/idle-collect.ts); without it, nothing is collected here.
+ */
+export const COLLECT_AFTER_BYTES = 64 * 2 ** 20;
+
+const collect = (globalThis as { gc?: () => void }).gc;
+let collectedAt = getHeapStatistics().used_heap_size;
+
 parentPort?.on('message', (task: ParseTask) => {
   const { message, transfer } = parse(task);
   parentPort!.postMessage(message, transfer);
+  if (collect && getHeapStatistics().used_heap_size - collectedAt > COLLECT_AFTER_BYTES) {
+    collect();
+    collectedAt = getHeapStatistics().used_heap_size;
+  }
 });

@@ -16,7 +16,7 @@ import { type FlatNotes, joinNotes, notePoints } from '../../core/flat-notes.js'
 import { CORPUS_TRIPLES, buildTriples } from '../../core/triple-index.js';
 import { FINGERPRINT_SHAPE, buildFingerprints } from '../../core/fingerprint.js';
 import { dealRuns } from '../../core/shards.js';
-import { type FileFingerprint, type IndexContents, type PieceInfo, type ShardOf, readIndexCrc, writeIndexFile } from '../formats/index-file.js';
+import { type FileFingerprint, type IndexToWrite, type PieceInfo, type ShardOf, readIndexCrc, writeIndexFile } from '../formats/index-file.js';
 import { type ShardEntry, MANIFEST_FORMAT, MANIFEST_VERSION, shardFileName, writeShardManifest } from '../formats/shard-manifest.js';
 
 export interface IndexParts {
@@ -27,11 +27,14 @@ export interface IndexParts {
   shard?: ShardOf;
 }
 
-/** Everything an index file holds for these pieces: each pitch dimension's points, triple postings and fingerprint table. */
-export function indexContents(parts: IndexParts): IndexContents {
-  const points = PITCH_MODES.map((mode) => [mode, notePoints(parts.notes, mode)] as const);
-  const postings = Object.fromEntries(points.map(([mode, flat]) => [mode, buildTriples(flat, CORPUS_TRIPLES)]));
-  const fingerprints = Object.fromEntries(points.map(([mode, flat]) => [mode, buildFingerprints(flat, FINGERPRINT_SHAPE)]));
+/**
+ * Everything an index file holds for these pieces: each pitch dimension's
+ * triple postings and fingerprint table, each made from the notes when the
+ * writer reaches it (writeIndexFile), so a build holds one at a time.
+ */
+export function indexContents(parts: IndexParts): IndexToWrite {
+  const postings = Object.fromEntries(PITCH_MODES.map((mode) => [mode, () => buildTriples(notePoints(parts.notes, mode), CORPUS_TRIPLES)]));
+  const fingerprints = Object.fromEntries(PITCH_MODES.map((mode) => [mode, () => buildFingerprints(notePoints(parts.notes, mode), FINGERPRINT_SHAPE)]));
   return { shape: CORPUS_TRIPLES, fingerprint: FINGERPRINT_SHAPE, ...parts, postings, fingerprints };
 }
 

@@ -73,6 +73,12 @@ export interface IndexContents {
   shard?: ShardOf;
 }
 
+/** What writeIndexFile takes: an index's contents, each pitch dimension's postings and fingerprint table as they are or made when their turn comes. */
+export type IndexToWrite = Omit<IndexContents, 'postings' | 'fingerprints'> & {
+  postings: Partial<Record<PitchMode, WhenWritten<ModePostings>>>;
+  fingerprints: Partial<Record<PitchMode, WhenWritten<StoredFingerprints>>>;
+};
+
 /** One shard of a sharded build: a run of the corpus's pieces from `firstPiece` on. */
 export interface ShardOf {
   build: string;
@@ -171,53 +177,66 @@ function checkPlatform(): void {
 const align8 = (n: number): number => Math.ceil(n / 8) * 8;
 const bytesOf = (a: Typed): Uint8Array => new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
 
-/** Writes an index atomically: to a temporary file beside it, then renamed over the old one. */
-export function writeIndexFile(file: string, contents: IndexContents): void {
+/** A value given as is, or made when the writer reaches it (and let go once written). */
+export type WhenWritten<T> = T | (() => T);
+const made = <T extends object>(v: WhenWritten<T>): T => (typeof v === 'function' ? (v as () => T)() : v);
+
+/**
+ * Writes an index atomically: to a temporary file beside it, then renamed
+ * over the old one. Sections are written in order, a group at a time: a pitch
+ * dimension's postings or fingerprint table given as a function is made when
+ * its turn comes and let go once written, so a build holds one of them at a
+ * time, not all four. The section table, which needs every section's CRC,
+ * offset and length, is written last, in the space kept for it at the start.
+ */
+export function writeIndexFile(file: string, contents: IndexToWrite): void {
   checkPlatform();
   const modes = (Object.keys(contents.postings) as PitchMode[]).filter((m) => contents.postings[m]);
   const meta: Meta = { shape: contents.shape, fingerprint: contents.fingerprint, percussion: contents.percussion, pieces: contents.pieces, files: contents.files, notes: contents.notes.at.length, modes, ...(contents.shard ? { shard: contents.shard } : {}) };
-  const sections: [string, Uint8Array][] = [['META', new TextEncoder().encode(JSON.stringify(meta))]];
-  for (const [tag, field] of NOTE_SECTIONS) sections.push([tag, bytesOf(contents.notes[field])]);
-  for (const mode of modes) {
-    for (const [tag, field] of POSTING_SECTIONS) {
-      const stored = contents.postings[mode]![field];
-      if (typeof stored === 'function') throw new Error(`writeIndexFile: the ${mode} postings were read on demand; read them whole to write them`);
-      sections.push([MODE_LETTER[mode] + tag, bytesOf(stored)]);
-    }
-  }
-  for (const mode of modes) {
-    const table = contents.fingerprints[mode];
-    if (!table || typeof table === 'function') throw new Error(`writeIndexFile: the ${mode} fingerprint table is missing`);
-    for (const [tag, field] of FINGERPRINT_SECTIONS) sections.push([MODE_LETTER[mode] + tag, bytesOf(table[field])]);
-  }
-  if (contents.baselines?.length) sections.push(['BASE', new TextEncoder().encode(JSON.stringify({ version: BASELINE_VERSION, baselines: contents.baselines }))]);
-  const table = Buffer.alloc(HEADER_BYTES + ENTRY_BYTES * sections.length);
-  let offset = align8(table.length);
-  sections.forEach(([tag, bytes], i) => {
-    const e = HEADER_BYTES + i * ENTRY_BYTES;
-    table.write(tag, e, 'latin1');
-    table.writeUInt32LE(crc32(bytes), e + 4);
-    table.writeBigUInt64LE(BigInt(offset), e + 8);
-    table.writeBigUInt64LE(BigInt(bytes.length), e + 16);
-    offset = align8(offset + bytes.length);
-  });
-  table.set(SIGNATURE, 0);
-  table.writeUInt32LE(INDEX_VERSION, 8);
-  table.writeUInt32LE(sections.length, 12);
-  table.writeUInt32LE(crc32(table.subarray(HEADER_BYTES)), 16);
+  const inMemory = (stored: Typed | RunReader<Uint32Array | Uint8Array>, what: string): Typed => {
+    if (typeof stored === 'function') throw new Error(`writeIndexFile: the ${what} were read on demand; read them whole to write them`);
+    return stored;
+  };
+  /** Each group's sections, made only when the writer reaches it. */
+  const groups: (() => [string, Uint8Array][])[] = [
+    () => [['META', new TextEncoder().encode(JSON.stringify(meta))]],
+    () => NOTE_SECTIONS.map(([tag, field]) => [tag, bytesOf(contents.notes[field])]),
+    ...modes.map((mode) => () => {
+      const postings = made(contents.postings[mode]!);
+      return POSTING_SECTIONS.map(([tag, field]): [string, Uint8Array] => [MODE_LETTER[mode] + tag, bytesOf(inMemory(postings[field], `${mode} postings`))]);
+    }),
+    ...modes.map((mode) => () => {
+      const given = contents.fingerprints[mode];
+      if (!given) throw new Error(`writeIndexFile: the ${mode} fingerprint table is missing`);
+      const table = made(given);
+      return FINGERPRINT_SECTIONS.map(([tag, field]): [string, Uint8Array] => [MODE_LETTER[mode] + tag, bytesOf(inMemory(table[field], `${mode} fingerprints`))]);
+    }),
+    ...(contents.baselines?.length ? [(): [string, Uint8Array][] => [['BASE', new TextEncoder().encode(JSON.stringify({ version: BASELINE_VERSION, baselines: contents.baselines }))]]] : []),
+  ];
+  const count = 1 + NOTE_SECTIONS.length + modes.length * (POSTING_SECTIONS.length + FINGERPRINT_SECTIONS.length) + (contents.baselines?.length ? 1 : 0);
+  const table = Buffer.alloc(HEADER_BYTES + ENTRY_BYTES * count);
   const temp = `${file}.${process.pid}.partial`;
   const fd = openSync(temp, 'w');
   try {
-    let at = 0;
-    const put = (bytes: Uint8Array): void => {
-      writeSync(fd, bytes, 0, bytes.length, at);
-      at += bytes.length;
-    };
-    put(table);
-    for (const [, bytes] of sections) {
-      put(new Uint8Array(align8(at) - at));
-      put(bytes);
+    let at = align8(table.length);
+    let written = 0;
+    for (const group of groups) {
+      for (const [tag, bytes] of group()) {
+        const e = HEADER_BYTES + written++ * ENTRY_BYTES;
+        table.write(tag, e, 'latin1');
+        table.writeUInt32LE(crc32(bytes), e + 4);
+        table.writeBigUInt64LE(BigInt(at), e + 8);
+        table.writeBigUInt64LE(BigInt(bytes.length), e + 16);
+        writeAll(fd, bytes, at);
+        at = align8(at + bytes.length);
+      }
     }
+    if (written !== count) throw new Error(`writeIndexFile: wrote ${written} sections, expected ${count}`);
+    table.set(SIGNATURE, 0);
+    table.writeUInt32LE(INDEX_VERSION, 8);
+    table.writeUInt32LE(count, 12);
+    table.writeUInt32LE(crc32(table.subarray(HEADER_BYTES)), 16);
+    writeAll(fd, table, 0);
     closeSync(fd);
     renameSync(temp, file);
   } catch (e) {
@@ -229,6 +248,11 @@ export function writeIndexFile(file: string, contents: IndexContents): void {
     rmSync(temp, { force: true });
     throw e;
   }
+}
+
+/** Writes all of `bytes` at `position` (a write may take less than asked). */
+function writeAll(fd: number, bytes: Uint8Array, position: number): void {
+  for (let done = 0; done < bytes.length; ) done += writeSync(fd, bytes, done, bytes.length - done, position + done);
 }
 
 interface Opened {

@@ -18,6 +18,7 @@ import { Worker } from 'node:worker_threads';
 import type { Command } from 'commander';
 import { type FlatNotes, joinNotes } from '../../../core/flat-notes.js';
 import { EXACT_MODE } from '../../../core/pipeline.js';
+import { PITCH_MODES } from '../../../core/note.js';
 import { walkCorpus } from '../../corpus/corpus-files.js';
 import { type ScoreFormat, FORMAT_NAMES, SCORE_FORMATS, formatOf } from '../../formats/read-file.js';
 import { type FileFingerprint, type IndexContents, type PieceInfo, INDEX_NAME, IndexFileError, readIndexFile, writeIndexFile } from '../../formats/index-file.js';
@@ -29,6 +30,7 @@ import { type Baseline, CAUTION, humanBaseline } from '../../../core/report.js';
 import { openCorpusTold } from '../notices.js';
 import { BUILT_IN_PRESETS, loadPreset } from '../../formats/presets.js';
 import { type ProgressFn, progressBar } from '../progress.js';
+import { exposeCollector } from '../../daemon/idle-collect.js';
 import { UsageError, positive, wholeNumber } from '../../formats/user-error.js';
 
 /** "8,16" → [8, 16]: positive beat counts. */
@@ -93,6 +95,8 @@ const portable = (p: string): string => p.split(sep).join('/');
 async function parseAll(tasks: ParseTask[], limitMs: number, progress: ProgressFn): Promise<ParsedFile[]> {
   const results: ParsedFile[] = new Array(tasks.length);
   const url = new URL('../../corpus/build-worker.js', import.meta.url);
+  // The readers collect their garbage every so often (build-worker.ts).
+  exposeCollector();
   let next = 0;
   let done = 0;
   const runOne = (worker: Worker, task: ParseTask): Promise<ParsedFile | string> =>
@@ -231,7 +235,8 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
   const contents = indexContents({ notes: got.notes, pieces: got.pieces, files: got.files, percussion });
   writeIndexFile(out, contents);
   const baselines = options.baseline ? baselinesOf(out, percussion, options.baseline) : [];
-  if (baselines.length) writeIndexFile(out, { ...contents, baselines });
+  // Written again with the baselines, from the file just written: read back, not built again.
+  if (baselines.length) writeIndexFile(out, { ...readIndexFile(out, PITCH_MODES), baselines });
   return {
     pieces: got.pieces.length,
     notes: got.notes.at.length,
