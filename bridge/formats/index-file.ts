@@ -366,8 +366,8 @@ export interface ReadOptions {
    * session touches a small part. The file stays open for the life of the
    * process, so a rebuild (written beside it and renamed over it) or a
    * deletion does not change what is read. Runs are not checked against
-   * their section's CRC, which covers the whole section; a run naming a point
-   * the index does not hold is refused (core/triple-index.ts), and every
+   * their section's CRC, which covers the whole section; a run naming a note
+   * the index does not hold is refused as it is read (`runReader`), and every
    * candidate a posting proposes is verified against the checked notes, so a
    * damaged posting can cost a match but never invent one.
    */
