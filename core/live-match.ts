@@ -25,7 +25,7 @@
  *   live.best({ points: windowPoints, startGrains: windowStart })
  *   // → { piece: 7, pieceStart: 8, transposition: 5, matched: 22, excerptNotes: 24, score: 0.917, distinctiveness: 1 }
  */
-import { type Point, comparePoints, toGrains } from './note.js';
+import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains } from './note.js';
 import type { MatchWindow, WindowMatch } from './match.js';
 import type { CorpusIndex } from './triple-index.js';
 import { type CandidateSource, COARSE_GRAINS, FINE_GRAINS, SCAN_POINTS, candidatesOf, snapTo, verifyAll } from './index-match.js';
@@ -50,9 +50,46 @@ const REBASE_GRAINS = 2 ** 30;
  */
 export const LIVE_TABLE_BITS = 17;
 
-/** The warm-up (`LiveMatcher.warmUp`): corpus passages played, and points in each. */
-export const WARM_UP_PASSAGES = 4;
-export const WARM_UP_POINTS = 64;
+/** The warm-up (`warmUpPassages`): corpus passages played, and points in each. */
+export const WARM_UP_PASSAGES = 8;
+export const WARM_UP_POINTS = 200;
+
+/**
+ * What a matcher plays before it listens: passages of the corpus spread over
+ * its pieces, played four ways in turn — as written, with the pitches in
+ * reverse (no match), a fourth up and loose by 1/48 beat either way (a
+ * match within a tolerance, transposed), and with every third note left out.
+ * Playing them runs every path a performance takes — votes, verification,
+ * stretches, distinctiveness — so the engine has compiled them and the
+ * tables have grown before the first played note, not during it. Each
+ * passage starts at time 0, in time order, no point twice.
+ *
+ * @example
+ *   warmUpPassages(corpus.flat).length   // → 8 (fewer when the corpus has fewer pieces)
+ *   warmUpPassages(corpus.flat)[0][0]    // → { at: 0, pitch: 62 }
+ */
+export function warmUpPassages(flat: MatchCorpus['flat'], options: { passages?: number; points?: number } = {}): Point[][] {
+  const { offsets, at, pitch } = flat;
+  const pieces = offsets.length - 1;
+  const count = Math.min(options.passages ?? WARM_UP_PASSAGES, pieces);
+  const loose = GRAINS_PER_BEAT / 48;
+  const out: Point[][] = [];
+  for (let w = 0; w < count; w++) {
+    const piece = Math.floor((w * pieces) / count);
+    const from = offsets[piece];
+    const to = Math.min(offsets[piece + 1], from + (options.points ?? WARM_UP_POINTS));
+    const passage: Point[] = [];
+    for (let i = from; i < to; i++) {
+      const k = i - from;
+      if (w % 4 === 3 && k % 3 === 2) continue;
+      const shift = w % 4 === 2 ? (k % 2 ? loose : -loose) : 0;
+      passage.push({ at: Math.max(0, at[i] - at[from] + shift), pitch: w % 4 === 1 ? pitch[to - 1 - k] : pitch[i] + (w % 4 === 2 ? 5 : 0) });
+    }
+    passage.sort(comparePoints);
+    out.push(passage.filter((p, i) => i === 0 || comparePoints(passage[i - 1], p) !== 0));
+  }
+  return out;
+}
 
 export interface LiveMatcherOptions {
   windowBeats: number;
@@ -121,26 +158,16 @@ export class LiveMatcher {
   }
 
   /**
-   * Plays a few corpus passages through the matcher, note by note as a
-   * listener would, every other one with its pitches in reverse order (so one
-   * matches and one does not), then forgets them. The engine compiles the
-   * scoring code, and the vote and cell tables reach their working size,
-   * before the first note played, not during it. A listener calls it once
-   * after loading.
+   * Plays the warm-up passages (`warmUpPassages`) through the matcher, note
+   * by note as a listener would, then forgets them. A listener calls it once
+   * after loading; the daemon's scorer plays the same passages through the
+   * whole verdict instead (bridge/daemon/live-scorer.ts).
    */
   warmUp(): void {
-    const { offsets, at, pitch } = this.flat;
-    const pieces = offsets.length - 1;
-    for (let w = 0; w < WARM_UP_PASSAGES && pieces > 0; w++) {
-      const piece = Math.floor((w * pieces) / WARM_UP_PASSAGES);
-      const from = offsets[piece];
-      const to = Math.min(offsets[piece + 1], from + WARM_UP_POINTS);
-      const passage: Point[] = [];
-      for (let i = from; i < to; i++) passage.push({ at: at[i] - at[from], pitch: w % 2 ? pitch[to - 1 - (i - from)] : pitch[i] });
+    for (const passage of warmUpPassages(this.flat)) {
       const window: Point[] = [];
       this.reset();
-      passage.sort(comparePoints);
-      for (const point of passage.filter((p, i) => i === 0 || comparePoints(passage[i - 1], p) !== 0)) {
+      for (const point of passage) {
         window.push(point);
         while (window[0].at <= point.at - this.windowGrains) window.shift();
         this.add(point);

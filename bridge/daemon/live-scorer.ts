@@ -20,12 +20,13 @@
  *   scorer.add({ seq: 1, onset: 0, duration: 1, pitch: 60, velocity: 90, channel: 1 });
  *   scorer.evaluate()   // → { seq: 1, windowNotes: 1, windowStart: 0, windowEnd: 16, match: {...} | null, excerpt: [...], ... }
  */
-import { type Note, GRAINS_PER_BEAT, toGrains, toPoints } from '../../core/note.js';
+import { type Note, type Point, GRAINS_PER_BEAT, toGrains, toPoints } from '../../core/note.js';
+import { performance } from 'node:perf_hooks';
 import { type Corpus, corpusPoints, pieceName } from '../../core/corpus.js';
 import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
 import { buildFingerprints } from '../../core/fingerprint.js';
 import type { MatchCorpus } from '../../core/pipeline.js';
-import { LIVE_TABLE_BITS, LiveMatcher } from '../../core/live-match.js';
+import { LIVE_TABLE_BITS, LiveMatcher, warmUpPassages } from '../../core/live-match.js';
 import { LiveWindow } from '../../core/live-window.js';
 import { excerptMarks, snapOnsets } from '../../core/review.js';
 import { type StretchMatch, type StretchRule, hotStretch, nearestStretch, thresholdOf } from '../../core/stretch.js';
@@ -113,7 +114,6 @@ export function liveCorpus(corpus: Corpus): MatchCorpus & { index: CorpusIndex }
  */
 export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching: MatchCorpus & { index: CorpusIndex } = liveCorpus(corpus)): LiveScorer {
   const live = new LiveMatcher(matching, { windowBeats: options.windowBeats, mode: { tolerance: options.tolerance ?? 0, tempoFree: options.tempoFree ?? false }, tableBits: LIVE_TABLE_BITS });
-  live.warmUp();
   const window = new LiveWindow<Note & { seq: number }>({ beats: options.windowBeats, maxNotes: MAX_WINDOW_NOTES });
   let lastSeq = 0;
   const early = options.early && options.early.lengths.length ? options.early : null;
@@ -133,7 +133,7 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
       hot: hot !== null, match: { ...matchOf(s.match), ...(hot ? { distinctiveness: hot.distinctiveness } : {}) },
     };
   };
-  return {
+  const scorer: LiveScorer = {
     add(n) {
       lastSeq = n.seq;
       const note = snapOnsets([{ seq: n.seq, onset: n.onset, duration: n.duration, pitch: n.pitch, morph: n.pitch, velocity: n.velocity, channel: n.channel }], options.grid)[0];
@@ -169,4 +169,28 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
       return { ...base, score: m.score, match, timeShift: windowStart - m.pieceStart, excerpt };
     },
   };
+  warmUp(scorer, warmUpPassages(matching.flat));
+  return scorer;
+}
+
+/** Longest the warm-up may take: on a very large corpus it plays what fits and stops. */
+export const WARM_UP_LIMIT_MS = 3000;
+
+/**
+ * Plays the warm-up passages (core/live-match.ts) through the whole verdict
+ * — votes, stretches, distinctiveness, the excerpt — then empties the window:
+ * the first notes a performer plays are then scored by compiled code with
+ * tables at their working size, as later ones are.
+ */
+function warmUp(scorer: LiveScorer, passages: Point[][]): void {
+  const until = performance.now() + WARM_UP_LIMIT_MS;
+  for (const passage of passages) {
+    scorer.reset();
+    for (const [i, p] of passage.entries()) {
+      scorer.add({ seq: i + 1, onset: p.at / GRAINS_PER_BEAT, duration: 0.5, pitch: p.pitch, velocity: 90, channel: 1 });
+      scorer.evaluate();
+      if (performance.now() > until) return scorer.reset();
+    }
+  }
+  scorer.reset();
 }

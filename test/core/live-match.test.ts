@@ -7,12 +7,12 @@
  * (test/bench/synthetic.ts) and JSB chorales (test/fixtures/jsb/README.md).
  */
 import { describe, expect, it } from 'vitest';
-import { type Point, comparePoints, toGrains, toPoints } from '../../core/note.js';
+import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains, toPoints } from '../../core/note.js';
 import { type CorpusPoints, corpusPoints } from '../../core/corpus.js';
 import { seededRandom } from '../../core/stats.js';
 import { buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
 import { SCAN_POINTS, candidatesOf } from '../../core/index-match.js';
-import { LiveMatcher } from '../../core/live-match.js';
+import { LiveMatcher, WARM_UP_PASSAGES, WARM_UP_POINTS, warmUpPassages } from '../../core/live-match.js';
 import { exactMatcher, matchCorpusOf } from '../helpers/matchers.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';
 import { pieceOf } from '../helpers/corpus.js';
@@ -165,6 +165,47 @@ describe('tempo-free, note by note, on chorales played at another tempo (test/fi
       if (m && m.piece === 14) compared++;
     });
     expect(compared).toBeGreaterThan(20);
+  });
+});
+
+describe('warmUpPassages', () => {
+  // Synthetic corpus (test/bench/synthetic.ts): dozens of pieces, so the passages spread over them.
+  const flatOf = (points: Point[][]) => flattenPoints({ mode: 'chromatic', points, pieces: [] });
+  const flat = flatOf(synthCorpus({ notes: 12_000, seed: 5 }));
+  const pieces = flat.offsets.length - 1;
+  const passages = warmUpPassages(flat);
+  const written = (piece: number): Point[] => {
+    const from = flat.offsets[piece];
+    const out: Point[] = [];
+    for (let i = from; i < Math.min(flat.offsets[piece + 1], from + WARM_UP_POINTS); i++) out.push({ at: flat.at[i] - flat.at[from], pitch: flat.pitch[i] });
+    return out;
+  };
+  const pieceOfPassage = (w: number) => Math.floor((w * pieces) / WARM_UP_PASSAGES);
+
+  it('spreads its passages over the pieces, each from time 0, in time order, no point twice', () => {
+    expect(passages).toHaveLength(WARM_UP_PASSAGES);
+    expect(new Set(passages.map((_, w) => pieceOfPassage(w))).size).toBe(WARM_UP_PASSAGES);
+    for (const p of passages) {
+      expect(p[0].at).toBe(0);
+      for (let i = 1; i < p.length; i++) expect(comparePoints(p[i - 1], p[i])).toBeLessThan(0);
+    }
+  });
+
+  it('plays the corpus four ways: as written, pitches reversed, a fourth up and loose by 1/48 beat, every third note left out', () => {
+    const tidy = (ps: Point[]) => [...ps].sort(comparePoints).filter((p, i, all) => i === 0 || comparePoints(all[i - 1], p) !== 0);
+    const [asWritten, reversed, loose, thinned] = [0, 1, 2, 3].map((w) => written(pieceOfPassage(w)));
+    expect(passages[0]).toEqual(tidy(asWritten));
+    expect(passages[1]).toEqual(tidy(reversed.map((p, i) => ({ at: p.at, pitch: reversed[reversed.length - 1 - i].pitch }))));
+    const off = GRAINS_PER_BEAT / 48;
+    expect(passages[2]).toEqual(tidy(loose.map((p, i) => ({ at: Math.max(0, p.at + (i % 2 ? off : -off)), pitch: p.pitch + 5 }))));
+    expect(passages[3]).toEqual(tidy(thinned.filter((_, i) => i % 3 !== 2)));
+    // The four ways again, on other pieces.
+    expect(passages[4]).toEqual(tidy(written(pieceOfPassage(4))));
+  });
+
+  it('a corpus of fewer pieces gets one passage each; an empty one none', () => {
+    expect(warmUpPassages(flatOf([[{ at: 480, pitch: 60 }, { at: 960, pitch: 62 }]]))).toEqual([[{ at: 0, pitch: 60 }, { at: 480, pitch: 62 }]]);
+    expect(warmUpPassages(flatOf([]))).toEqual([]);
   });
 });
 

@@ -55,6 +55,16 @@ describe('the live scorer with a tolerance', () => {
     expect(loose.match!.distinctiveness).toBeLessThanOrEqual(1);
     expect(verdictOf(0).score).toBeLessThan(loose.score);
   });
+
+  test('its warm-up leaves nothing behind: a take scores the same played first as after a reset, with no notes dropped or restarts counted', () => {
+    const scorer = liveScorer(corpus, { windowBeats: 8, grid: 12, tolerance: 0.1, early: { lengths: [3, 4, 6], thresholds: [1, 0.95, 0.9], minNotes: 6, minDistinctiveness: 0.5 } });
+    const run = () => take.map((n, i) => { scorer.add({ ...n, seq: i + 1 }); return scorer.evaluate(); });
+    const first = run();
+    expect(first[0]).toMatchObject({ seq: 1, windowNotes: 1, dropped: 0, restarts: 0 });
+    expect(first.some((v) => v.stretch !== null)).toBe(true);
+    scorer.reset();
+    expect(run()).toEqual(first);
+  });
 });
 
 describe('preset keys', () => {
