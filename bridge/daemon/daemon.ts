@@ -290,6 +290,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     dropped: scorer.counters.dropped,
     windowRestarts: scorer.counters.restarts,
     lastEvaluationMs: scorer.counters.lastEvaluationMs,
+    warmUp: scorer.counters.warmUp,
     warnings: state.warnings,
     standing: state.standing?.piece ?? null,
     badInput: { ...bad.counts },

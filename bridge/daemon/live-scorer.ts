@@ -21,12 +21,11 @@
  *   scorer.evaluate()   // → { seq: 1, windowNotes: 1, windowStart: 0, windowEnd: 16, match: {...} | null, excerpt: [...], ... }
  */
 import { type Note, type Point, GRAINS_PER_BEAT, toGrains, toPoints } from '../../core/note.js';
-import { performance } from 'node:perf_hooks';
 import { type Corpus, corpusPoints, pieceName } from '../../core/corpus.js';
 import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
 import { buildFingerprints } from '../../core/fingerprint.js';
 import type { MatchCorpus } from '../../core/pipeline.js';
-import { LIVE_TABLE_BITS, LiveMatcher, warmUpPassages } from '../../core/live-match.js';
+import { LIVE_TABLE_BITS, LiveMatcher } from '../../core/live-match.js';
 import { LiveWindow } from '../../core/live-window.js';
 import { excerptMarks, snapOnsets } from '../../core/review.js';
 import { type StretchMatch, type StretchRule, hotStretch, nearestStretch, thresholdOf } from '../../core/stretch.js';
@@ -133,7 +132,7 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
       hot: hot !== null, match: { ...matchOf(s.match), ...(hot ? { distinctiveness: hot.distinctiveness } : {}) },
     };
   };
-  const scorer: LiveScorer = {
+  return {
     add(n) {
       lastSeq = n.seq;
       const note = snapOnsets([{ seq: n.seq, onset: n.onset, duration: n.duration, pitch: n.pitch, morph: n.pitch, velocity: n.velocity, channel: n.channel }], options.grid)[0];
@@ -169,28 +168,35 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
       return { ...base, score: m.score, match, timeShift: windowStart - m.pieceStart, excerpt };
     },
   };
-  warmUp(scorer, warmUpPassages(matching.flat));
-  return scorer;
 }
 
-/** Longest the warm-up may take: on a very large corpus it plays what fits and stops. */
-export const WARM_UP_LIMIT_MS = 3000;
-
 /**
- * Plays the warm-up passages (core/live-match.ts) through the whole verdict
- * — votes, stretches, distinctiveness, the excerpt — then empties the window:
- * the first notes a performer plays are then scored by compiled code with
- * tables at their working size, as later ones are.
+ * The warm-up, a note at a time: plays the warm-up passages
+ * (core/live-match.ts `warmUpPassages`) through the whole verdict — votes,
+ * stretches, distinctiveness, the excerpt — yielding the notes played so
+ * far after each, and empties the window when it ends or is stopped early
+ * (`return()`). The first notes a performer plays are then scored by
+ * compiled code with tables at their working size, as later ones are. The
+ * scoring worker steps through it while it waits for the first note, and
+ * stops at that note.
+ *
+ * @example
+ *   const steps = warmingUp(scorer, warmUpPassages(matching.flat));
+ *   steps.next()     // → { value: 1, done: false }
+ *   steps.return()   // stopped: the window is empty again
  */
-function warmUp(scorer: LiveScorer, passages: Point[][]): void {
-  const until = performance.now() + WARM_UP_LIMIT_MS;
-  for (const passage of passages) {
-    scorer.reset();
-    for (const [i, p] of passage.entries()) {
-      scorer.add({ seq: i + 1, onset: p.at / GRAINS_PER_BEAT, duration: 0.5, pitch: p.pitch, velocity: 90, channel: 1 });
-      scorer.evaluate();
-      if (performance.now() > until) return scorer.reset();
+export function* warmingUp(scorer: LiveScorer, passages: Point[][]): Generator<number, void> {
+  let played = 0;
+  try {
+    for (const passage of passages) {
+      scorer.reset();
+      for (const [i, p] of passage.entries()) {
+        scorer.add({ seq: i + 1, onset: p.at / GRAINS_PER_BEAT, duration: 0.5, pitch: p.pitch, velocity: 90, channel: 1 });
+        scorer.evaluate();
+        yield ++played;
+      }
     }
+  } finally {
+    scorer.reset();
   }
-  scorer.reset();
 }

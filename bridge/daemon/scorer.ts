@@ -45,7 +45,15 @@ export type FromWorker =
   | { type: 'failed'; message: string }
   /** Something the user should hear about while the corpus opens: a file skipped, an index not used. */
   | { type: 'notice'; line: string }
+  | { type: 'warmed' } & WarmUp
   | { type: 'verdict'; verdict: LiveVerdict; elapsedMs: number };
+
+/** The worker's warm-up (live-scorer.ts `warmingUp`): notes played, how long it took, and whether it ran to the end or the first note stopped it. */
+export interface WarmUp {
+  notes: number;
+  ms: number;
+  complete: boolean;
+}
 
 export interface ScorerCounters {
   evaluations: number;
@@ -56,6 +64,8 @@ export interface ScorerCounters {
   restarts: number;
   /** Worker time of the last evaluation, ms. */
   lastEvaluationMs: number | null;
+  /** Null while the worker warms up. */
+  warmUp: WarmUp | null;
   busy: boolean;
 }
 
@@ -75,7 +85,7 @@ export async function startScorer(
   onVerdict: (v: LiveVerdict, current: boolean) => void,
   options: { workerUrl?: URL; onCrash?: (message: string) => void; onNotice?: (line: string) => void } = {},
 ): Promise<{ scorer: Scorer; corpus: CorpusSummary }> {
-  const counters: ScorerCounters = { evaluations: 0, coalesced: 0, dropped: 0, restarts: 0, lastEvaluationMs: null, busy: false };
+  const counters: ScorerCounters = { evaluations: 0, coalesced: 0, dropped: 0, restarts: 0, lastEvaluationMs: null, warmUp: null, busy: false };
   let waiting: LiveNote[] = [];
   let waitingReset = false;
   let closing = false;
@@ -103,6 +113,7 @@ export async function startScorer(
   const launch = (): Promise<CorpusSummary> =>
     new Promise((resolve, reject) => {
       let ready = false;
+      counters.warmUp = null;
       // The worker collects its garbage between notes (idle-collect.ts).
       exposeCollector();
       worker = new Worker(options.workerUrl ?? WORKER_URL, { workerData: setup });
@@ -112,6 +123,7 @@ export async function startScorer(
           resolve(m.corpus);
         } else if (m.type === 'failed') reject(new UsageError(m.message));
         else if (m.type === 'notice') options.onNotice?.(m.line);
+        else if (m.type === 'warmed') counters.warmUp = { notes: m.notes, ms: m.ms, complete: m.complete };
         else {
           counters.busy = false;
           counters.evaluations++;

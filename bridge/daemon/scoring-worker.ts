@@ -5,7 +5,9 @@
  *
  * Messages in: { type: 'evaluate', reset, notes } | { type: 'reset' }.
  * Messages out: { type: 'ready', corpus } once loaded, or { type: 'failed', message };
- * then { type: 'verdict', verdict, elapsedMs } for each evaluate.
+ * then { type: 'warmed', notes, ms, complete } once the warm-up (live-scorer.ts
+ * `warmingUp`, run while no note has come) ends or the first note stops it,
+ * and { type: 'verdict', verdict, elapsedMs } for each evaluate.
  *
  * @example
  *   new Worker(new URL('./scoring-worker.js', import.meta.url), { workerData: { corpus: 'presets/demo/corpus', windowBeats: 16, grid: 12 } });
@@ -14,7 +16,8 @@ import { parentPort, workerData } from 'node:worker_threads';
 import { performance } from 'node:perf_hooks';
 import { openCorpus } from '../corpus/open-corpus.js';
 import { idleCollector } from './idle-collect.js';
-import { type LiveScorer, liveScorer } from './live-scorer.js';
+import { type LiveScorer, liveScorer, warmingUp } from './live-scorer.js';
+import { warmUpPassages } from '../../core/live-match.js';
 import { type FromWorker, type ToWorker, type WorkerSetup, corpusSummary } from './scorer.js';
 
 const setup = workerData as WorkerSetup;
@@ -22,6 +25,7 @@ const port = parentPort!;
 const post = (m: FromWorker): void => port.postMessage(m);
 
 let scorer: LiveScorer;
+let warming: Generator<number, void> | null = null;
 /** The verdict has gone: the scoring's garbage goes now, not during the next note's (idle-collect.ts). */
 const collect = idleCollector();
 try {
@@ -32,13 +36,37 @@ try {
   if (setup.tempoFree) matching.fingerprints?.();
   scorer = liveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance, tempoFree: setup.tempoFree, early: setup.early }, matching);
   collect({ full: true });
+  warming = warmingUp(scorer, warmUpPassages(matching.flat));
   post({ type: 'ready', corpus: corpusSummary(opened) });
 } catch (e) {
   post({ type: 'failed', message: (e as Error).message });
   process.exit(0);
 }
 
+// The warm-up, a note per turn of the event loop while no note has come: a note that comes waits for one warm-up note at most, and ends it.
+const warmUpStarted = performance.now();
+let warmedNotes = 0;
+const stopWarming = (complete: boolean): void => {
+  warming?.return();
+  warming = null;
+  post({ type: 'warmed', notes: warmedNotes, ms: performance.now() - warmUpStarted, complete });
+};
+const warmStep = (): void => {
+  if (!warming) return;
+  const step = warming.next();
+  if (step.done) {
+    stopWarming(true);
+    collect({ full: true });
+  } else {
+    warmedNotes = step.value;
+    collect();
+    setImmediate(warmStep);
+  }
+};
+setImmediate(warmStep);
+
 port.on('message', (m: ToWorker) => {
+  if (warming) stopWarming(false);
   if (m.reset) scorer.reset();
   if (m.type === 'reset') return;
   const started = performance.now();

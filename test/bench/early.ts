@@ -48,7 +48,7 @@ import type { ScoreEvent, WarningEvent } from '../../contract/events.js';
 import { type Grid, decodeChorale } from '../helpers/jsb.js';
 import { pieceOf } from '../helpers/corpus.js';
 import { played } from '../helpers/material.js';
-import { ROOT, listen, spawnDaemon, tempDir } from '../helpers/daemon.js';
+import { ROOT, listen, spawnDaemon, tempDir, warmedUp } from '../helpers/daemon.js';
 import { synthCorpus, unrelated } from './synthetic.js';
 import { recordResults } from './results.js';
 
@@ -155,6 +155,7 @@ interface Row {
 
 async function run(dir: string, preset: string, extra: string[], s: Stream): Promise<Omit<Row, 'preset' | 'corpus' | 'playing' | 'rule'>> {
   const d = await spawnDaemon(['--corpus', dir, '--preset', preset, '--input', 'osc', ...extra], { startMs: 10 * 60_000 });
+  await warmedUp(d.http);
   const events = await listen(d.http);
   const socket = createSocket('udp4');
   const latencies: number[] = [];

@@ -32,7 +32,7 @@ import { synthCorpus } from './synthetic.js';
 import { idleCollector } from '../../bridge/daemon/idle-collect.js';
 import { echoFloor } from './echo-floor.js';
 import { recordResults } from './results.js';
-import { CLI, health, listen, spawnDaemon, tempDir } from '../helpers/daemon.js';
+import { CLI, health, listen, spawnDaemon, tempDir, warmedUp } from '../helpers/daemon.js';
 
 /** The benchmark's own flags: those before a `--`. */
 const own = process.argv.includes('--') ? process.argv.slice(0, process.argv.indexOf('--')) : process.argv;
@@ -67,6 +67,9 @@ async function main(): Promise<void> {
   const extra = process.argv.includes('--') ? process.argv.slice(process.argv.indexOf('--') + 1) : [];
   const d = await spawnDaemon(['--corpus', dir, '--preset', 'jam', '--input', 'osc', '--window', String(window), ...extra], { startMs: 30 * 60_000 });
   process.stdout.write(`daemon up in ${((performance.now() - t1) / 1000).toFixed(1)} s (the index loaded in the worker)\n`);
+  // As a performer would find it a few seconds later: the worker has warmed up while nothing was played.
+  const warm = await warmedUp(d.http);
+  process.stdout.write(`worker warmed up in ${(warm.ms / 1000).toFixed(1)} s (${warm.notes} notes)\n`);
   const events = await listen(d.http);
   const socket = createSocket('udp4');
   // A passage of the first piece, played back: windows that match, as a quoting performer's would.

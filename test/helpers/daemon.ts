@@ -124,6 +124,17 @@ export async function health(http: number): Promise<Record<string, any>> {
   return (await r.json()) as Record<string, any>;
 }
 
+/** Resolves with /health's `warmUp` once the scoring worker's warm-up has ended (bridge/daemon/scoring-worker.ts). */
+export async function warmedUp(http: number, timeoutMs = 10 * 60_000): Promise<{ notes: number; ms: number; complete: boolean }> {
+  const until = Date.now() + timeoutMs;
+  for (;;) {
+    const { warmUp } = await health(http);
+    if (warmUp) return warmUp;
+    if (Date.now() > until) throw new Error(`the scoring worker did not finish warming up within ${timeoutMs / 1000} s`);
+    await new Promise((resolve) => setTimeout(resolve, 50));
+  }
+}
+
 export interface EventLog {
   events: DaemonEvent[];
   /** The first event (already received or still to come) that passes `test`. */

@@ -14,7 +14,8 @@ import { join } from 'node:path';
 import osc from 'osc';
 import { afterAll, describe, expect, test } from 'vitest';
 import { initialPolicy, stepPolicy } from '../../../core/warning-policy.js';
-import { liveScorer } from '../../../bridge/daemon/live-scorer.js';
+import { liveCorpus, liveScorer, warmingUp } from '../../../bridge/daemon/live-scorer.js';
+import { warmUpPassages } from '../../../core/live-match.js';
 import { LIVE_TOLERANCE, loadPreset, parsePreset, resolveThreshold, withOverrides } from '../../../bridge/formats/presets.js';
 import { INDEX_NAME, IndexFileError, readIndexBaselines } from '../../../bridge/formats/index-file.js';
 import type { HelloEvent, ScoreEvent, WarningEvent } from '../../../contract/events.js';
@@ -56,14 +57,21 @@ describe('the live scorer with a tolerance', () => {
     expect(verdictOf(0).score).toBeLessThan(loose.score);
   });
 
-  test('its warm-up leaves nothing behind: a take scores the same played first as after a reset, with no notes dropped or restarts counted', () => {
-    const scorer = liveScorer(corpus, { windowBeats: 8, grid: 12, tolerance: 0.1, early: { lengths: [3, 4, 6], thresholds: [1, 0.95, 0.9], minNotes: 6, minDistinctiveness: 0.5 } });
-    const run = () => take.map((n, i) => { scorer.add({ ...n, seq: i + 1 }); return scorer.evaluate(); });
-    const first = run();
-    expect(first[0]).toMatchObject({ seq: 1, windowNotes: 1, dropped: 0, restarts: 0 });
-    expect(first.some((v) => v.stretch !== null)).toBe(true);
-    scorer.reset();
-    expect(run()).toEqual(first);
+  test('its warm-up leaves nothing behind, run to the end or stopped early: a warmed scorer answers every note as a fresh one does', () => {
+    const options = { windowBeats: 8, grid: 12, tolerance: 0.1, early: { lengths: [3, 4, 6], thresholds: [1, 0.95, 0.9], minNotes: 6, minDistinctiveness: 0.5 } };
+    const run = (scorer: ReturnType<typeof liveScorer>) => take.map((n, i) => { scorer.add({ ...n, seq: i + 1 }); return scorer.evaluate(); });
+    const fresh = run(liveScorer(corpus, options));
+    expect(fresh.some((v) => v.stretch !== null)).toBe(true);
+    const warmed = liveScorer(corpus, options);
+    let played = 0;
+    for (played of warmingUp(warmed, warmUpPassages(liveCorpus(corpus).flat)));
+    expect(played).toBeGreaterThan(100);
+    expect(run(warmed)).toEqual(fresh);
+    const stopped = liveScorer(corpus, options);
+    const steps = warmingUp(stopped, warmUpPassages(liveCorpus(corpus).flat));
+    for (let k = 0; k < 30; k++) steps.next();
+    steps.return();
+    expect(run(stopped)).toEqual(fresh);
   });
 });
 

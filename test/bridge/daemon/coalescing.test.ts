@@ -25,6 +25,13 @@ describe('coalescing', () => {
     await daemon?.stop();
   });
 
+  it('warms up while nothing is played, then says in /health how many notes it played and that it ran to the end', async () => {
+    while (daemon.health().warmUp === null) await new Promise((resolve) => setTimeout(resolve, 20));
+    expect(daemon.health().warmUp).toMatchObject({ complete: true, notes: expect.any(Number) as number });
+    expect((daemon.health().warmUp as { notes: number }).notes).toBeGreaterThan(50);
+    expect(daemon.health().evaluations).toBe(0);
+  });
+
   it('folds a burst into few evaluations, one score each, ending at the last note', async () => {
     const burst = melody(5, 200);
     const now = Date.now();
