@@ -32,6 +32,7 @@ import { type OscInput, openOscInput } from './osc-input.js';
 import { type OscOutput, type OscTarget, openOscOutput } from './osc-output.js';
 import { packageRoot, packageVersion } from '../formats/package-root.js';
 import { type CorpusSummary, type Scorer, startScorer } from './scorer.js';
+import { startCheckpoints } from './log-checkpoints.js';
 import { watchIndexFile } from './index-watch.js';
 import { reportService } from './reports.js';
 import { DEFAULT_REPORT_LIMIT, reportRoute } from './report-route.js';
@@ -56,7 +57,7 @@ export interface DaemonOptions {
   log: string;
   /** An in-process port in place of easymidi's (tests). */
   midiSource?: MidiSource;
-  /** The scoring worker's code; defaults to the built one beside scorer.js. */
+  /** The scoring worker's code; defaults to the built one beside scorer.js. The log's checkpoint thread (checkpoint-thread.js) is taken from the same folder. */
   workerUrl?: URL;
   /** The overlay's files; defaults to ui/dist in the package. */
   uiDir?: string;
@@ -115,11 +116,17 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
 
   let log: SessionLog;
   try {
-    log = SessionLog.open(options.log);
+    log = SessionLog.open(options.log, { checkpointsElsewhere: true });
   } catch (e) {
     throw e instanceof SessionLogError ? new UsageError(`--log ${e.message}`) : e;
   }
   cleanup.push(() => log.close());
+  // Copying the log's write-ahead file back into it waits for the disk: never on this thread, which sends the scores.
+  const checkpoints = startCheckpoints(options.log, {
+    threadUrl: options.workerUrl && new URL('./checkpoint-thread.js', options.workerUrl),
+    onFailure: (message) => notice(`earwitness: cannot tidy the session log ${options.log} (${message}); notes are still written to it`),
+  });
+  cleanup.push(() => checkpoints.close());
 
   const listeners: ((e: DaemonEvent) => void)[] = [];
   const history: (ScoreEvent | WarningEvent | ClearEvent)[] = [];

@@ -185,8 +185,13 @@ export class SessionLog {
     return (this.db.prepare("SELECT count(*) AS n FROM sqlite_master WHERE type = 'table' AND name = ?").get(SCORES_TABLE) as { n: number }).n > 0;
   }
 
-  /** Opens (creating when absent) a log. `readonly` never creates or changes anything. */
-  static open(file: string, options: { readonly?: boolean } = {}): SessionLog {
+  /**
+   * Opens (creating when absent) a log. `readonly` never creates or changes
+   * anything. `checkpointsElsewhere`: this connection's commits never copy the
+   * write-ahead log back into the file (a checkpoint, which waits for the
+   * disk); the caller runs them another way (bridge/daemon/log-checkpoints.ts).
+   */
+  static open(file: string, options: { readonly?: boolean; checkpointsElsewhere?: boolean } = {}): SessionLog {
     if (!options.readonly) mkdirSync(dirname(file), { recursive: true });
     let db: Database.Database;
     try {
@@ -215,6 +220,7 @@ export class SessionLog {
         db.pragma('journal_mode = WAL');
         // NORMAL in WAL mode: a committed note survives the process being killed; only power loss can take the last commits.
         db.pragma('synchronous = NORMAL');
+        if (options.checkpointsElsewhere) db.pragma('wal_autocheckpoint = 0');
       }
       db.pragma('foreign_keys = ON');
     } catch (e) {
@@ -318,4 +324,22 @@ function safeJson(s: string): Record<string, unknown> {
   } catch {
     return {};
   }
+}
+
+/**
+ * A connection to a log that only copies its write-ahead file back into it
+ * (a passive checkpoint: it never waits for a writer, and no writer waits
+ * for it), for the connection opened with `checkpointsElsewhere`.
+ *
+ * @example
+ *   const c = checkpointConnection(file);
+ *   c.checkpoint();
+ *   c.close();
+ */
+export function checkpointConnection(file: string): { checkpoint(): void; close(): void } {
+  const db = new Database(file, { fileMustExist: true });
+  return {
+    checkpoint: () => void db.pragma('wal_checkpoint(PASSIVE)'),
+    close: () => db.close(),
+  };
 }
