@@ -21,7 +21,7 @@ import { type Point, GRAINS_PER_BEAT, toGrains } from './note.js';
 import { keyTranslation, translationKey } from './cardinality.js';
 import { type WindowMatch, better, betterMatch } from './match.js';
 import { type FlatPoints, lowerBoundAt } from './triple-index.js';
-import { type PitchLines, bestInPiece, checkTolerance } from './tolerance.js';
+import { type LineLookup, type PitchLines, bestInPiece, checkTolerance, pitchLines } from './tolerance.js';
 
 /** The points a verifier scores: a window, or a window rescaled to the corpus's tempo. */
 export interface Span {
@@ -143,11 +143,17 @@ export function reachable(flat: FlatPoints, span: Span, c: Candidate, reach: num
   return n;
 }
 
+/** The indices [lo, hi) of one piece's points with ontime in [from, to) grains. */
+function excerptRange(flat: FlatPoints, piece: number, from: number, to: number): [number, number] {
+  const { at, offsets } = flat;
+  const lo = lowerBoundAt(at, from, offsets[piece], offsets[piece + 1]);
+  return [lo, lowerBoundAt(at, to, lo, offsets[piece + 1])];
+}
+
 /** The pitch lines of one piece's points with ontime in [from, to) grains, read straight off the flat arrays. */
 export function excerptLines(flat: FlatPoints, piece: number, from: number, to: number): PitchLines {
-  const { at, pitch, offsets } = flat;
-  const lo = lowerBoundAt(at, from, offsets[piece], offsets[piece + 1]);
-  const hi = lowerBoundAt(at, to, lo, offsets[piece + 1]);
+  const { at, pitch } = flat;
+  const [lo, hi] = excerptRange(flat, piece, from, to);
   const lines: PitchLines = new Map();
   for (let i = lo; i < hi; i++) {
     const line = lines.get(pitch[i]);
@@ -156,6 +162,53 @@ export function excerptLines(flat: FlatPoints, piece: number, from: number, to: 
   }
   return lines;
 }
+
+/**
+ * The pitch lines of one excerpt after another, refilled in place: a
+ * tolerant verifier reads a fresh excerpt for every candidate, hundreds a
+ * live note, and lets go of it before it returns, so the lines' arrays are
+ * kept rather than left as garbage for the next note to wait on.
+ *
+ * @example
+ *   const scratch = new ExcerptLineScratch();
+ *   scratch.refill(flat, 3, 0, toGrains(16)).get(62)   // → [0, 1920, 7680]: the ontimes of pitch 62, as excerptLines gives them
+ */
+export class ExcerptLineScratch implements LineLookup {
+  private readonly byPitch = new Map<number, { filled: number; line: number[]; n: number }>();
+  /** The lines of the excerpt being filled, `touched[0 … touchedCount)`. */
+  private readonly touched: { line: number[]; n: number }[] = [];
+  private filled = 0;
+
+  /** Holds the lines `excerptLines(flat, piece, from, to)` would make, and no longer the last excerpt's. */
+  refill(flat: FlatPoints, piece: number, from: number, to: number): LineLookup {
+    const { at, pitch } = flat;
+    const [lo, hi] = excerptRange(flat, piece, from, to);
+    const filled = ++this.filled;
+    let touchedCount = 0;
+    for (let i = lo; i < hi; i++) {
+      let e = this.byPitch.get(pitch[i]);
+      if (!e) this.byPitch.set(pitch[i], (e = { filled: 0, line: [], n: 0 }));
+      if (e.filled !== filled) {
+        e.filled = filled;
+        e.n = 0;
+        this.touched[touchedCount++] = e;
+      }
+      // Written over in place: emptying an array first would let its storage go, to be made again.
+      e.line[e.n++] = at[i];
+    }
+    for (let k = 0; k < touchedCount; k++) this.touched[k].line.length = this.touched[k].n;
+    return this;
+  }
+
+  get(pitch: number): number[] | undefined {
+    const e = this.byPitch.get(pitch);
+    return e && e.filled === this.filled ? e.line : undefined;
+  }
+}
+
+/** A span's own pitch lines, made once however many candidates are verified on it (a span's points are read-only). */
+const spanLines = new WeakMap<Span, PitchLines>();
+const linesOf = (span: Span): PitchLines => spanLines.get(span) ?? spanLines.set(span, pitchLines(span.points)).get(span)!;
 
 /** The verifier for a corpus's flat points, exact (`toleranceBeats` 0) or within a tolerance. */
 export function verifier(flat: FlatPoints, toleranceBeats: number): Verifier {
@@ -172,18 +225,20 @@ export function verifier(flat: FlatPoints, toleranceBeats: number): Verifier {
   // Whole pieces' points and lines for the reference search, made the first time it looks in a piece.
   const pieces = new Map<number, PitchLines>();
   const whole = (piece: number): PitchLines => pieces.get(piece) ?? pieces.set(piece, excerptLines(flat, piece, -Infinity, Infinity)).get(piece)!;
+  // The excerpt `near` searches, read afresh for each candidate into the same arrays.
+  const scratch = new ExcerptLineScratch();
   return {
     toleranceBeats,
     near(span, c, incumbent = null) {
       // A refined shift lies up to two tolerances past the searched ones, and matches a tolerance further.
       const margin = c.within + 3 * tolGrains;
       const from = span.startGrains - c.shift;
-      const lines = excerptLines(flat, c.piece, from - margin, from + span.spanGrains + margin);
+      const lines = scratch.refill(flat, c.piece, from - margin, from + span.spanGrains + margin);
       const near = { translation: { at: c.shift, pitch: c.dp }, within: c.within };
-      return bestInPiece({ flat, piece: c.piece, lines, window: span.points, startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains, near }, incumbent);
+      return bestInPiece({ flat, piece: c.piece, lines, window: span.points, windowLines: linesOf(span), startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains, near }, incumbent);
     },
     // The search's refined shifts lie within two tolerances of those it starts from, and match a tolerance further.
     bound: (span, c) => reachable(flat, span, c, c.within + 3 * tolGrains),
-    every: (span, piece, best) => bestInPiece({ flat, piece, lines: whole(piece), window: span.points, startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains }, best),
+    every: (span, piece, best) => bestInPiece({ flat, piece, lines: whole(piece), window: span.points, windowLines: linesOf(span), startGrains: span.startGrains, spanGrains: span.spanGrains, tolGrains }, best),
   };
 }

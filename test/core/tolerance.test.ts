@@ -8,7 +8,7 @@ import fc from 'fast-check';
 import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains, toPoints } from '../../core/note.js';
 import { corpusPoints } from '../../core/corpus.js';
 import { pitchLines, toleranceMatching } from '../../core/tolerance.js';
-import { verifier } from '../../core/verify.js';
+import { ExcerptLineScratch, excerptLines, verifier } from '../../core/verify.js';
 import { flattenPoints } from '../../core/triple-index.js';
 import { originalityReport } from '../../core/report.js';
 import { exactMatcher, indexedMatcher } from '../helpers/matchers.js';
@@ -61,6 +61,25 @@ describe('one-to-one matching within ± tolerance', () => {
     const corpus = [{ at: 0, pitch: 60 }, { at: toGrains(0.05), pitch: 60 }];
     const window = [{ at: toGrains(0.025), pitch: 60 }];
     expect(toleranceMatching(pitchLines(corpus), window, { at: 0, pitch: 0 }, toGrains(0.1))).toHaveLength(1);
+  });
+});
+
+describe('pitch lines of corpus excerpts', () => {
+  test('lines refilled in place read as the excerpt\'s own lines, one excerpt after another', () => {
+    fc.assert(
+      fc.property(fc.array(pointSet(40), { minLength: 1, maxLength: 3 }), fc.array(fc.record({ piece: fc.nat(), from: fc.integer({ min: -5, max: 45 }), length: fc.integer({ min: 0, max: 30 }) }), { minLength: 1, maxLength: 8 }), (pieces, excerpts) => {
+        const flat = flattenPoints({ mode: 'chromatic', points: pieces, pieces: [] });
+        const scratch = new ExcerptLineScratch();
+        for (const e of excerpts) {
+          const piece = e.piece % pieces.length;
+          const own = excerptLines(flat, piece, e.from, e.from + e.length);
+          const refilled = scratch.refill(flat, piece, e.from, e.from + e.length);
+          // Every pitch the corpus can hold, and one it never does: absent from the excerpt reads as no line at all.
+          for (let pitch = 59; pitch <= 64; pitch++) expect(refilled.get(pitch)).toEqual(own.get(pitch));
+        }
+      }),
+      { numRuns: 300 },
+    );
   });
 });
 
