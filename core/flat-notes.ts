@@ -14,7 +14,7 @@
  */
 import { type Note, type PitchMode, GRAINS_PER_BEAT, toGrains } from './note.js';
 import type { Piece } from './corpus.js';
-import { type FlatPoints, MAX_GRAIN, MAX_PITCH } from './triple-index.js';
+import { type FlatPoints, MAX_GRAIN, MAX_PITCH, lowerBoundAt } from './triple-index.js';
 
 export interface FlatNotes {
   /** Piece p's notes are indices offsets[p] … offsets[p + 1] − 1, sorted by (ontime, MIDI pitch). */
@@ -122,10 +122,26 @@ export function notePoints(notes: FlatNotes, mode: PitchMode): FlatPoints {
   return { mode, offsets, at: at.slice(0, n), pitch: pitch.slice(0, n) };
 }
 
-/** One piece's notes as Note objects, for code that works on notes (excerpts, `--exact`). */
-export function pieceNotes(notes: FlatNotes, piece: number): Note[] {
+/** A stretch of a piece's time: ontimes in [fromGrains, toGrains). */
+export interface GrainSpan {
+  fromGrains: number;
+  toGrains: number;
+}
+
+/**
+ * One piece's notes as Note objects, for code that works on notes (excerpts,
+ * `--exact`); with a span, only those whose ontime lies in it, read without
+ * making the rest.
+ *
+ * @example
+ *   pieceNotes(flat, 0, { fromGrains: 0, toGrains: toGrains(4) })   // → the first piece's notes of its first four beats
+ */
+export function pieceNotes(notes: FlatNotes, piece: number, span?: GrainSpan): Note[] {
+  const [first, end] = [notes.offsets[piece], notes.offsets[piece + 1]];
+  const from = span ? lowerBoundAt(notes.at, span.fromGrains, first, end) : first;
+  const to = span ? lowerBoundAt(notes.at, span.toGrains, from, end) : end;
   const out: Note[] = [];
-  for (let i = notes.offsets[piece]; i < notes.offsets[piece + 1]; i++) {
+  for (let i = from; i < to; i++) {
     out.push({
       onset: notes.at[i] / GRAINS_PER_BEAT,
       duration: notes.duration[i] / GRAINS_PER_BEAT,

@@ -13,6 +13,7 @@
 import { type Note, type PitchMode, type Point, comparePoints, toGrains } from './note.js';
 import { type PitchLines, firstAtLeast, pitchLines } from './tolerance.js';
 import type { CorpusPoints, Piece } from './corpus.js';
+import type { GrainSpan } from './flat-notes.js';
 import { type Meter, type TimeSignature, normalMeter } from './bars.js';
 import { type MatchSummary, type QueryReport, type WindowResult, judgedScores, originalityCi, originalityOf } from './report.js';
 
@@ -90,8 +91,27 @@ function inSpan<N extends Note>(notes: readonly N[], from: number, to: number): 
   });
 }
 
-/** `inSpan` of a piece's notes, which are sorted by onset: a live verdict asks this of a whole piece after every note. */
-const pieceSpan = (notes: readonly Note[], from: number, to: number): Note[] => notes.slice(firstFrom(notes, from), firstFrom(notes, to));
+/**
+ * The notes of a piece (sorted by onset) whose ontime lies in a span, found
+ * by search rather than by reading them all.
+ *
+ * @example
+ *   notesWithin(piece.notes, { fromGrains: toGrains(8), toGrains: toGrains(24) })   // → the notes of beats 8 to 24 (counted from 0)
+ */
+export const notesWithin = (notes: readonly Note[], span: GrainSpan): Note[] => notes.slice(firstFrom(notes, span.fromGrains), firstFrom(notes, span.toGrains));
+
+/**
+ * The span of the matched piece a window's excerpt shows: from the match's
+ * start, as long as the window over the match's time scale.
+ *
+ * @example
+ *   excerptSpan({ start: 0, end: 16, match: { pieceStart: 8, timeScale: 2, ... }, ... })
+ *   // → { fromGrains: toGrains(8), toGrains: toGrains(16) }
+ */
+export function excerptSpan(window: Pick<MatchedWindow, 'start' | 'end' | 'match'>): GrainSpan {
+  const fromGrains = toGrains(window.match.pieceStart);
+  return { fromGrains, toGrains: fromGrains + Math.round((toGrains(window.end) - toGrains(window.start)) / (window.match.timeScale ?? 1)) };
+}
 
 /** The notes of a matched window's two excerpts, and which of each the match lands on the other (`excerptMarks`). */
 export interface ExcerptMarks<N extends Note> {
@@ -107,21 +127,23 @@ export interface ExcerptMarks<N extends Note> {
  * note of the other excerpt of the same pitch in `mode`, within `tolerance`
  * beats; with no tolerance that is exactly the `match.matched` coinciding
  * points. `notes` must be the notes the window was scored from (spelled,
- * for morphetic pitch). The flags come apart from the notes, so a caller
- * after a few fields (the live verdict, once a note) copies no note whole.
+ * for morphetic pitch). `piece` needs only notes sorted by onset that
+ * cover `excerptSpan(window)`: the whole piece's, or just those. The flags
+ * come apart from the notes, so a caller after a few fields (the live
+ * verdict, once a note) copies no note whole.
  *
  * @example
  *   const m = excerptMarks(windowNotes, window, piece, 'chromatic', 0.1);
  *   m.corpus.filter((_, i) => m.corpusMatched[i]).length   // → window.match.matched, or near it within a tolerance
  */
-export function excerptMarks<N extends Note>(notes: readonly N[], window: MatchedWindow, piece: Piece, mode: PitchMode, tolerance = 0): ExcerptMarks<N> {
+export function excerptMarks<N extends Note>(notes: readonly N[], window: MatchedWindow, piece: Pick<Piece, 'notes'>, mode: PitchMode, tolerance = 0): ExcerptMarks<N> {
   const from = toGrains(window.start);
   const width = toGrains(window.end) - from;
   const scale = window.match.timeScale ?? 1;
   const pieceFrom = toGrains(window.match.pieceStart);
   const slack = toGrains(tolerance);
   const query = inSpan(notes, from, from + width);
-  const corpus = pieceSpan(piece.notes, pieceFrom, pieceFrom + Math.round(width / scale));
+  const corpus = notesWithin(piece.notes, excerptSpan(window));
   // Both sides on the query's axes: time in grains from the query's start, pitch as played.
   const queryAt = query.map((q) => ({ at: toGrains(q.onset), pitch: pitchIn(q, mode) }));
   const corpusAt = corpus.map((c) => ({ at: from + (toGrains(c.onset) - pieceFrom) * scale, pitch: pitchIn(c, mode) + window.match.transposition }));

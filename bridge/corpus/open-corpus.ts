@@ -22,9 +22,10 @@
 import { readdirSync, statSync } from 'node:fs';
 import { join, relative, sep } from 'node:path';
 import { type Corpus, type CorpusPoints, type Piece, corpusPoints } from '../../core/corpus.js';
-import type { PitchMode, Point } from '../../core/note.js';
+import type { Note, PitchMode, Point } from '../../core/note.js';
 import type { WindowMatcher } from '../../core/match.js';
-import { notePoints, pieceNotes } from '../../core/flat-notes.js';
+import { type GrainSpan, notePoints, pieceNotes } from '../../core/flat-notes.js';
+import { notesWithin } from '../../core/review.js';
 import { type CorpusIndex, type FlatPoints, buildTriples, corpusIndex, flattenPoints, piecePoints } from '../../core/triple-index.js';
 import { type FingerprintTable, type StoredFingerprints, buildFingerprints } from '../../core/fingerprint.js';
 import { type MatchCorpus, type MatchMode, candidatesFor, windowMatcher } from '../../core/pipeline.js';
@@ -42,6 +43,8 @@ export interface OpenedCorpus {
   indexFile: string | null;
   /** The point sets of one pitch dimension. */
   view(mode: PitchMode): CorpusPoints;
+  /** A piece's notes with ontime in a span, without making the rest of the piece's: what a live verdict's excerpt shows, once a note. */
+  notesIn(piece: number, span: GrainSpan): Note[];
   /** What matching reads for a pitch dimension: the points, the triple index and the fingerprint table (the file's, or built in memory for a folder). */
   matchCorpus(mode: PitchMode): MatchCorpus & { index: CorpusIndex };
   /**
@@ -163,6 +166,7 @@ function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
     skipped: contents.files.filter((f) => f.error !== null).map((f) => ({ file: f.path, error: f.error! })),
     indexFile: file,
     view: (mode: PitchMode) => flatView(mode, pieces, pointsOf(mode)),
+    notesIn: (piece: number, span: GrainSpan) => fromFile(() => pieceNotes(contents.notes, piece, span)),
     matchCorpus,
   };
   return { ...opened, matcher: (request) => matcherOf(opened, request) };
@@ -177,7 +181,7 @@ function fromFolder(dir: string, options: OpenOptions): OpenedCorpus {
     let table: FingerprintTable | null = null;
     return { flat, index: corpusIndex(buildTriples(flat)), fingerprints: () => (table ??= buildFingerprints(flat)) };
   });
-  const opened = { source: dir, corpus, skipped, indexFile: null, view: (mode: PitchMode) => corpusPoints(corpus, mode), matchCorpus };
+  const opened = { source: dir, corpus, skipped, indexFile: null, view: (mode: PitchMode) => corpusPoints(corpus, mode), notesIn: (piece: number, span: GrainSpan) => notesWithin(corpus.pieces[piece].notes, span), matchCorpus };
   return { ...opened, matcher: (request) => matcherOf(opened, request) };
 }
 

@@ -13,6 +13,7 @@
 import type { CorpusPoints, Piece } from '../../core/corpus.js';
 import type { PitchMode, Point } from '../../core/note.js';
 import { candidatesFor } from '../../core/pipeline.js';
+import { notesWithin } from '../../core/review.js';
 import { type ShardMatcher, mergedMatcher, shardMatcher } from '../../core/shards.js';
 import { readIndexCrc, readIndexMeta } from '../formats/index-file.js';
 import { type ShardEntry, type ShardManifest, readShardManifest, shardPath } from '../formats/shard-manifest.js';
@@ -81,6 +82,8 @@ export function openShards(manifestFile: string, options: OpenOptions = {}): Ope
     skipped: shards.flatMap((s) => s.skipped),
     indexFile: null,
     view: (mode) => joinedView(mode, pieces, shards),
+    // Live listening, the caller that reads notes a span at a time, takes no manifest: the piece's own notes serve.
+    notesIn: (piece, span) => notesWithin(pieces[piece].notes, span),
     matchCorpus: () => {
       throw new UsageError(`--corpus ${manifestFile}: live listening takes one index or a folder, not a shard manifest`);
     },

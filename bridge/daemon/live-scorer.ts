@@ -27,7 +27,9 @@ import { buildFingerprints } from '../../core/fingerprint.js';
 import type { MatchCorpus } from '../../core/pipeline.js';
 import { LIVE_TABLE_BITS, LiveMatcher } from '../../core/live-match.js';
 import { LiveWindow } from '../../core/live-window.js';
-import { excerptMarks, snapOnsets } from '../../core/review.js';
+import { excerptMarks, excerptSpan, notesWithin, snapOnsets } from '../../core/review.js';
+import type { GrainSpan } from '../../core/flat-notes.js';
+import type { OpenedCorpus } from '../corpus/open-corpus.js';
 import { type StretchMatch, type StretchRule, hotStretch, nearestStretch, thresholdOf } from '../../core/stretch.js';
 import type { StretchSummary } from '../../core/session-state.js';
 import type { WindowMatch } from '../../core/match.js';
@@ -108,10 +110,22 @@ export function liveCorpus(corpus: Corpus): MatchCorpus & { index: CorpusIndex }
 }
 
 /**
- * The live scorer over a corpus and what matching reads of it (built here
- * when not given: `openCorpus(...).matchCorpus('chromatic')` is the daemon's).
+ * What live matching reads of a corpus: its points, triple index and
+ * fingerprint table, and where a verdict's excerpt comes from — a piece's
+ * notes a span at a time (`OpenedCorpus.notesIn`), or when not given the
+ * piece's own notes. Read a span at a time, a long session over a large
+ * index keeps no piece's notes: made whole, every piece a performer's
+ * playing ever matched would stay in the worker's heap.
  */
-export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching: MatchCorpus & { index: CorpusIndex } = liveCorpus(corpus)): LiveScorer {
+export type LiveMatching = MatchCorpus & { index: CorpusIndex; notesIn?: OpenedCorpus['notesIn'] };
+
+/**
+ * The live scorer over a corpus and what matching reads of it (built here
+ * when not given: `openCorpus(...).matchCorpus('chromatic')` with the
+ * opened corpus's `notesIn` is the daemon's).
+ */
+export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching: LiveMatching = liveCorpus(corpus)): LiveScorer {
+  const notesIn = matching.notesIn ?? ((piece: number, span: GrainSpan) => notesWithin(corpus.pieces[piece].notes, span));
   const live = new LiveMatcher(matching, { windowBeats: options.windowBeats, mode: { tolerance: options.tolerance ?? 0, tempoFree: options.tempoFree ?? false }, tableBits: LIVE_TABLE_BITS });
   const window = new LiveWindow<Note & { seq: number }>({ beats: options.windowBeats, maxNotes: MAX_WINDOW_NOTES });
   let lastSeq = 0;
@@ -156,10 +170,10 @@ export function liveScorer(corpus: Corpus, options: LiveScorerOptions, matching:
       const stretch = early && points.length ? judged(early, points, startGrains) : null;
       const base = { seq: lastSeq, windowNotes: points.length, windowStart, windowEnd, stretch, dropped: window.dropped, restarts: window.restarts };
       if (!m || m.matched === 0) return { ...base, score: 0, match: null, timeShift: null, excerpt: null };
-      const piece = corpus.pieces[m.piece];
       const match: LiveMatch = { ...matchOf(m), distinctiveness: m.distinctiveness! };
       const summary = { ...match, bar: match.pieceBar, beatInBar: match.pieceBeatInBar, score: m.score };
-      const marks = excerptMarks(notes, { start: windowStart, end: windowEnd, bar: null, beatInBar: null, notes: points.length, score: m.score, tooShort: false, match: summary }, piece, 'chromatic', options.tolerance ?? 0);
+      const matched = { start: windowStart, end: windowEnd, bar: null, beatInBar: null, notes: points.length, score: m.score, tooShort: false, match: summary };
+      const marks = excerptMarks(notes, matched, { notes: notesIn(m.piece, excerptSpan(matched)) }, 'chromatic', options.tolerance ?? 0);
       const excerpt: ExcerptNote[] = [];
       for (let i = 0; i < Math.min(marks.corpus.length, MAX_EXCERPT_NOTES); i++) {
         const n = marks.corpus[i];

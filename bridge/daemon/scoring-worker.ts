@@ -34,7 +34,7 @@ try {
   const { corpus } = opened;
   const matching = opened.matchCorpus('chromatic');
   if (setup.tempoFree) matching.fingerprints?.();
-  scorer = liveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance, tempoFree: setup.tempoFree, early: setup.early }, matching);
+  scorer = liveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance, tempoFree: setup.tempoFree, early: setup.early }, { ...matching, notesIn: opened.notesIn });
   collect({ full: true });
   warming = warmingUp(scorer, warmUpPassages(matching.flat));
   post({ type: 'ready', corpus: corpusSummary(opened) });

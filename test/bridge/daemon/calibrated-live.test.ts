@@ -16,6 +16,9 @@ import { afterAll, describe, expect, test } from 'vitest';
 import { initialPolicy, stepPolicy } from '../../../core/warning-policy.js';
 import { liveCorpus, liveScorer, warmingUp } from '../../../bridge/daemon/live-scorer.js';
 import { warmUpPassages } from '../../../core/live-match.js';
+import { notesWithin } from '../../../core/review.js';
+import { toGrains } from '../../../core/note.js';
+import type { GrainSpan } from '../../../core/flat-notes.js';
 import { LIVE_TOLERANCE, loadPreset, parsePreset, resolveThreshold, withOverrides } from '../../../bridge/formats/presets.js';
 import { INDEX_NAME, IndexFileError, readIndexBaselines } from '../../../bridge/formats/index-file.js';
 import type { HelloEvent, ScoreEvent, WarningEvent } from '../../../contract/events.js';
@@ -72,6 +75,20 @@ describe('the live scorer with a tolerance', () => {
     for (let k = 0; k < 30; k++) steps.next();
     steps.return();
     expect(run(stopped)).toEqual(fresh);
+  });
+
+  test('a verdict\'s excerpt is read a span at a time: given notesIn, no piece\'s whole notes are made, and every verdict is as before', () => {
+    const options = { windowBeats: 8, grid: 12, tolerance: 0.1 };
+    const run = (scorer: ReturnType<typeof liveScorer>) => take.map((n, i) => { scorer.add({ ...n, seq: i + 1 }); return scorer.evaluate(); });
+    const fresh = run(liveScorer(corpus, options));
+    expect(fresh.filter((v) => v.excerpt !== null).length).toBeGreaterThan(take.length / 2);
+    // Pieces whose whole notes cannot be read: the scorer must go through notesIn.
+    const sealed = { pieces: corpus.pieces.map((p) => Object.defineProperty({ ...p }, 'notes', { get: () => { throw new Error(`${p.path}: whole piece read`); } })) };
+    const spans: number[] = [];
+    const notesIn = (piece: number, span: GrainSpan) => (spans.push(span.toGrains - span.fromGrains), notesWithin(corpus.pieces[piece].notes, span));
+    expect(run(liveScorer(sealed, options, { ...liveCorpus(corpus), notesIn }))).toEqual(fresh);
+    expect(spans.length).toBe(fresh.filter((v) => v.excerpt !== null).length);
+    expect(Math.max(...spans)).toBe(toGrains(8));
   });
 });
 

@@ -11,13 +11,14 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { PITCH_MODES } from '../../../core/note.js';
+import { PITCH_MODES, toGrains } from '../../../core/note.js';
 import { barBeat } from '../../../core/bars.js';
 import { corpusPoints } from '../../../core/corpus.js';
 import { flattenNotes, joinNotes, notePoints, pieceNotes } from '../../../core/flat-notes.js';
 import { buildTriples, flattenPoints } from '../../../core/triple-index.js';
 import { type IndexContents, INDEX_NAME, IndexFileError, readIndexFile, readIndexMeta, writeIndexFile } from '../../../bridge/formats/index-file.js';
 import { openCorpus } from '../../../bridge/corpus/open-corpus.js';
+import { notesWithin } from '../../../core/review.js';
 import { UsageError } from '../../../bridge/formats/user-error.js';
 import { corpusOf, pieceOf } from '../../helpers/corpus.js';
 import { loadChorales } from '../../helpers/jsb.js';
@@ -58,6 +59,14 @@ describe('flat notes', () => {
     expect(pieceNotes(notes, 3)).toEqual(corpus.pieces[3].notes);
     const joined = joinNotes([{ notes, piece: 5 }, { notes, piece: 2 }]);
     expect([pieceNotes(joined, 0), pieceNotes(joined, 1)]).toEqual([pieceNotes(notes, 5), pieceNotes(notes, 2)]);
+  });
+
+  it('give back a span of a piece’s notes, ontimes in [from, to), as the whole piece’s notes filtered', () => {
+    const whole = pieceNotes(notes, 3);
+    for (const [from, to] of [[0, 4], [2.5, 9], [7, 7], [-1, 1e6], [1e5, 1e6]]) {
+      const inSpan = whole.filter((n) => toGrains(n.onset) >= toGrains(from) && toGrains(n.onset) < toGrains(to));
+      expect(pieceNotes(notes, 3, { fromGrains: toGrains(from), toGrains: toGrains(to) })).toEqual(inSpan);
+    }
   });
 
   it('reject a note the arrays cannot hold, naming the piece', () => {
@@ -195,6 +204,16 @@ describe('index file', () => {
     expect(() => back.notes.velocity).toThrow(`${f}: damaged: section NVEL fails its checksum; rebuild it with: earwitness corpus build CORPUS_FOLDER --out ${f}`);
     expect(failure(f).message).toMatch(/damaged: section NVEL fails its checksum/);
     expect(() => openCorpus(f).corpus.pieces[0].notes).toThrow(UsageError);
+    expect(() => openCorpus(f).notesIn(0, { fromGrains: 0, toGrains: toGrains(1) })).toThrow(UsageError);
+  });
+
+  it('an opened index reads a span of a piece’s notes without making the piece’s, as the piece’s own notes give it', () => {
+    const opened = openCorpus(file);
+    const span = { fromGrains: toGrains(4), toGrains: toGrains(12) };
+    const fromSpan = opened.notesIn(5, span);
+    expect(fromSpan.length).toBeGreaterThan(0);
+    expect(fromSpan).toEqual(notesWithin(openCorpus(file).corpus.pieces[5].notes, span));
+    expect(fromSpan).toEqual(notesWithin(corpus.pieces[5].notes, span));
   });
 
   it('a deferred section of a file replaced since it was opened is refused, not mixed with what was read', () => {
