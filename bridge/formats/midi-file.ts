@@ -117,7 +117,11 @@ function checkTrack(bytes: Uint8Array, start: number, end: number, where: string
       // Running status: a data byte where a status byte would be repeats the last status (MIDI 1.0).
       if (b & 0x80) status = b;
       else if (status === 0) throw damaged(`byte ${at - 1} continues a running status before any status byte`);
-      at += DATA_BYTES[status >> 4] - (b & 0x80 ? 0 : 1);
+      // MIDI 1.0: a data byte is 0–127; the parser underneath would take a larger one as a note number or velocity.
+      const event = at - 1;
+      for (let k = DATA_BYTES[status >> 4] - (b & 0x80 ? 0 : 1); k > 0 && at < end; k--, at++) {
+        if (bytes[at] & 0x80) throw damaged(`byte ${at} is 0x${bytes[at].toString(16)}, where the event at byte ${event} needs a data byte (0 to 127, MIDI 1.0)`);
+      }
       if ((status >> 4 === 0x8 || status >> 4 === 0x9) && ++notes > MAX_TRACK_NOTE_EVENTS) {
         throw new MidiFileError(file, `${where} holds more than ${MAX_TRACK_NOTE_EVENTS.toLocaleString('en')} note events (Note On and Note Off), the most a track may hold; split it into several tracks`);
       }

@@ -107,6 +107,15 @@ describe('parseMidi on hostile bytes', () => {
     expect(parseMidi(manyNotes(MAX_TRACK_NOTE_EVENTS / 2), 'limit.mid').notes).toHaveLength(MAX_TRACK_NOTE_EVENTS / 2);
   });
 
+  it('refuses a note whose number or velocity byte is 128 or more, naming the byte: MIDI 1.0 data bytes are 0 to 127', () => {
+    // The Note On's status byte is byte 23: after the 14-byte header, the 8-byte track head and its delta time.
+    const note = (bytes: number[]) => Uint8Array.from([...header(0, 1, 480), ...chunk('MTrk', [0x00, ...bytes, 0x00, 0xff, 0x2f, 0x00])]);
+    expect(parseMidi(note([0x90, 0x3c, 0x40, 0x60, 0x3c, 0x00]), 'fine.mid').notes).toHaveLength(1);
+    expect(() => parseMidi(note([0x90, 0x81, 0x40]), 'pitch.mid')).toThrow('pitch.mid: damaged MIDI data (track 1 of 1: byte 24 is 0x81, where the event at byte 23 needs a data byte (0 to 127, MIDI 1.0))');
+    expect(() => parseMidi(note([0x90, 0x3c, 0xc0]), 'velocity.mid')).toThrow('velocity.mid: damaged MIDI data (track 1 of 1: byte 25 is 0xc0, where the event at byte 23 needs a data byte (0 to 127, MIDI 1.0))');
+    expect(() => parseMidi(note([0x90, 0x3c, 0x40, 0x00, 0x3c, 0x90]), 'running.mid')).toThrow('running.mid: damaged MIDI data (track 1 of 1: byte 28 is 0x90, where the event at byte 27 needs a data byte (0 to 127, MIDI 1.0))');
+  });
+
   it(`random bytes (${RUNS})`, () => {
     const tally: Tally = { read: 0, refused: {}, slowestMs: 0 };
     // Half start with "MThd", so more than the first check is reached.
