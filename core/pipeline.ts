@@ -74,11 +74,14 @@ export interface MatcherOptions {
 /** The tolerance tempo-free candidates are verified with: a time scale estimated from notes is never exact. */
 export const tempoFreeTolerance = (mode: MatchMode): number => Math.max(mode.tolerance, DEFAULT_FINGERPRINT.tolerance);
 
+/** The name of the reference source, every translation. */
+export const EVERY_SOURCE = 'every';
+
 /** Every translation of every piece: the reference every other source is checked against. */
 export function everyCandidates(flat: FlatPoints): CandidateSource {
   const pieces = flat.offsets.length - 1;
   return {
-    name: 'every',
+    name: EVERY_SOURCE,
     best(window, verify, spanGrains) {
       if (window.points.length === 0) return null;
       const span = { points: window.points, startGrains: window.startGrains, spanGrains };
@@ -93,19 +96,25 @@ export function everyCandidates(flat: FlatPoints): CandidateSource {
 export interface Stage {
   source: CandidateSource;
   verify: Verifier;
+  /** Whether the stage is given the earlier stages' best, and may leave out what cannot beat it. */
+  narrowed: boolean;
 }
 
 /**
  * The stages of a mode: the plain candidates with the mode's verifier, and
  * when tempo-free also the fingerprint candidates, verified within
- * `tempoFreeTolerance`.
+ * `tempoFreeTolerance`. After a fast source the fingerprint stage is
+ * narrowed by the plain stage's best; after every translation, the
+ * reference, it searches in full: a place it leaves out for scoring less at
+ * its estimated tempo could win once refitted, and the reference must score
+ * a window at least as high as any fast source does.
  */
 export function stagesOf(corpus: MatchCorpus, plain: CandidateSource, mode: MatchMode): Stage[] {
   checkTolerance(mode.tolerance);
-  const stages = [{ source: plain, verify: verifier(corpus.flat, mode.tolerance) }];
+  const stages = [{ source: plain, verify: verifier(corpus.flat, mode.tolerance), narrowed: false }];
   if (!mode.tempoFree) return stages;
   if (!corpus.fingerprints) throw new RangeError('tempo-free matching needs the corpus\'s fingerprint table');
-  return [...stages, { source: fingerprintCandidates(corpus.flat, corpus.fingerprints()), verify: verifier(corpus.flat, tempoFreeTolerance(mode)) }];
+  return [...stages, { source: fingerprintCandidates(corpus.flat, corpus.fingerprints()), verify: verifier(corpus.flat, tempoFreeTolerance(mode)), narrowed: plain.name !== EVERY_SOURCE }];
 }
 
 /**
@@ -116,10 +125,10 @@ export function stagesOf(corpus: MatchCorpus, plain: CandidateSource, mode: Matc
 export function bestOfStages(stages: readonly Stage[], window: MatchWindow, spanGrains: number, mode: MatchMode, count?: PieceCount): WindowMatch | null {
   if (window.points.length === 0) return null;
   let best: WindowMatch | null = null;
-  for (const { source, verify } of stages) {
+  for (const { source, verify, narrowed } of stages) {
     // Nothing scores above 1: a window matched whole needs no other source's candidates.
     if (best && best.score >= 1) break;
-    const m = source.best(window, verify, spanGrains, best);
+    const m = source.best(window, verify, spanGrains, narrowed ? best : null);
     best = better(m && mode.tempoFree && m.timeScale === undefined ? { ...m, timeScale: 1 } : m, best);
   }
   if (!best || best.matched === 0 || !count) return best;

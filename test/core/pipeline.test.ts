@@ -56,6 +56,20 @@ describe('no candidate source scores a window above the reference (fast-check)',
   });
 });
 
+describe('the reference tempo-free', () => {
+  it('searches the fingerprint places in full after every translation: a place scoring under the played-tempo match at its estimated tempo can win refitted (a case fast-check found)', () => {
+    // Our own points: a five-note chord, then a few notes far on; the window copies four of them, moved and nudged.
+    const piece = [[0, 55], [0, 56], [0, 57], [0, 58], [0, 59], [24, 55], [24, 56], [25, 55], [25.25, 55], [28.5, 55]] as [number, number][];
+    const view = corpusPoints(corpusOf([pieceOf('p0.mid', notesOf(piece))]), 'chromatic');
+    const window = { points: [{ at: 107691, pitch: 58 }, { at: 111264, pitch: 57 }, { at: 112616, pitch: 57 }, { at: 125014, pitch: 57 }], startGrains: toGrains(28) };
+    const mode = { tolerance: 0.1, tempoFree: true };
+    const reference = exactMatcher(view, 8, { mode }).best(window)!;
+    expect(reference.score).toBe(1);
+    expect(reference.timeScale).not.toBe(1);
+    expect(indexedMatcher(view, 8, { mode }).best(window)!.score).toBeLessThanOrEqual(reference.score);
+  });
+});
+
 describe('the entry point', () => {
   it(`matches a corpus of at most ${EVERY_TRANSLATION_UP_TO} points with every translation, a larger one with the index's candidates, and --exact always with every translation`, () => {
     expect(candidatesFor(733, false)).toBe('every');
