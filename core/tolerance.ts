@@ -110,7 +110,7 @@ export interface Near {
  */
 let shiftScratch = new Float64Array(1024);
 
-/** Time differences (window − corpus) of all pairs with pitch difference `pitch` and time difference in [lo, hi], ascending: the first n of the returned scratch. */
+/** Time differences (window − corpus) of all pairs with pitch difference `pitch` and time difference in [lo, hi], ascending: a view of the scratch, good until the next search. */
 function shiftsBetween(lines: LineLookup, window: readonly Point[], pitch: number, lo: number, hi: number): Float64Array {
   let n = 0;
   for (const q of window) {
