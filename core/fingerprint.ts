@@ -32,6 +32,7 @@ import { toleranceMatching } from './tolerance.js';
 import { type Span, type Verifier, excerptLines } from './verify.js';
 import type { CandidateSource } from './index-match.js';
 import { mostCounted } from './votes.js';
+import { type KeyedRecords, runStarts, sortRecords } from './keyed-sort.js';
 
 /** Which triples the table holds: stored with it, since a query must make its triples the same way. */
 export interface FingerprintShape {
@@ -124,14 +125,11 @@ function eachTriple(at: ArrayLike<number>, from: number, to: number, shape: Fing
 }
 
 /**
- * The fingerprint table of every piece's points, sorted by key (keys are
- * under 2^24) in two counting passes: by the key's high 12 bits into 4,096
- * runs, written each in order, then each run by the low 12 bits, small
- * enough to stay in cache. Each triple's key is made once; within a key,
- * triples keep the order they were made in. Fourteen bytes a triple at most
- * while building, no object per triple.
+ * Every fingerprint triple of the points as a record: its key, its first
+ * note (plus `base`, as in core/triple-index.ts tripleRecords) and its code,
+ * in the order the pieces and their points come.
  */
-export function buildFingerprints(points: FlatPoints, shape: FingerprintShape = FINGERPRINT_SHAPE): FingerprintTable {
+export function fingerprintRecords(points: FlatPoints, shape: FingerprintShape = FINGERPRINT_SHAPE, base = 0): KeyedRecords {
   checkFingerprintShape(shape);
   const { at, pitch, offsets } = points;
   const pieces = offsets.length - 1;
@@ -140,52 +138,30 @@ export function buildFingerprints(points: FlatPoints, shape: FingerprintShape = 
   };
   let total = 0;
   each(() => total++);
-  // Where each high part's run starts.
-  const high = new Uint32Array(4097);
-  let key: Uint32Array | null = new Uint32Array(total);
+  const key = new Uint32Array(total);
+  const anchor = new Uint32Array(total);
+  const code = new Uint8Array(total);
   let n = 0;
-  each((a, b, c) => {
-    const k = fingerprintKey(at[a], at[b], at[c], pitch[a], pitch[b], pitch[c]);
-    key![n++] = k;
-    high[(k >>> 12) + 1]++;
+  each((a, b, c, made) => {
+    key[n] = fingerprintKey(at[a], at[b], at[c], pitch[a], pitch[b], pitch[c]);
+    anchor[n] = a + base;
+    code[n++] = made;
   });
-  for (let h = 0; h < 4096; h++) high[h + 1] += high[h];
-  const byHigh = { key: new Uint32Array(total), anchor: new Uint32Array(total), code: new Uint8Array(total) };
-  const next = high.slice(0, 4096);
-  n = 0;
-  each((a, _b, _c, code) => {
-    const k = key![n++];
-    const s = next[k >>> 12]++;
-    byHigh.key[s] = k;
-    byHigh.anchor[s] = a;
-    byHigh.code[s] = code;
-  });
-  key = null;
-  const anchors = new Uint32Array(total);
-  const codes = new Uint8Array(total);
-  const keyList: number[] = [];
-  const startList: number[] = [];
-  const low = new Uint32Array(4097);
-  for (let h = 0; h < 4096; h++) {
-    const [from, to] = [high[h], high[h + 1]];
-    if (from === to) continue;
-    low.fill(0);
-    for (let s = from; s < to; s++) low[(byHigh.key[s] & 4095) + 1]++;
-    for (let l = 0; l < 4096; l++) {
-      if (low[l + 1] > 0) {
-        keyList.push(h * 4096 + l);
-        startList.push(from + low[l]);
-      }
-      low[l + 1] += low[l];
-    }
-    for (let s = from; s < to; s++) {
-      const t = from + low[byHigh.key[s] & 4095]++;
-      anchors[t] = byHigh.anchor[s];
-      codes[t] = byHigh.code[s];
-    }
-  }
-  startList.push(total);
-  return { shape, keys: Uint32Array.from(keyList), starts: Uint32Array.from(startList), anchors, codes };
+  return { hi: key, lo: null, fields: [anchor, code] };
+}
+
+/**
+ * The fingerprint table of every piece's points: the triples' records sorted
+ * by key (core/keyed-sort.ts); within a key, triples keep the order they
+ * were made in. No object per triple.
+ */
+export function buildFingerprints(points: FlatPoints, shape: FingerprintShape = FINGERPRINT_SHAPE): FingerprintTable {
+  const sorted = sortRecords(fingerprintRecords(points, shape));
+  const runs = runStarts(sorted);
+  const starts = new Uint32Array(runs.length + 1);
+  starts.set(runs);
+  starts[runs.length] = sorted.hi.length;
+  return { shape, keys: runs.map((s) => sorted.hi[s]), starts, anchors: sorted.fields[0] as Uint32Array, codes: sorted.fields[1] as Uint8Array };
 }
 
 /** Open-addressing slots over a table's keys (position + 1, 0 = empty), made once per table when first searched. */

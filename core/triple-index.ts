@@ -23,6 +23,7 @@
  */
 import type { CorpusPoints } from './corpus.js';
 import { type PitchMode, type Point, toGrains } from './note.js';
+import { type KeyedRecords, runStarts, sortRecords } from './keyed-sort.js';
 
 export interface TripleShape {
   /** A point's triples take two of its next `partners` points… */
@@ -130,20 +131,13 @@ export function triplesEndingAt(at: ArrayLike<number>, from: number, c: number, 
   }
 }
 
-/** Stable counting-sort pass on a 12-bit digit of `digits`, carrying the other arrays along. */
-export function radixPass(digits: Uint32Array, shift: number, arrays: Uint32Array[], out: Uint32Array[]): void {
-  const counts = new Uint32Array(4097);
-  const n = digits.length;
-  for (let i = 0; i < n; i++) counts[((digits[i] >>> shift) & 4095) + 1]++;
-  for (let d = 0; d < 4096; d++) counts[d + 1] += counts[d];
-  for (let i = 0; i < n; i++) {
-    const to = counts[(digits[i] >>> shift) & 4095]++;
-    for (let a = 0; a < arrays.length; a++) out[a][to] = arrays[a][i];
-  }
-}
-
-/** Builds the postings: the triples' keys as two 24-bit halves, radix-sorted, no per-triple object. */
-export function buildTriples(points: FlatPoints, shape: TripleShape = CORPUS_TRIPLES): TriplePostings {
+/**
+ * Every triple of the points as a record: its key's two halves (the step to
+ * the first partner, then to the second) and its anchor, in the order the
+ * pieces and their points come; `base` is added to every anchor (a piece
+ * indexed after `base` points of others).
+ */
+export function tripleRecords(points: FlatPoints, shape: TripleShape = CORPUS_TRIPLES, base = 0): KeyedRecords {
   checkTripleShape(shape);
   const horizon = toGrains(shape.horizonBeats);
   const { at, pitch, offsets } = points;
@@ -153,36 +147,31 @@ export function buildTriples(points: FlatPoints, shape: TripleShape = CORPUS_TRI
   };
   let total = 0;
   each(() => total++);
-  let hi = new Uint32Array(total);
-  let lo = new Uint32Array(total);
-  let anchor = new Uint32Array(total);
+  const hi = new Uint32Array(total);
+  const lo = new Uint32Array(total);
+  const anchor = new Uint32Array(total);
   let n = 0;
   each((a, b, c) => {
     hi[n] = part(at[b] - at[a], pitch[b] - pitch[a]);
     lo[n] = part(at[c] - at[a], pitch[c] - pitch[a]);
-    anchor[n++] = a;
+    anchor[n++] = a + base;
   });
-  let spare = [new Uint32Array(total), new Uint32Array(total), new Uint32Array(total)];
-  // Least significant first: the second half's digits, then the first's.
-  for (const [digits, shift] of [[1, 0], [1, 12], [0, 0], [0, 12]] as const) {
-    const arrays = [hi, lo, anchor];
-    radixPass(arrays[digits], shift, arrays, spare);
-    [hi, lo, anchor] = spare;
-    spare = arrays;
-  }
-  let distinct = 0;
-  for (let i = 0; i < total; i++) if (i === 0 || hi[i] !== hi[i - 1] || lo[i] !== lo[i - 1]) distinct++;
-  const keys = new Float64Array(distinct);
-  const starts = new Uint32Array(distinct + 1);
-  let d = 0;
-  for (let i = 0; i < total; i++) {
-    if (i === 0 || hi[i] !== hi[i - 1] || lo[i] !== lo[i - 1]) {
-      keys[d] = hi[i] * PART + lo[i];
-      starts[d++] = i;
-    }
-  }
-  starts[distinct] = total;
-  return { points, shape, keys, starts, anchors: anchor };
+  return { hi, lo, fields: [anchor] };
+}
+
+/** A triple's key from its record's halves. */
+export const keyOfHalves = (hi: number, lo: number): number => hi * PART + lo;
+
+/** Builds the postings: the triples' records sorted by key (core/keyed-sort.ts), no per-triple object. */
+export function buildTriples(points: FlatPoints, shape: TripleShape = CORPUS_TRIPLES): TriplePostings {
+  const sorted = sortRecords(tripleRecords(points, shape));
+  const runs = runStarts(sorted);
+  const keys = new Float64Array(runs.length);
+  for (let d = 0; d < runs.length; d++) keys[d] = keyOfHalves(sorted.hi[runs[d]], sorted.lo![runs[d]]);
+  const starts = new Uint32Array(runs.length + 1);
+  starts.set(runs);
+  starts[runs.length] = sorted.hi.length;
+  return { points, shape, keys, starts, anchors: sorted.fields[0] as Uint32Array };
 }
 
 /** An index ready to query: the postings, a hash table over their keys, and each point packed for voting. */

@@ -11,34 +11,17 @@
  */
 import { randomBytes } from 'node:crypto';
 import { basename, dirname, join } from 'node:path';
-import { PITCH_MODES } from '../../core/note.js';
-import { type FlatNotes, joinNotes, notePoints } from '../../core/flat-notes.js';
-import { CORPUS_TRIPLES, buildTriples } from '../../core/triple-index.js';
-import { FINGERPRINT_SHAPE, buildFingerprints } from '../../core/fingerprint.js';
+import { type FlatNotes, joinNotes } from '../../core/flat-notes.js';
 import { dealRuns } from '../../core/shards.js';
-import { type FileFingerprint, type IndexToWrite, type PieceInfo, type ShardOf, readIndexCrc, writeIndexFile } from '../formats/index-file.js';
+import { type FileFingerprint, type PieceInfo, readIndexCrc } from '../formats/index-file.js';
+import { buildIndexFile } from '../formats/index-build.js';
 import { type ShardEntry, MANIFEST_FORMAT, MANIFEST_VERSION, shardFileName, writeShardManifest } from '../formats/shard-manifest.js';
 
-export interface IndexParts {
+export interface ShardsRequest {
   notes: FlatNotes;
   pieces: PieceInfo[];
   files: FileFingerprint[];
   percussion: boolean;
-  shard?: ShardOf;
-}
-
-/**
- * Everything an index file holds for these pieces: each pitch dimension's
- * triple postings and fingerprint table, each made from the notes when the
- * writer reaches it (writeIndexFile), so a build holds one at a time.
- */
-export function indexContents(parts: IndexParts): IndexToWrite {
-  const postings = Object.fromEntries(PITCH_MODES.map((mode) => [mode, () => buildTriples(notePoints(parts.notes, mode), CORPUS_TRIPLES)]));
-  const fingerprints = Object.fromEntries(PITCH_MODES.map((mode) => [mode, () => buildFingerprints(notePoints(parts.notes, mode), FINGERPRINT_SHAPE)]));
-  return { shape: CORPUS_TRIPLES, fingerprint: FINGERPRINT_SHAPE, ...parts, postings, fingerprints };
-}
-
-export interface ShardsRequest extends Omit<IndexParts, 'shard'> {
   /** The manifest file; the shards are written beside it. */
   manifest: string;
   /** What the queues are named after. */
@@ -71,10 +54,8 @@ export function writeShards(request: ShardsRequest): ShardsSummary {
     const holds = new Set(pieces.map((p) => fileOf(p.path, known)));
     const files = request.files.filter((f) => holds.has(f.path) || (k === 0 && f.error !== null));
     const notes = joinNotes(range.map((piece) => ({ notes: request.notes, piece })));
-    const contents = indexContents({ notes, pieces, files, percussion: request.percussion, shard: { build, name, number: k + 1, of: runs.length, firstPiece: run.first } });
-    writeIndexFile(path, contents);
-    const points = Object.fromEntries(PITCH_MODES.map((mode) => [mode, notePoints(notes, mode).at.length])) as ShardEntry['points'];
-    return { path: basename(path), firstPiece: run.first, pieces: run.pieces, notes: notes.at.length, points, crc: readIndexCrc(path) };
+    const built = buildIndexFile(path, { pieces, notes, files, percussion: request.percussion, shard: { build, name, number: k + 1, of: runs.length, firstPiece: run.first } });
+    return { path: basename(path), firstPiece: run.first, pieces: run.pieces, notes: built.notes, points: built.points, crc: readIndexCrc(path) };
   });
   writeShardManifest(request.manifest, { format: MANIFEST_FORMAT, version: MANIFEST_VERSION, build, name, percussion: request.percussion, shards: entries });
   return { manifest: request.manifest, shards: entries.map((e) => ({ path: join(dirname(request.manifest), e.path), pieces: e.pieces, notes: e.notes })) };

@@ -14,7 +14,7 @@
  *   const index = readIndexFile('songs/.earwitness-index', ['chromatic']);
  *   index.pieces[0]   // → { path: 'a.mid', title: 'A tune', beats: 64, key: {...} }
  */
-import { closeSync, fstatSync, openSync, readSync, renameSync, rmSync, writeSync } from 'node:fs';
+import { closeSync, fstatSync, openSync, readSync, renameSync, rmSync } from 'node:fs';
 import { basename, dirname } from 'node:path';
 import { endianness } from 'node:os';
 import { crc32 } from 'node:zlib';
@@ -27,6 +27,7 @@ import type { Baseline } from '../../core/report.js';
 import { baselineSchema } from './baseline-file.js';
 import { type SavedProblem, readSaved } from './saved.js';
 import type { FingerprintShape, FingerprintTable, StoredFingerprints } from '../../core/fingerprint.js';
+import { writeAll } from './spill.js';
 
 /** 2: adds each pitch dimension's fingerprint table (tempo-free matching); a version 1 file is refused with a rebuild hint. */
 export const INDEX_VERSION = 2;
@@ -102,7 +103,7 @@ export class IndexFileError extends Error {
 type Typed = Int32Array | Uint32Array | Uint8Array | Float64Array;
 type TypedCtor = Int32ArrayConstructor | Uint32ArrayConstructor | Uint8ArrayConstructor | Float64ArrayConstructor;
 
-const NOTE_SECTIONS: [string, keyof FlatNotes, TypedCtor][] = [
+export const NOTE_SECTIONS: [string, keyof FlatNotes, TypedCtor][] = [
   ['NOFS', 'offsets', Uint32Array],
   ['NATS', 'at', Int32Array],
   ['NDUR', 'duration', Int32Array],
@@ -111,7 +112,7 @@ const NOTE_SECTIONS: [string, keyof FlatNotes, TypedCtor][] = [
   ['NVEL', 'velocity', Uint8Array],
   ['NCHN', 'channel', Uint8Array],
 ];
-const MODE_LETTER: Record<PitchMode, string> = { chromatic: 'C', morphetic: 'M' };
+export const MODE_LETTER: Record<PitchMode, string> = { chromatic: 'C', morphetic: 'M' };
 const POSTING_SECTIONS: [string, keyof ModePostings, TypedCtor][] = [
   ['KEY', 'keys', Float64Array],
   ['RUN', 'starts', Uint32Array],
@@ -181,78 +182,144 @@ const bytesOf = (a: Typed): Uint8Array => new Uint8Array(a.buffer, a.byteOffset,
 export type WhenWritten<T> = T | (() => T);
 const made = <T extends object>(v: WhenWritten<T>): T => (typeof v === 'function' ? (v as () => T)() : v);
 
+/** A section being written: its bytes in order, then `end`. */
+export interface OpenSection {
+  write(bytes: Uint8Array): void;
+  end(): void;
+}
+
 /**
- * Writes an index atomically: to a temporary file beside it, then renamed
- * over the old one. Sections are written in order, a group at a time: a pitch
- * dimension's postings or fingerprint table given as a function is made when
- * its turn comes and let go once written, so a build holds one of them at a
- * time, not all four. The section table, which needs every section's CRC,
- * offset and length, is written last, in the space kept for it at the start.
+ * An index file being written, atomically: to a temporary file beside it,
+ * renamed over the old one by `close`. Each section is given its length when
+ * begun, so several can be written at once (a streaming build writes a pitch
+ * dimension's anchors while its keys go to a spill); the section table, which
+ * needs every section's CRC, offset and length, is written last, in the
+ * space kept for it at the start.
+ *
+ * @example
+ *   const out = new IndexWriter('songs/.earwitness-index', 2);
+ *   out.whole('META', metaBytes);
+ *   const anchors = out.section('CANC', 4 * n);
+ *   anchors.write(firstRun); anchors.write(rest); anchors.end();
+ *   out.close();
+ */
+export class IndexWriter {
+  private readonly temp: string;
+  private readonly fd: number;
+  private readonly table: Buffer;
+  private at: number;
+  private begun = 0;
+  private ended = 0;
+
+  constructor(readonly file: string, readonly count: number) {
+    checkPlatform();
+    this.table = Buffer.alloc(HEADER_BYTES + ENTRY_BYTES * count);
+    this.at = align8(this.table.length);
+    this.temp = `${file}.${process.pid}.partial`;
+    this.fd = openSync(this.temp, 'w');
+  }
+
+  section(tag: string, length: number): OpenSection {
+    if (this.begun === this.count) throw new Error(`IndexWriter: section ${tag} is one more than the ${this.count} the file was opened for`);
+    const e = HEADER_BYTES + this.begun++ * ENTRY_BYTES;
+    const start = this.at;
+    this.at = align8(start + length);
+    let position = start;
+    let crc = 0;
+    return {
+      write: (bytes) => {
+        if (position + bytes.length > start + length) throw new Error(`IndexWriter: section ${tag} given more than its ${length} bytes`);
+        writeAll(this.fd, bytes, position);
+        crc = crc32(bytes, crc);
+        position += bytes.length;
+      },
+      end: () => {
+        if (position !== start + length) throw new Error(`IndexWriter: section ${tag} ended at ${position - start} of its ${length} bytes`);
+        this.table.write(tag, e, 'latin1');
+        this.table.writeUInt32LE(crc, e + 4);
+        this.table.writeBigUInt64LE(BigInt(start), e + 8);
+        this.table.writeBigUInt64LE(BigInt(length), e + 16);
+        this.ended++;
+      },
+    };
+  }
+
+  /** A section whose bytes are all at hand. */
+  whole(tag: string, bytes: Uint8Array): void {
+    const s = this.section(tag, bytes.length);
+    s.write(bytes);
+    s.end();
+  }
+
+  /** Writes the section table and puts the file in place. */
+  close(): void {
+    if (this.ended !== this.count) throw new Error(`IndexWriter: ${this.ended} sections written, expected ${this.count}`);
+    this.table.set(SIGNATURE, 0);
+    this.table.writeUInt32LE(INDEX_VERSION, 8);
+    this.table.writeUInt32LE(this.count, 12);
+    this.table.writeUInt32LE(crc32(this.table.subarray(HEADER_BYTES)), 16);
+    writeAll(this.fd, this.table, 0);
+    closeSync(this.fd);
+    renameSync(this.temp, this.file);
+  }
+
+  /** Leaves no trace of the file (a failed build never leaves a half-written index). */
+  abort(): void {
+    try {
+      closeSync(this.fd);
+    } catch {
+      // Already closed.
+    }
+    rmSync(this.temp, { force: true });
+  }
+}
+
+/** Sections an index holds besides its pitch dimensions': META and the notes. */
+export const NOTE_SECTION_COUNT = 1 + 7;
+/** Sections each pitch dimension adds: postings and fingerprint table. */
+export const MODE_SECTION_COUNT = 7;
+
+/** The META JSON of an index's contents. */
+export const metaBytes = (contents: Omit<IndexContents, 'notes' | 'postings' | 'fingerprints'>, notes: number, modes: PitchMode[]): Uint8Array => {
+  const meta: Meta = { shape: contents.shape, fingerprint: contents.fingerprint, percussion: contents.percussion, pieces: contents.pieces, files: contents.files, notes, modes, ...(contents.shard ? { shard: contents.shard } : {}) };
+  return new TextEncoder().encode(JSON.stringify(meta));
+};
+
+/** The BASE section's bytes. */
+export const baseBytes = (baselines: Baseline[]): Uint8Array => new TextEncoder().encode(JSON.stringify({ version: BASELINE_VERSION, baselines }));
+
+/**
+ * Writes an index whose contents are in memory (a pitch dimension's postings
+ * or fingerprint table given as a function is made when the writer reaches
+ * it and let go once written, so a build holds one of them at a time).
+ * `corpus build` streams instead (bridge/formats/index-build.ts).
  */
 export function writeIndexFile(file: string, contents: IndexToWrite): void {
-  checkPlatform();
   const modes = (Object.keys(contents.postings) as PitchMode[]).filter((m) => contents.postings[m]);
-  const meta: Meta = { shape: contents.shape, fingerprint: contents.fingerprint, percussion: contents.percussion, pieces: contents.pieces, files: contents.files, notes: contents.notes.at.length, modes, ...(contents.shard ? { shard: contents.shard } : {}) };
   const inMemory = (stored: Typed | RunReader<Uint32Array | Uint8Array>, what: string): Typed => {
     if (typeof stored === 'function') throw new Error(`writeIndexFile: the ${what} were read on demand; read them whole to write them`);
     return stored;
   };
-  /** Each group's sections, made only when the writer reaches it. */
-  const groups: (() => [string, Uint8Array][])[] = [
-    () => [['META', new TextEncoder().encode(JSON.stringify(meta))]],
-    () => NOTE_SECTIONS.map(([tag, field]) => [tag, bytesOf(contents.notes[field])]),
-    ...modes.map((mode) => () => {
+  const out = new IndexWriter(file, NOTE_SECTION_COUNT + modes.length * MODE_SECTION_COUNT + (contents.baselines?.length ? 1 : 0));
+  try {
+    out.whole('META', metaBytes(contents, contents.notes.at.length, modes));
+    for (const [tag, field] of NOTE_SECTIONS) out.whole(tag, bytesOf(contents.notes[field]));
+    for (const mode of modes) {
       const postings = made(contents.postings[mode]!);
-      return POSTING_SECTIONS.map(([tag, field]): [string, Uint8Array] => [MODE_LETTER[mode] + tag, bytesOf(inMemory(postings[field], `${mode} postings`))]);
-    }),
-    ...modes.map((mode) => () => {
+      for (const [tag, field] of POSTING_SECTIONS) out.whole(MODE_LETTER[mode] + tag, bytesOf(inMemory(postings[field], `${mode} postings`)));
+    }
+    for (const mode of modes) {
       const given = contents.fingerprints[mode];
       if (!given) throw new Error(`writeIndexFile: the ${mode} fingerprint table is missing`);
       const table = made(given);
-      return FINGERPRINT_SECTIONS.map(([tag, field]): [string, Uint8Array] => [MODE_LETTER[mode] + tag, bytesOf(inMemory(table[field], `${mode} fingerprints`))]);
-    }),
-    ...(contents.baselines?.length ? [(): [string, Uint8Array][] => [['BASE', new TextEncoder().encode(JSON.stringify({ version: BASELINE_VERSION, baselines: contents.baselines }))]]] : []),
-  ];
-  const count = 1 + NOTE_SECTIONS.length + modes.length * (POSTING_SECTIONS.length + FINGERPRINT_SECTIONS.length) + (contents.baselines?.length ? 1 : 0);
-  const table = Buffer.alloc(HEADER_BYTES + ENTRY_BYTES * count);
-  const temp = `${file}.${process.pid}.partial`;
-  const fd = openSync(temp, 'w');
-  try {
-    let at = align8(table.length);
-    let written = 0;
-    for (const group of groups) {
-      for (const [tag, bytes] of group()) {
-        const e = HEADER_BYTES + written++ * ENTRY_BYTES;
-        table.write(tag, e, 'latin1');
-        table.writeUInt32LE(crc32(bytes), e + 4);
-        table.writeBigUInt64LE(BigInt(at), e + 8);
-        table.writeBigUInt64LE(BigInt(bytes.length), e + 16);
-        writeAll(fd, bytes, at);
-        at = align8(at + bytes.length);
-      }
+      for (const [tag, field] of FINGERPRINT_SECTIONS) out.whole(MODE_LETTER[mode] + tag, bytesOf(inMemory(table[field], `${mode} fingerprints`)));
     }
-    if (written !== count) throw new Error(`writeIndexFile: wrote ${written} sections, expected ${count}`);
-    table.set(SIGNATURE, 0);
-    table.writeUInt32LE(INDEX_VERSION, 8);
-    table.writeUInt32LE(count, 12);
-    table.writeUInt32LE(crc32(table.subarray(HEADER_BYTES)), 16);
-    writeAll(fd, table, 0);
-    closeSync(fd);
-    renameSync(temp, file);
+    if (contents.baselines?.length) out.whole('BASE', baseBytes(contents.baselines));
+    out.close();
   } catch (e) {
-    try {
-      closeSync(fd);
-    } catch {
-      // Already closed.
-    }
-    rmSync(temp, { force: true });
+    out.abort();
     throw e;
   }
-}
-
-/** Writes all of `bytes` at `position` (a write may take less than asked). */
-function writeAll(fd: number, bytes: Uint8Array, position: number): void {
-  for (let done = 0; done < bytes.length; ) done += writeSync(fd, bytes, done, bytes.length - done, position + done);
 }
 
 interface Opened {

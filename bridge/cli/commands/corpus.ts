@@ -23,7 +23,8 @@ import { walkCorpus } from '../../corpus/corpus-files.js';
 import { type ScoreFormat, FORMAT_NAMES, SCORE_FORMATS, formatOf } from '../../formats/read-file.js';
 import { type FileFingerprint, type IndexContents, type PieceInfo, INDEX_NAME, IndexFileError, readIndexFile, writeIndexFile } from '../../formats/index-file.js';
 import { type ParseTask, type ParsedFile, fileHash } from '../../corpus/build-worker.js';
-import { type ShardsSummary, indexContents, writeShards } from '../../corpus/shard-build.js';
+import { type ShardsSummary, writeShards } from '../../corpus/shard-build.js';
+import { IndexBuilder } from '../../formats/index-build.js';
 import { MANIFEST_NAME } from '../../formats/shard-manifest.js';
 import { printJson } from '../options.js';
 import { type Baseline, CAUTION, humanBaseline } from '../../../core/report.js';
@@ -91,9 +92,8 @@ function baselinesOf(out: string, percussion: boolean, request: BaselineRequest)
 
 const portable = (p: string): string => p.split(sep).join('/');
 
-/** Reads files in a pool of worker threads; a worker that overruns `limitMs` on a file is ended and replaced. */
-async function parseAll(tasks: ParseTask[], limitMs: number, progress: ProgressFn): Promise<ParsedFile[]> {
-  const results: ParsedFile[] = new Array(tasks.length);
+/** Reads files in a pool of worker threads, handing each result to `got` as it comes; a worker that overruns `limitMs` on a file is ended and replaced. */
+async function parseAll(tasks: ParseTask[], limitMs: number, got: (i: number, r: ParsedFile) => void, progress: ProgressFn): Promise<void> {
   const url = new URL('../../corpus/build-worker.js', import.meta.url);
   // The readers collect their garbage every so often (build-worker.ts).
   exposeCollector();
@@ -120,8 +120,8 @@ async function parseAll(tasks: ParseTask[], limitMs: number, progress: ProgressF
         if (typeof r === 'string') {
           await worker.terminate();
           worker = new Worker(url);
-          results[i] = { file: tasks[i].file, sha256: fileHash(tasks[i].file), pieces: [], notes: null, skipped: [], error: r };
-        } else results[i] = r;
+          got(i, { file: tasks[i].file, sha256: fileHash(tasks[i].file), pieces: [], notes: null, skipped: [], error: r });
+        } else got(i, r);
         progress(++done, tasks.length);
       }
     } finally {
@@ -129,7 +129,6 @@ async function parseAll(tasks: ParseTask[], limitMs: number, progress: ProgressF
     }
   };
   await Promise.all(Array.from({ length: Math.min(availableParallelism(), tasks.length) }, lane));
-  return results;
 }
 
 /**
@@ -154,10 +153,10 @@ function previous(out: string): IndexContents | null {
   }
 }
 
-/** What reading a corpus folder found: pieces with their notes, every file seen, and what was skipped. */
+/** What reading a corpus folder found, besides the pieces handed on: every file seen, and what was skipped. */
 interface Gathered {
-  pieces: PieceInfo[];
-  notes: FlatNotes;
+  pieces: number;
+  notes: number;
   files: FileFingerprint[];
   skipped: { file: string; error: string }[];
   formats: Record<ScoreFormat, FormatCount>;
@@ -165,58 +164,77 @@ interface Gathered {
   reused: number;
 }
 
-/** Reads every score file under `dir`, taking unchanged files' pieces from `reusable` (a previous index, or null). */
-async function gather(dir: string, reusable: IndexContents | null, options: { percussion: boolean; fileSeconds: number }): Promise<Gathered> {
+/** Where gathered pieces go, in the corpus's order (a file's pieces together, files in the order walked). */
+type PieceSink = (pieces: PieceInfo[], notes: FlatNotes) => void;
+
+/**
+ * Reads every score file under `dir`, taking unchanged files' pieces from
+ * `reusable` (a previous index, or null), and hands the pieces to `sink` in
+ * the corpus's order as soon as each file's turn comes: a file read early
+ * waits only for those before it.
+ */
+async function gather(dir: string, reusable: IndexContents | null, options: { percussion: boolean; fileSeconds: number }, sink: PieceSink): Promise<Gathered> {
   const { percussion } = options;
   const oldFiles = new Map(reusable?.files.map((f) => [f.path, f]) ?? []);
   const oldPieces = piecesByFile(reusable);
 
-  type Slot = { path: string; size: number; mtimeMs: number; reuse: FileFingerprint | null };
+  type Slot = { path: string; size: number; mtimeMs: number; reuse: FileFingerprint | null; task: number };
   const walked = walkCorpus(dir);
+  let tasksMade = 0;
   const slots: Slot[] = walked.files.map((file) => {
     const path = portable(relative(dir, file));
     const { size, mtimeMs } = statSync(file);
     const was = oldFiles.get(path);
     const same = !!was && was.size === size && (was.mtimeMs === mtimeMs || (was.sha256 !== null && was.sha256 === fileHash(file)));
-    return { path, size, mtimeMs, reuse: same ? was : null };
+    return { path, size, mtimeMs, reuse: same ? was : null, task: same ? -1 : tasksMade++ };
   });
   const tasks = slots.filter((s) => !s.reuse).map((s): ParseTask => ({ file: join(dir, s.path), root: dir, percussion }));
-  const bar = progressBar('indexing');
-  const parsed = new Map((await parseAll(tasks, options.fileSeconds * 1000, bar.tick)).map((r) => [portable(relative(dir, r.file)), r]));
-  bar.stop();
 
-  const pieces: PieceInfo[] = [];
-  const parts: { notes: FlatNotes; piece: number }[] = [];
-  const files: FileFingerprint[] = [];
-  const skipped: { file: string; error: string }[] = [...walked.skipped];
-  const formats = Object.fromEntries(SCORE_FORMATS.map((f) => [f, { files: 0, pieces: 0, skipped: 0 }])) as Record<ScoreFormat, FormatCount>;
-  for (const s of slots) {
-    const fresh = parsed.get(s.path);
-    const error = fresh ? fresh.error : s.reuse!.error;
-    const count = formats[formatOf(s.path)!];
-    count.files++;
-    files.push({ path: s.path, size: s.size, mtimeMs: s.mtimeMs, sha256: fresh ? fresh.sha256 : s.reuse!.sha256, error });
-    if (error !== null) {
-      skipped.push({ file: s.path, error });
-      count.skipped++;
-    } else if (fresh) {
-      pieces.push(...fresh.pieces);
-      fresh.pieces.forEach((_, k) => parts.push({ notes: fresh.notes!, piece: k }));
-      skipped.push(...fresh.skipped);
-      count.pieces += fresh.pieces.length;
-    } else {
-      for (const i of oldPieces.get(s.path) ?? []) {
-        pieces.push(reusable!.pieces[i]);
-        parts.push({ notes: reusable!.notes, piece: i });
-        count.pieces++;
+  const got: Gathered = { pieces: 0, notes: 0, files: [], skipped: [...walked.skipped], formats: Object.fromEntries(SCORE_FORMATS.map((f) => [f, { files: 0, pieces: 0, skipped: 0 }])) as Record<ScoreFormat, FormatCount>, reparsed: tasks.length, reused: slots.length - tasks.length };
+  const hand = (pieces: PieceInfo[], notes: FlatNotes): void => {
+    sink(pieces, notes);
+    got.pieces += pieces.length;
+    got.notes += notes.at.length;
+  };
+  /** Files read and not yet handed on, by task. */
+  const waiting = new Map<number, ParsedFile>();
+  let nextSlot = 0;
+  const handReady = (): void => {
+    for (; nextSlot < slots.length; nextSlot++) {
+      const s = slots[nextSlot];
+      const fresh = s.reuse ? null : waiting.get(s.task);
+      if (!s.reuse && !fresh) return;
+      waiting.delete(s.task);
+      const error = fresh ? fresh.error : s.reuse!.error;
+      const count = got.formats[formatOf(s.path)!];
+      count.files++;
+      got.files.push({ path: s.path, size: s.size, mtimeMs: s.mtimeMs, sha256: fresh ? fresh.sha256 : s.reuse!.sha256, error });
+      if (error !== null) {
+        got.skipped.push({ file: s.path, error });
+        count.skipped++;
+      } else if (fresh) {
+        hand(fresh.pieces, fresh.notes!);
+        got.skipped.push(...fresh.skipped);
+        count.pieces += fresh.pieces.length;
+      } else {
+        const reused = oldPieces.get(s.path) ?? [];
+        if (reused.length) hand(reused.map((i) => reusable!.pieces[i]), joinNotes(reused.map((piece) => ({ notes: reusable!.notes, piece }))));
+        count.pieces += reused.length;
       }
     }
+  };
+  handReady();
+  const bar = progressBar('indexing');
+  await parseAll(tasks, options.fileSeconds * 1000, (i, r) => {
+    waiting.set(i, r);
+    handReady();
+  }, bar.tick);
+  bar.stop();
+  if (got.pieces === 0) {
+    for (const s of got.skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
+    throw new UsageError(`corpus build ${dir}: no readable score file (MIDI, MusicXML or ABC) with notes under it${got.skipped.length ? ` (${got.skipped.length} skipped)` : ''}`);
   }
-  if (pieces.length === 0) {
-    for (const s of skipped) process.stderr.write(`earwitness: skipped ${s.file}: ${s.error}\n`);
-    throw new UsageError(`corpus build ${dir}: no readable score file (MIDI, MusicXML or ABC) with notes under it${skipped.length ? ` (${skipped.length} skipped)` : ''}`);
-  }
-  return { pieces, notes: joinNotes(parts), files, skipped, formats, reparsed: tasks.length, reused: slots.length - tasks.length };
+  return got;
 }
 
 const checkFolder = (dir: string): void => {
@@ -231,15 +249,21 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
   const out = options.out ?? join(dir, INDEX_NAME);
   const percussion = options.percussion ?? false;
   const old = previous(out);
-  const got = await gather(dir, old && old.percussion === percussion ? old : null, { percussion, fileSeconds: options.fileSeconds });
-  const contents = indexContents({ notes: got.notes, pieces: got.pieces, files: got.files, percussion });
-  writeIndexFile(out, contents);
+  const builder = new IndexBuilder(out, { percussion });
+  let got: Gathered;
+  try {
+    got = await gather(dir, old && old.percussion === percussion ? old : null, { percussion, fileSeconds: options.fileSeconds }, (pieces, notes) => builder.add(pieces, notes));
+    builder.finish({ files: got.files });
+  } catch (e) {
+    builder.abort();
+    throw e;
+  }
   const baselines = options.baseline ? baselinesOf(out, percussion, options.baseline) : [];
   // Written again with the baselines, from the file just written: read back, not built again.
   if (baselines.length) writeIndexFile(out, { ...readIndexFile(out, PITCH_MODES), baselines });
   return {
-    pieces: got.pieces.length,
-    notes: got.notes.at.length,
+    pieces: got.pieces,
+    notes: got.notes,
     skipped: got.skipped,
     out,
     seconds: secondsSince(began),
@@ -263,10 +287,13 @@ export async function buildCorpusShards(dir: string, options: { out?: string; pe
   const began = performance.now();
   checkFolder(dir);
   const percussion = options.percussion ?? false;
-  const got = await gather(dir, null, { percussion, fileSeconds: options.fileSeconds });
-  if (options.shards > got.pieces.length) throw new UsageError(`--shards ${options.shards}: the corpus has only ${got.pieces.length} pieces; give at most that many shards`);
-  const written = writeShards({ manifest: options.out ?? join(dir, MANIFEST_NAME), name: basename(resolve(dir)), shards: options.shards, notes: got.notes, pieces: got.pieces, files: got.files, percussion });
-  return { ...written, pieces: got.pieces.length, notes: got.notes.at.length, skipped: got.skipped, seconds: secondsSince(began) };
+  // Shards of similar note counts need every piece's count first: the pieces are gathered in memory.
+  const parts: { pieces: PieceInfo[]; notes: FlatNotes }[] = [];
+  const got = await gather(dir, null, { percussion, fileSeconds: options.fileSeconds }, (pieces, notes) => parts.push({ pieces, notes }));
+  if (options.shards > got.pieces) throw new UsageError(`--shards ${options.shards}: the corpus has only ${got.pieces} pieces; give at most that many shards`);
+  const notes = joinNotes(parts.flatMap((part) => part.pieces.map((_, piece) => ({ notes: part.notes, piece }))));
+  const written = writeShards({ manifest: options.out ?? join(dir, MANIFEST_NAME), name: basename(resolve(dir)), shards: options.shards, notes, pieces: parts.flatMap((part) => part.pieces), files: got.files, percussion });
+  return { ...written, pieces: got.pieces, notes: got.notes, skipped: got.skipped, seconds: secondsSince(began) };
 }
 
 const plural = (n: number, one: string, many = `${one}s`): string => `${n} ${n === 1 ? one : many}`;
