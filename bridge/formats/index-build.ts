@@ -18,7 +18,7 @@
  *   build.add(piecesOfOneFile, theirNotes);   // … for every file, in order
  *   build.finish({ files });                  // → { pieces: 120, notes: 81234 }
  */
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync, readdirSync, rmSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { PITCH_MODES, type PitchMode } from '../../core/note.js';
 import { type FlatNotes, notePoints } from '../../core/flat-notes.js';
@@ -50,6 +50,28 @@ const DEFAULT_SORT_BYTES = 2 ** 30;
 /** Notes an index holds at most: postings are 32-bit note numbers. */
 const MAX_NOTES = 2 ** 32 - 1;
 
+/** A build's spill folder: this, its process id, a dash and a random suffix. */
+const SPILL_PREFIX = '.earwitness-build-';
+
+const alive = (pid: number): boolean => {
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (e) {
+    return (e as NodeJS.ErrnoException).code === 'EPERM';
+  }
+};
+
+/** Removes the spill folders in `dir` left by builds whose process is gone (stopped by a signal, say); returns their paths. */
+function removeStaleSpills(dir: string): string[] {
+  const stale = readdirSync(dir).filter((name) => {
+    const pid = /^\.earwitness-build-(\d+)-/.exec(name)?.[1];
+    return pid !== undefined && Number(pid) !== process.pid && !alive(Number(pid));
+  });
+  for (const name of stale) rmSync(join(dir, name), { recursive: true, force: true });
+  return stale.map((name) => join(dir, name));
+}
+
 const bytesOf = (a: ArrayBufferView): Uint8Array => new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
 
 export class IndexBuilder {
@@ -63,14 +85,19 @@ export class IndexBuilder {
   private readonly noteFiles: AppendFile[];
   private readonly spills: Record<PitchMode, { triples: BucketSpill; fingerprints: BucketSpill; points: number }>;
   private done = false;
+  /** Spill folders of builds stopped before they finished (their process is gone), found beside the index and removed. */
+  readonly staleRemoved: string[];
+  /** Told of each sorted part written, its records. */
+  private wrote: (records: number) => void = () => {};
   private removed = false;
 
   constructor(readonly file: string, private readonly options: IndexBuildOptions) {
     this.shape = options.shape ?? CORPUS_TRIPLES;
     this.fingerprint = options.fingerprint ?? FINGERPRINT_SHAPE;
     this.sortBytes = options.sortBytes ?? DEFAULT_SORT_BYTES;
-    // Beside the index, on the disk the user chose for it: the spills are about as large as the index.
-    this.dir = mkdtempSync(join(dirname(file), '.earwitness-build-'));
+    // Beside the index, on the disk the user chose for it: the spills take about twice the index's size.
+    this.staleRemoved = removeStaleSpills(dirname(file));
+    this.dir = mkdtempSync(join(dirname(file), `${SPILL_PREFIX}${process.pid}-`));
     this.noteFiles = NOTE_SECTIONS.slice(1).map(([tag]) => new AppendFile(join(this.dir, tag)));
     const spill = (mode: PitchMode) => ({
       triples: new BucketSpill(join(this.dir, `${mode}-triples`), TRIPLE_LAYOUT),
@@ -106,10 +133,13 @@ export class IndexBuilder {
     }
   }
 
-  /** Writes the index file and removes the spills. */
-  finish(rest: { files: FileFingerprint[]; shard?: ShardOf }): IndexBuilt {
+  /** Writes the index file and removes the spills; `progress` is told the records written of all there are, bucket by bucket. */
+  finish(rest: { files: FileFingerprint[]; shard?: ShardOf }, progress: (done: number, total: number) => void = () => {}): IndexBuilt {
     if (this.done) throw new Error(`${this.file}: the build already finished`);
     this.done = true;
+    const total = PITCH_MODES.reduce((n, mode) => n + this.spills[mode].triples.count + this.spills[mode].fingerprints.count, 0);
+    let written = 0;
+    this.wrote = (records) => progress((written += records), total);
     const out = new IndexWriter(this.file, NOTE_SECTION_COUNT + PITCH_MODES.length * MODE_SECTION_COUNT);
     try {
       const contents = { shape: this.shape, fingerprint: this.fingerprint, percussion: this.options.percussion, pieces: this.pieces, files: rest.files, ...(rest.shard ? { shard: rest.shard } : {}) };
@@ -195,6 +225,7 @@ export class IndexBuilder {
       keys.append(keyType.from(firsts.map((i) => keyAt(sorted, i))));
       starts.append(Uint32Array.from(firsts, (i) => before + i));
       write(sorted);
+      this.wrote(n);
       before += n;
       // The last key alone, copied: the part itself is let go.
       if (n > 0) last = { hi: sorted.hi.slice(n - 1), lo: sorted.lo ? sorted.lo.slice(n - 1) : null, fields: [] };

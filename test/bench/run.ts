@@ -1,13 +1,15 @@
 /**
- * The matching benchmark: `npm run bench` (all corpora, tens of minutes) or
- * `npm run bench -- --quick` (100k and 1M notes, about a minute).
+ * The matching benchmark: `npm run bench` (all corpora, tens of minutes),
+ * `npm run bench -- --quick` (100k and 1M notes, about a minute) or
+ * `npm run bench -- --large` (100M notes alone: its time and memory are in
+ * test/bench/RESULTS.md).
  * Deterministic corpora and queries; timings are wall-clock on whatever else
  * the machine is doing (the load average is printed beside them) and CPU
  * time of this process. Prints a table per corpus, then as its last line one
  * JSON object with every figure, which it also adds to test/bench/RESULTS.md.
  *
- * Each corpus: build the index (triples and fingerprints, both pitch
- * dimensions, as `corpus build` does) and write it to a file, load it back,
+ * Each corpus: build the index as `corpus build` does (streamed: notes,
+ * triples and fingerprints, both pitch dimensions), load it back,
  * then score 16-beat windows (hop 8) of queries cut from the corpus —
  * verbatim transposed copies, copies with 20% of notes altered, copies played
  * ±0.06 beat with 10% dropped, copies at 0.75×, 1.5× and 2× the tempo — and
@@ -34,17 +36,18 @@ import type { MatchWindow, WindowMatch, WindowMatcher } from '../../core/match.j
 import { windows } from '../../core/windows.js';
 import { percentile, seededRandom } from '../../core/stats.js';
 import { type FlatNotes, notePoints } from '../../core/flat-notes.js';
-import { type FlatPoints, CORPUS_TRIPLES, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
-import { type StoredFingerprints, FINGERPRINT_SHAPE, buildFingerprints } from '../../core/fingerprint.js';
+import { type FlatPoints, CORPUS_TRIPLES, corpusIndex, flattenPoints } from '../../core/triple-index.js';
+import { type StoredFingerprints, FINGERPRINT_SHAPE } from '../../core/fingerprint.js';
 import { DEFAULT_FILTER } from '../../core/index-match.js';
 import { type CandidateKind, type MatchCorpus, type MatchMode, windowMatcher } from '../../core/pipeline.js';
 import { LIVE_TABLE_BITS, LiveMatcher } from '../../core/live-match.js';
 import { idleCollector } from '../../bridge/daemon/idle-collect.js';
 import { originalityReport } from '../../core/report.js';
-import { readIndexFile, writeIndexFile } from '../../bridge/formats/index-file.js';
+import { readIndexFile } from '../../bridge/formats/index-file.js';
+import { IndexBuilder } from '../../bridge/formats/index-build.js';
 import { decodeChorale } from '../helpers/jsb.js';
 import { recordResults } from './results.js';
-import { synthCorpus, unrelated } from './synthetic.js';
+import { synthPieces, unrelated } from './synthetic.js';
 import { jsbModeCosts, modeCostTable } from './modes.js';
 
 const W = 16;
@@ -90,6 +93,8 @@ export interface ModeRow {
   recall: { atLeast05: { share: number | null; windows: number }; atLeast03: { share: number | null; windows: number } };
   /** Windows where this source scored above the reference: must be 0. */
   aboveReference: number;
+  /** Windows of verbatim (transposed) copies scored 1, as every one of them should be: recall where no reference is run. */
+  verbatimFound: { found: number; windows: number };
   /** Tempo-free only: copies at another tempo whose piece was found with the time scale within 2%. */
   tempo?: { found: number; windows: number };
 }
@@ -98,7 +103,10 @@ export interface CorpusRow {
   corpus: string;
   notes: number;
   pieces: number;
+  /** Seconds to index the corpus as `corpus build` does, streamed (making the synthetic pieces not counted)… */
   buildSeconds: number;
+  /** …and the process's peak resident memory by then, MB (the build's own in a --large run, its only corpus). */
+  buildPeakMB: number;
   loadSeconds: number;
   /** Resident memory of that fresh process once loaded (the median run's), MB. */
   loadedMB: number;
@@ -181,11 +189,42 @@ function notesOfPoints(flat: FlatPoints): FlatNotes {
 
 const pieceInfo = (i: number): CorpusPoints['pieces'][number] => ({ path: `p${i}.mid`, title: null, beats: 0, key: { tonic: 'C', mode: 'major', fifths: 0, correlation: 0 }, notes: [] });
 
-/** The corpus as flat notes, and the queries cut from it; the Point objects are left behind so they cannot slow what follows. */
-function prepare(make: () => Point[][], perKind: number): { notes: FlatNotes; pieces: number; played: Point[][]; probes: Probe[] } {
-  const corpus = make();
-  const notes = notesOfPoints(flattenPoints({ mode: 'chromatic', pieces: corpus.map((_, i) => pieceInfo(i)), points: corpus }));
-  return { notes, pieces: corpus.length, ...queries(corpus, perKind, 7) };
+/** Pieces handed to the index writer at a time. */
+const BATCH = 64;
+
+/**
+ * The corpus indexed as `corpus build` indexes it (streamed: pieces to spill
+ * files as they come, then the file written), and the queries cut from its
+ * first `keep` pieces; the Point objects of the rest are let go as soon as
+ * they are indexed, so a corpus larger than memory can be benchmarked.
+ */
+function buildIndex(file: string, pieces: Iterable<Point[]>, options: { perKind: number; keep: number }): { pieces: number; seconds: number; played: Point[][]; probes: Probe[] } {
+  const t0 = performance.now();
+  let making = 0;
+  const builder = new IndexBuilder(file, { percussion: false });
+  const kept: Point[][] = [];
+  let batch: Point[][] = [];
+  let count = 0;
+  const made = pieces[Symbol.iterator]();
+  const flush = (): void => {
+    const infos = batch.map((_, i) => pieceInfo(count - batch.length + i)).map(({ notes: _, ...info }) => info);
+    builder.add(infos, notesOfPoints(flattenPoints({ mode: 'chromatic', pieces: infos.map((info) => ({ ...info, notes: [] })), points: batch })));
+    batch = [];
+  };
+  for (;;) {
+    const m0 = performance.now();
+    const next = made.next();
+    making += ms(m0);
+    if (next.done) break;
+    const piece = next.value;
+    if (kept.length < options.keep) kept.push(piece);
+    batch.push(piece);
+    count++;
+    if (batch.length === BATCH) flush();
+  }
+  if (batch.length) flush();
+  builder.finish({ files: [] });
+  return { pieces: count, seconds: (ms(t0) - making) / 1000, ...queries(kept, options.perKind, 7) };
 }
 
 /** Seconds a fresh process takes to load the index (chromatic postings) ready to match, as `--corpus FILE` does, and its resident memory then. */
@@ -256,6 +295,7 @@ function modeRows(corpus: MatchCorpus, probes: readonly Probe[], mode: MatchMode
     return { share: strong.length ? round(strong.filter((s) => (indexed[s.i].match?.score ?? 0) >= s.score - 1e-12).length / strong.length, 4) : null, windows: strong.length };
   };
   const tempo = mode.tempoFree ? probes.map((p, i) => ({ p, i })).filter(({ p }) => p.kind === 'tempo') : [];
+  const verbatim = probes.map((p, i) => ({ p, i })).filter(({ p }) => p.kind === 'verbatim');
   const sameWindows = latency(sampled.map((s) => indexed[s.i].ms));
   const refLatency = latency(sampled.map((s) => s.ms));
   const base = { mode: name };
@@ -269,9 +309,10 @@ function modeRows(corpus: MatchCorpus, probes: readonly Probe[], mode: MatchMode
       speedup: sampled.length ? round(refLatency.p50Ms / sameWindows.p50Ms, 1) : null,
       recall: { atLeast05: recallAt(0.5), atLeast03: recallAt(0.3) },
       aboveReference: sampled.filter((s) => (indexed[s.i].match?.score ?? 0) > s.score + 1e-12).length,
+      verbatimFound: { found: verbatim.filter(({ i }) => (indexed[i].match?.score ?? 0) >= 1 - 1e-12).length, windows: verbatim.length },
       ...(mode.tempoFree ? { tempo: { found: tempo.filter(({ p, i }) => tempoFound(p, indexed[i].match)).length, windows: tempo.length } } : {}),
     },
-    { ...base, candidates: 'every', latency: refLatency, windowsPerCpuSecond: Math.round(refPerCpuSecond), reportWindowsPerCpuSecond: null, speedup: 1, recall: { atLeast05: { share: 1, windows: 0 }, atLeast03: { share: 1, windows: 0 } }, aboveReference: 0 },
+    { ...base, candidates: 'every', latency: refLatency, windowsPerCpuSecond: Math.round(refPerCpuSecond), reportWindowsPerCpuSecond: null, speedup: 1, recall: { atLeast05: { share: 1, windows: 0 }, atLeast03: { share: 1, windows: 0 } }, aboveReference: 0, verbatimFound: { found: sampled.filter((x) => probes[x.i].kind === 'verbatim' && x.score >= 1 - 1e-12).length, windows: sampled.filter((x) => probes[x.i].kind === 'verbatim').length } },
   ];
   return sampled.length ? rows : rows.slice(0, 1);
 }
@@ -327,25 +368,14 @@ function reviewRow(corpus: MatchCorpus, pieces: number, played: readonly Point[]
   return { notes: notes.length, windows: r.windows + r.tooShort, seconds: round(ms(t0) / 1000, 2), cpuSeconds: round((cpuMs() - c0) / 1000, 2) };
 }
 
-function benchCorpus(name: string, make: () => Point[][], options: { perKind: number; referenceSeconds: number; review: boolean }): CorpusRow {
-  const { notes, pieces, played, probes } = prepare(make, options.perKind);
+function benchCorpus(name: string, make: () => Iterable<Point[]>, options: { perKind: number; referenceSeconds: number; review: boolean; keep?: number }): CorpusRow {
   const dir = mkdtempSync(join(tmpdir(), 'ew-bench-'));
   const file = join(dir, 'index');
   try {
-    const t0 = performance.now();
-    const modes = ['chromatic', 'morphetic'] as const;
-    const points = modes.map((m) => notePoints(notes, m));
-    writeIndexFile(file, {
-      shape: CORPUS_TRIPLES,
-      fingerprint: FINGERPRINT_SHAPE,
-      percussion: false,
-      pieces: Array.from({ length: pieces }, (_, i) => pieceInfo(i)).map(({ notes: _, ...info }) => info),
-      files: [],
-      notes,
-      postings: { chromatic: buildTriples(points[0]), morphetic: buildTriples(points[1]) },
-      fingerprints: { chromatic: buildFingerprints(points[0]), morphetic: buildFingerprints(points[1]) },
-    });
-    const buildSeconds = ms(t0) / 1000;
+    const built = buildIndex(file, make(), { perKind: options.perKind, keep: options.keep ?? Infinity });
+    const { played, probes, pieces } = built;
+    // The build's own peak: it runs first in a --large run, whose only corpus this is.
+    const buildPeakMB = Math.round(process.resourceUsage().maxRSS / 1024);
     const bytes = statSync(file).size;
     // The median of three: the first read of a file just written can wait on the disk, as a user's load (long after the build) does not.
     const load = [freshLoad(file), freshLoad(file), freshLoad(file)].sort((a, b) => a.seconds - b.seconds)[1];
@@ -362,7 +392,8 @@ function benchCorpus(name: string, make: () => Point[][], options: { perKind: nu
       corpus: name,
       notes: flat.at.length,
       pieces,
-      buildSeconds: round(buildSeconds, 2),
+      buildSeconds: round(built.seconds, 2),
+      buildPeakMB,
       loadSeconds: round(load.seconds, 3),
       loadedMB: Math.round(load.residentMB),
       indexBytesPerNote: round(bytes / flat.at.length, 1),
@@ -386,13 +417,13 @@ function table(r: CorpusRow): string {
   const pct = (x: number | null): string => (x === null ? '—' : `${round(100 * x, 1)}%`);
   const lines = [
     `${r.corpus}: ${r.notes} notes in ${r.pieces} pieces`,
-    `  build ${r.buildSeconds} s (triples and fingerprints, both pitch dimensions, written), load ${r.loadSeconds} s (${r.loadedMB} MB resident then), ${r.indexBytesPerNote} bytes/note on disk, resident ${r.residentMB} MB`,
-    '  | mode | candidates | p50 | p99 | windows | per CPU second | with distinctiveness | speed-up | recall ≥ 0.5 | above reference | tempo copies found |',
-    '  | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |',
+    `  build ${r.buildSeconds} s, peak ${r.buildPeakMB} MB resident (notes, triples and fingerprints, both pitch dimensions, streamed and written), load ${r.loadSeconds} s (${r.loadedMB} MB resident then), ${r.indexBytesPerNote} bytes/note on disk, resident ${r.residentMB} MB`,
+    '  | mode | candidates | p50 | p99 | windows | per CPU second | with distinctiveness | speed-up | recall ≥ 0.5 | above reference | verbatim copies scored 1 | tempo copies found |',
+    '  | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |',
     ...r.modes.map(
       (m) =>
         `  | ${m.mode} | ${m.candidates} | ${m.latency.p50Ms} ms | ${m.latency.p99Ms} ms | ${m.latency.windows} | ${m.windowsPerCpuSecond} | ${m.reportWindowsPerCpuSecond ?? "—"} | ${m.speedup ?? '—'}× | ` +
-        `${m.candidates === 'every' ? '—' : `${pct(m.recall.atLeast05.share)} of ${m.recall.atLeast05.windows}`} | ${m.candidates === 'every' ? '—' : m.aboveReference} | ${m.tempo ? `${m.tempo.found} of ${m.tempo.windows}` : '—'} |`,
+        `${m.candidates === 'every' ? '—' : `${pct(m.recall.atLeast05.share)} of ${m.recall.atLeast05.windows}`} | ${m.candidates === 'every' ? '—' : m.aboveReference} | ${m.verbatimFound.found} of ${m.verbatimFound.windows} | ${m.tempo ? `${m.tempo.found} of ${m.tempo.windows}` : '—'} |`,
     ),
     ...r.live.map((l) => `  live per note, ${l.mode}: CPU p50 ${l.p50Ms} ms, p99 ${l.p99Ms} ms, max ${l.maxMs} ms (${l.notes} notes); collecting after each, ${l.collectMs} ms a note`),
   ];
@@ -404,12 +435,17 @@ function main(): void {
   const quick = process.argv.includes('--quick');
   const began = performance.now();
   const corpora: CorpusRow[] = [];
-  const plan: { name: string; make: () => Point[][]; needs?: string; perKind: number; referenceSeconds: number; review: boolean }[] = [
-    { name: 'synthetic 100k', make: () => synthCorpus({ notes: 100_000, seed: 1 }), perKind: quick ? 4 : 12, referenceSeconds: quick ? 6 : 150, review: false },
-    { name: 'synthetic 1M', make: () => synthCorpus({ notes: 1_000_000, seed: 2 }), perKind: quick ? 4 : 12, referenceSeconds: quick ? 3 : 300, review: true },
-  ];
-  if (!quick) {
-    plan.push({ name: 'synthetic 10M', make: () => synthCorpus({ notes: 10_000_000, seed: 3 }), perKind: 12, referenceSeconds: 400, review: false });
+  // `--large`: the 100M row alone (`--large-notes N` for another size): queries cut from its first pieces, no reference (days of brute force).
+  const large = process.argv.includes('--large');
+  const largeNotes = process.argv.includes('--large-notes') ? Number(process.argv[process.argv.indexOf('--large-notes') + 1]) : 100_000_000;
+  const plan: { name: string; make: () => Iterable<Point[]>; needs?: string; perKind: number; referenceSeconds: number; review: boolean; keep?: number }[] = large
+    ? [{ name: `synthetic ${largeNotes >= 1e6 ? `${largeNotes / 1e6}M` : largeNotes}`, make: () => synthPieces({ notes: largeNotes, seed: 4 }), perKind: 12, referenceSeconds: 0, review: false, keep: 2_000 }]
+    : [
+        { name: 'synthetic 100k', make: () => synthPieces({ notes: 100_000, seed: 1 }), perKind: quick ? 4 : 12, referenceSeconds: quick ? 6 : 150, review: false },
+        { name: 'synthetic 1M', make: () => synthPieces({ notes: 1_000_000, seed: 2 }), perKind: quick ? 4 : 12, referenceSeconds: quick ? 3 : 300, review: true },
+      ];
+  if (!quick && !large) {
+    plan.push({ name: 'synthetic 10M', make: () => synthPieces({ notes: 10_000_000, seed: 3 }), perKind: 12, referenceSeconds: 400, review: false });
     plan.push({ name: 'JSB chorales', make: jsbCorpus, needs: JSB, perKind: 12, referenceSeconds: 120, review: false });
   }
   // `--only NAME` runs one corpus of the plan; `--reference-seconds N` gives the reference N seconds a corpus instead.
@@ -425,10 +461,11 @@ function main(): void {
     corpora.push(row);
     process.stdout.write(table(row) + '\n\n');
   }
-  const jsbModes = quick || only !== null ? [] : jsbModeCosts(40);
+  const jsbModes = quick || large || only !== null ? [] : jsbModeCosts(40);
   if (jsbModes.length) process.stdout.write(`Matching modes on the JSB subset (40 corpus chorales), distinctiveness counted:\n${modeCostTable(jsbModes)}\n\n`);
   const summary = {
     quick,
+    large,
     date: new Date().toISOString(),
     seconds: Math.round(ms(began) / 1000),
     loadAverage: loadavg().map((x) => round(x, 2)),

@@ -80,19 +80,19 @@ export function synthPiece(rand: () => number, library: readonly Figure[], beats
   return points.filter((p, i) => i === 0 || comparePoints(points[i - 1], p) !== 0);
 }
 
-/** Pieces of 150–350 beats until the corpus holds at least `notes` points. */
-export function synthCorpus({ notes, seed }: { notes: number; seed: number }): Point[][] {
+/** Pieces of 150–350 beats, one at a time, until they hold at least `notes` points: a corpus larger than memory is made as it is indexed. */
+export function* synthPieces({ notes, seed }: { notes: number; seed: number }): Generator<Point[]> {
   const rand = seededRandom(seed);
   const library = motifs(seed + 1);
-  const pieces: Point[][] = [];
-  let total = 0;
-  while (total < notes) {
+  for (let total = 0; total < notes; ) {
     const piece = synthPiece(rand, library, 150 + Math.floor(rand() * 200));
-    pieces.push(piece);
     total += piece.length;
+    yield piece;
   }
-  return pieces;
 }
+
+/** The pieces of `synthPieces`, all at once. */
+export const synthCorpus = (size: { notes: number; seed: number }): Point[][] => [...synthPieces(size)];
 
 /** Unrelated material: a walk of the same kind from another seed and another motif library. */
 export function unrelated(seed: number, beats: number): Point[] {

@@ -250,13 +250,27 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
   const percussion = options.percussion ?? false;
   const old = previous(out);
   const builder = new IndexBuilder(out, { percussion });
+  for (const stale of builder.staleRemoved) process.stderr.write(`earwitness: removed ${stale}, the spill files of a build that was stopped\n`);
+  // Stopped while reading, the build removes its spill files; stopped while writing (one long synchronous step), the next build beside it does.
+  const stop = (signal: NodeJS.Signals): void => {
+    builder.abort();
+    process.stderr.write(`earwitness: corpus build stopped by ${signal}; the index was not changed\n`);
+    // The shell's code for a process ended by a signal: 128 + its number.
+    process.exit(signal === 'SIGINT' ? 130 : 143);
+  };
+  process.once('SIGINT', stop).once('SIGTERM', stop);
   let got: Gathered;
   try {
     got = await gather(dir, old && old.percussion === percussion ? old : null, { percussion, fileSeconds: options.fileSeconds }, (pieces, notes) => builder.add(pieces, notes));
-    builder.finish({ files: got.files });
+    process.off('SIGINT', stop).off('SIGTERM', stop);
+    const bar = progressBar('writing');
+    builder.finish({ files: got.files }, bar.tick);
+    bar.stop();
   } catch (e) {
     builder.abort();
     throw e;
+  } finally {
+    process.off('SIGINT', stop).off('SIGTERM', stop);
   }
   const baselines = options.baseline ? baselinesOf(out, percussion, options.baseline) : [];
   // Written again with the baselines, from the file just written: read back, not built again.

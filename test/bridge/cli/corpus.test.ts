@@ -8,7 +8,7 @@
  *   npx tsc -p tsconfig.json && npx vitest run test/bridge/cli/corpus.test.ts
  */
 import { spawnSync } from 'node:child_process';
-import { copyFileSync, cpSync, existsSync, mkdtempSync, readFileSync, rmSync, utimesSync, writeFileSync } from 'node:fs';
+import { copyFileSync, cpSync, existsSync, mkdtempSync, readFileSync, readdirSync, rmSync, utimesSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import tonejs from '@tonejs/midi';
@@ -65,6 +65,8 @@ describe('corpus build', () => {
     ]);
     expect(typeof s.seconds).toBe('number');
     expect(existsSync(index)).toBe(true);
+    // The build's spill files are gone with it.
+    expect(readdirSync(corpusDir).filter((name) => name.startsWith('.earwitness-build-'))).toEqual([]);
   });
 
   it('an unchanged rebuild re-parses nothing; a changed file is read again; a touched but identical one is not', () => {
@@ -87,6 +89,7 @@ describe('corpus build', () => {
     expect(r.err).toMatch(/no readable score file \(MIDI, MusicXML or ABC\) with notes/);
     expect(r.err).toMatch(/skipped more\/tune-1\.mid: took longer than 0\.001 s to read, so it was stopped/);
     expect(existsSync(out)).toBe(false);
+    expect(readdirSync(dir).filter((name) => name.startsWith('.earwitness-build-'))).toEqual([]);
   });
 
   it('refuses a folder that does not exist', () => {

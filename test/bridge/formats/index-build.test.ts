@@ -9,7 +9,8 @@
  * @example
  *   npx vitest run test/bridge/formats/index-build.test.ts
  */
-import { existsSync, mkdtempSync, readdirSync, rmSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, mkdtempSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -91,6 +92,20 @@ describe('an index written streamed', () => {
     builder.abort();
     expect(readdirSync(dir).filter((f) => f.startsWith('.earwitness-build-'))).toEqual([]);
     expect(existsSync(join(dir, 'given-up'))).toBe(false);
+  });
+
+  it('removes the spill folders of builds whose process is gone, and only those', () => {
+    const place = mkdtempSync(join(dir, 'stale-'));
+    const gone = spawnSync(process.execPath, ['-e', '0']).pid!;
+    const [stale, living] = [join(place, `.earwitness-build-${gone}-abc123`), join(place, `.earwitness-build-${process.ppid}-def456`)];
+    mkdirSync(stale);
+    mkdirSync(living);
+    writeFileSync(join(stale, 'chromatic-triples'), 'spilled');
+    const builder = new IndexBuilder(join(place, 'index'), { percussion: false });
+    builder.abort();
+    expect(builder.staleRemoved).toEqual([stale]);
+    expect(existsSync(stale)).toBe(false);
+    expect(existsSync(living)).toBe(true);
   });
 
   it('refuses notes that do not match the pieces given with them', () => {
