@@ -27,7 +27,7 @@
  */
 import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains } from './note.js';
 import { type MatchWindow, type WindowMatch, betterMatch } from './match.js';
-import { type FlatPoints, type RunReader, runsOf } from './triple-index.js';
+import { type FlatPoints, type RunReader, pieceAt, runsOf } from './triple-index.js';
 import { toleranceMatching } from './tolerance.js';
 import { type Span, type Verifier, excerptLines } from './verify.js';
 import type { CandidateSource } from './index-match.js';
@@ -222,9 +222,6 @@ function posted(flat: FlatPoints, table: StoredFingerprints): Posted {
   const gap = toGrains(table.shape.minGap);
   const out = new Int32Array(3 * starts[table.keys.length]);
   const gathered = new Uint8Array(table.keys.length);
-  // Each point's piece, once per table: a triple's first note may lie in any piece.
-  const pieceOf = new Int32Array(at.length);
-  for (let p = 0; p + 1 < offsets.length; p++) pieceOf.fill(p, offsets[p], offsets[p + 1]);
   const made: Posted = {
     posted: out,
     gather(k) {
@@ -236,7 +233,7 @@ function posted(flat: FlatPoints, table: StoredFingerprints): Posted {
         const s = from + i;
         const ca = anchors[i];
         if (ca >= at.length) throw new RangeError(`fingerprint ${s} names point ${ca}, but the index holds ${at.length} points`);
-        const piece = pieceOf[ca];
+        const piece = pieceAt(offsets, ca);
         const end = offsets[piece + 1];
         const cb = firstAfter(at, ca, gap, end) + (codes[i] >> 4);
         const cc = firstAfter(at, cb, gap, end) + (codes[i] & 15);

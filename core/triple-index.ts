@@ -174,14 +174,13 @@ export function buildTriples(points: FlatPoints, shape: TripleShape = CORPUS_TRI
   return { points, shape, keys, starts, anchors: sorted.fields[0] as Uint32Array };
 }
 
-/** An index ready to query: the postings, a hash table over their keys, and each point packed for voting. */
+/** An index ready to query: the postings, a hash table over their keys, and the voted postings' points beside them. */
 export interface CorpusIndex extends StoredPostings {
-  /** Point i is packed[2i] = ontime, packed[2i + 1] = piece × 256 + pitch. */
-  packed: Int32Array;
   /**
-   * Posting s's anchor point packed as in `packed`, so voting reads postings
-   * in order instead of hopping over the points: filled in for key position k
-   * by `gather(k)`, the first time it is voted from, so loading pays nothing.
+   * Posting s's anchor point: posted[2s] = ontime, posted[2s + 1] = piece ×
+   * 256 + pitch, so voting reads postings in order instead of hopping over
+   * the points: filled in for key position k by `gather(k)`, the first time it
+   * is voted from, so loading pays nothing.
    */
   posted: Int32Array;
   gather(k: number): void;
@@ -197,8 +196,8 @@ const hashKey = (key: number, bits: number): number => {
 };
 
 /**
- * Adds what queries need to stored postings: linear in the points and keys,
- * so loading stays fast. Anchors given as a RunReader are read a key at a
+ * Adds what queries need to stored postings: linear in the keys, nothing per
+ * point, so loading stays fast. Anchors given as a RunReader are read a key at a
  * time, the first time the key votes; one naming a point the index does not
  * hold (a damaged file) is a RangeError.
  */
@@ -215,14 +214,6 @@ export function corpusIndex(postings: StoredPostings): CorpusIndex {
   const pieces = points.offsets.length - 1;
   if (pieces > MAX_PIECES) throw new RangeError(`an index holds at most ${MAX_PIECES} pieces, this corpus has ${pieces}`);
   const { at, pitch, offsets } = points;
-  const packed = new Int32Array(at.length * 2);
-  for (let p = 0; p < pieces; p++) {
-    const end = offsets[p + 1];
-    for (let i = offsets[p]; i < end; i++) {
-      packed[2 * i] = at[i];
-      packed[2 * i + 1] = (p << 8) | pitch[i];
-    }
-  }
   const { starts } = postings;
   const run = runsOf(postings.anchors);
   // Zero pages cost no memory until written: only the keys voted from are ever gathered.
@@ -230,7 +221,6 @@ export function corpusIndex(postings: StoredPostings): CorpusIndex {
   const gathered = new Uint8Array(keys.length);
   return {
     ...postings,
-    packed,
     posted,
     pieces,
     gather(k) {
@@ -240,8 +230,8 @@ export function corpusIndex(postings: StoredPostings): CorpusIndex {
       for (let i = 0; i < anchors.length; i++) {
         const a = anchors[i];
         if (a >= at.length) throw new RangeError(`posting ${from + i} of the triple index names point ${a}, but the index holds ${at.length} points`);
-        posted[2 * (from + i)] = packed[2 * a];
-        posted[2 * (from + i) + 1] = packed[2 * a + 1];
+        posted[2 * (from + i)] = at[a];
+        posted[2 * (from + i) + 1] = (pieceAt(offsets, a) << 8) | pitch[a];
       }
       gathered[k] = 1;
     },
@@ -253,6 +243,22 @@ export function corpusIndex(postings: StoredPostings): CorpusIndex {
       }
     },
   };
+}
+
+/**
+ * The piece point i belongs to, by binary search of the pieces' offsets:
+ * asked once per posting gathered, so no array of every point's piece is
+ * made (at a hundred million points it would be 400 MB, made at every load).
+ */
+export function pieceAt(offsets: Uint32Array, i: number): number {
+  let lo = 0;
+  let hi = offsets.length - 2;
+  while (lo < hi) {
+    const mid = (lo + hi + 1) >>> 1;
+    if (offsets[mid] <= i) lo = mid;
+    else hi = mid - 1;
+  }
+  return lo;
 }
 
 /** Index of the first point in [from, to) with ontime at or after `t` grains. */

@@ -17,7 +17,7 @@ import type { WindowMatch, WindowMatcher } from '../../core/match.js';
 import { exactMatcher, indexedMatcher } from '../helpers/matchers.js';
 import { windows } from '../../core/windows.js';
 import { seededRandom } from '../../core/stats.js';
-import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints } from '../../core/triple-index.js';
+import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints, pieceAt } from '../../core/triple-index.js';
 import { DEFAULT_FILTER, scanBest, wideBudgetFor } from '../../core/index-match.js';
 import { windowMatcher } from '../../core/pipeline.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';
@@ -213,5 +213,17 @@ describe('the second look reads more of a larger corpus', () => {
     expect(wideBudgetFor(DEFAULT_FILTER, 1_000_000)).toBe(DEFAULT_FILTER.wideBudget);
     expect(wideBudgetFor(DEFAULT_FILTER, 4_000_000)).toBe(2 * DEFAULT_FILTER.wideBudget);
     expect(wideBudgetFor({ ...DEFAULT_FILTER, wideBudget: 100 }, 9_000_000)).toBe(300);
+  });
+});
+
+describe('the piece a corpus point belongs to', () => {
+  it('is found by its offsets, empty pieces skipped, as a linear walk finds it', () => {
+    fc.assert(
+      fc.property(fc.array(fc.integer({ min: 0, max: 5 }), { minLength: 1, maxLength: 30 }), (sizes) => {
+        const offsets = Uint32Array.from([0, ...sizes.map((_, p) => sizes.slice(0, p + 1).reduce((s, n) => s + n, 0))]);
+        const walked = sizes.flatMap((n, p) => Array.from({ length: n }, () => p));
+        expect(walked.map((_, i) => pieceAt(offsets, i))).toEqual(walked);
+      }),
+    );
   });
 });
