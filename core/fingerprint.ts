@@ -199,54 +199,50 @@ function firstAfter(at: ArrayLike<number>, i: number, gap: number, end: number):
 }
 
 /**
- * What a vote reads of each stored triple, side by side: posted[3s] = piece ×
- * 256 + pitch of its first note, posted[3s + 1] = that note's ontime,
- * posted[3s + 2] = grains from it to the triple's last note. Filled in for a
- * key the first time it votes, so a vote reads its postings in order instead
- * of searching the pieces and walking the points; zero pages cost no memory
- * until written, so only keys voted from take any.
+ * What a vote reads of each stored triple of key k, side by side in the
+ * key's own array: run[3i] = piece × 256 + pitch of its first note,
+ * run[3i + 1] = that note's ontime, run[3i + 2] = grains from it to the
+ * triple's last note. Made the first time the key votes, so a vote reads its
+ * postings in order instead of searching the pieces and walking the points,
+ * and only keys voted from take any memory (one array for every triple would
+ * pass the largest array there is at a hundred million notes).
  */
-interface Posted {
-  posted: Int32Array;
-  gather(k: number): void;
-}
+type PostedRuns = (k: number) => Int32Array;
 
-const postedOf = new WeakMap<StoredFingerprints, Posted>();
+const postedOf = new WeakMap<StoredFingerprints, PostedRuns>();
 
-function posted(flat: FlatPoints, table: StoredFingerprints): Posted {
+function postedRuns(flat: FlatPoints, table: StoredFingerprints): PostedRuns {
   const known = postedOf.get(table);
   if (known) return known;
   const { at, pitch, offsets } = flat;
   const { starts } = table;
   const [anchorRuns, codeRuns] = [runsOf(table.anchors), runsOf(table.codes)];
   const gap = toGrains(table.shape.minGap);
-  const out = new Int32Array(3 * starts[table.keys.length]);
-  const gathered = new Uint8Array(table.keys.length);
-  const made: Posted = {
-    posted: out,
-    gather(k) {
-      if (gathered[k]) return;
-      const from = starts[k];
-      const anchors = anchorRuns(from, starts[k + 1]);
-      const codes = codeRuns(from, starts[k + 1]);
-      for (let i = 0; i < anchors.length; i++) {
-        const s = from + i;
-        const ca = anchors[i];
-        if (ca >= at.length) throw new RangeError(`fingerprint ${s} names point ${ca}, but the index holds ${at.length} points`);
-        const piece = pieceAt(offsets, ca);
-        const end = offsets[piece + 1];
-        const cb = firstAfter(at, ca, gap, end) + (codes[i] >> 4);
-        const cc = firstAfter(at, cb, gap, end) + (codes[i] & 15);
-        if (cc >= end) throw new RangeError(`fingerprint ${s} reaches past the end of piece ${piece}`);
-        out[3 * s] = piece * 256 + pitch[ca];
-        out[3 * s + 1] = at[ca];
-        out[3 * s + 2] = at[cc] - at[ca];
-      }
-      gathered[k] = 1;
-    },
+  const made = new Map<number, Int32Array>();
+  const runOf: PostedRuns = (k) => {
+    const known = made.get(k);
+    if (known) return known;
+    const from = starts[k];
+    const anchors = anchorRuns(from, starts[k + 1]);
+    const codes = codeRuns(from, starts[k + 1]);
+    const run = new Int32Array(3 * anchors.length);
+    for (let i = 0; i < anchors.length; i++) {
+      const ca = anchors[i];
+      if (ca >= at.length) throw new RangeError(`fingerprint ${from + i} names point ${ca}, but the index holds ${at.length} points`);
+      const piece = pieceAt(offsets, ca);
+      const end = offsets[piece + 1];
+      const cb = firstAfter(at, ca, gap, end) + (codes[i] >> 4);
+      const cc = firstAfter(at, cb, gap, end) + (codes[i] & 15);
+      if (cc >= end) throw new RangeError(`fingerprint ${from + i} reaches past the end of piece ${piece}`);
+      run[3 * i] = piece * 256 + pitch[ca];
+      run[3 * i + 1] = at[ca];
+      run[3 * i + 2] = at[cc] - at[ca];
+    }
+    made.set(k, run);
+    return run;
   };
-  postedOf.set(table, made);
-  return made;
+  postedOf.set(table, runOf);
+  return runOf;
 }
 
 /** A window's points on the corpus's time: offsets from the window start divided by `scale`. */
@@ -369,7 +365,7 @@ function vote(flat: FlatPoints, table: StoredFingerprints, settings: Fingerprint
   const order = scratch.order.subarray(0, triples).sort();
   const found = scratch.found;
   const [logMin, logMax] = [Math.log(settings.minScale), Math.log(settings.maxScale)];
-  const { posted: post, gather } = posted(flat, table);
+  const runOf = postedRuns(flat, table);
   cells.clear();
   let spent = 0;
   for (let r = 0; r < order.length; r++) {
@@ -380,18 +376,18 @@ function vote(flat: FlatPoints, table: StoredFingerprints, settings: Fingerprint
     const c = found[f + 2];
     if (r >= settings.minTriples && spent + size > settings.voteBudget) break;
     spent += size;
-    gather(k);
+    const run = runOf(k);
     const q0 = points[a];
     const span = points[c].at - q0.at;
     const lead = q0.at - window.startGrains;
-    for (let s = table.starts[k]; s < table.starts[k + 1]; s++) {
-      const piecePitch = post[3 * s];
+    for (let j = 0; j < run.length; j += 3) {
+      const piecePitch = run[j];
       const piece = piecePitch >> 8;
       if (piece === window.exclude) continue;
-      const scale = span / post[3 * s + 2];
+      const scale = span / run[j + 2];
       const logScale = Math.log(scale);
       if (logScale < logMin || logScale > logMax) continue;
-      const start = post[3 * s + 1] - lead / scale;
+      const start = run[j + 1] - lead / scale;
       cells.add(piece, Math.floor(start / POSITION_CELL), Math.round(logScale / SCALE_CELL), q0.pitch - (piecePitch & 255), logScale, start);
     }
   }

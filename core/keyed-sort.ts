@@ -33,20 +33,24 @@ export interface KeyedRecords {
 const DIGIT_BITS = 12;
 const BINS = 1 << DIGIT_BITS;
 
-/** An empty array of the same kind as `a`, `n` long. */
-const like = <T extends Field>(a: T, n: number): T => new (a.constructor as new (n: number) => T)(n);
+/** to[dest[i]] = from[i] for every i: one array's part of a pass, in a loop of its own so each sees one kind of array. */
+function scatter(from: Field, to: Field, dest: Uint32Array): void {
+  for (let i = 0; i < dest.length; i++) to[dest[i]] = from[i];
+}
 
 /**
- * The records sorted by key, stable: arrays of their own, the given ones
- * reused as scratch. Four passes at most for two halves, two for one.
+ * The records sorted by key, stable. A pass finds each record's place from
+ * one digit, then moves the key and every field there, array by array: four
+ * passes at most for two halves, two for one. The given arrays serve as
+ * scratch.
  */
 export function sortRecords(records: KeyedRecords): KeyedRecords {
   const n = records.hi.length;
   let arrays: Field[] = [records.hi, ...(records.lo ? [records.lo] : []), ...records.fields];
-  let spare = arrays.map((a) => like(a, n));
-  const halves = records.lo ? [1, 0] : [0];
+  let spare: Field[] | null = null;
+  const dest = new Uint32Array(n);
   const counts = new Uint32Array(BINS + 1);
-  for (const half of halves) {
+  for (const half of records.lo ? [1, 0] : [0]) {
     for (let shift = 0; shift < HALF_BITS; shift += DIGIT_BITS) {
       const digits = arrays[half] as Uint32Array;
       counts.fill(0);
@@ -54,10 +58,9 @@ export function sortRecords(records: KeyedRecords): KeyedRecords {
       // A digit every record shares sorts nothing.
       if (n === 0 || counts[((digits[0] >>> shift) & (BINS - 1)) + 1] === n) continue;
       for (let d = 0; d < BINS; d++) counts[d + 1] += counts[d];
-      for (let i = 0; i < n; i++) {
-        const to = counts[(digits[i] >>> shift) & (BINS - 1)]++;
-        for (let a = 0; a < arrays.length; a++) spare[a][to] = arrays[a][i];
-      }
+      for (let i = 0; i < n; i++) dest[i] = counts[(digits[i] >>> shift) & (BINS - 1)]++;
+      spare ??= arrays.map((a) => new (a.constructor as new (n: number) => Field)(n));
+      for (let a = 0; a < arrays.length; a++) scatter(arrays[a], spare[a], dest);
       [arrays, spare] = [spare, arrays];
     }
   }
