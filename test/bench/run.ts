@@ -93,7 +93,7 @@ export interface ModeRow {
   recall: { atLeast05: { share: number | null; windows: number }; atLeast03: { share: number | null; windows: number } };
   /** Windows where this source scored above the reference: must be 0. */
   aboveReference: number;
-  /** Windows of verbatim (transposed) copies scored 1, as every one of them should be: recall where no reference is run. */
+  /** Whole windows of verbatim (transposed) copies scored 1, as every one of them should be: recall where no reference is run. */
   verbatimFound: { found: number; windows: number };
   /** Tempo-free only: copies at another tempo whose piece was found with the time scale within 2%. */
   tempo?: { found: number; windows: number };
@@ -295,7 +295,9 @@ function modeRows(corpus: MatchCorpus, probes: readonly Probe[], mode: MatchMode
     return { share: strong.length ? round(strong.filter((s) => (indexed[s.i].match?.score ?? 0) >= s.score - 1e-12).length / strong.length, 4) : null, windows: strong.length };
   };
   const tempo = mode.tempoFree ? probes.map((p, i) => ({ p, i })).filter(({ p }) => p.kind === 'tempo') : [];
-  const verbatim = probes.map((p, i) => ({ p, i })).filter(({ p }) => p.kind === 'verbatim');
+  // A copy's last window reaches past its end, so its excerpt holds notes the copy lacks: only whole windows score 1.
+  const whole = (p: Probe): boolean => p.kind === 'verbatim' && p.startGrains + toGrains(W) <= toGrains(QUERY_BEATS);
+  const verbatim = probes.map((p, i) => ({ p, i })).filter(({ p }) => whole(p));
   const sameWindows = latency(sampled.map((s) => indexed[s.i].ms));
   const refLatency = latency(sampled.map((s) => s.ms));
   const base = { mode: name };
@@ -312,7 +314,7 @@ function modeRows(corpus: MatchCorpus, probes: readonly Probe[], mode: MatchMode
       verbatimFound: { found: verbatim.filter(({ i }) => (indexed[i].match?.score ?? 0) >= 1 - 1e-12).length, windows: verbatim.length },
       ...(mode.tempoFree ? { tempo: { found: tempo.filter(({ p, i }) => tempoFound(p, indexed[i].match)).length, windows: tempo.length } } : {}),
     },
-    { ...base, candidates: 'every', latency: refLatency, windowsPerCpuSecond: Math.round(refPerCpuSecond), reportWindowsPerCpuSecond: null, speedup: 1, recall: { atLeast05: { share: 1, windows: 0 }, atLeast03: { share: 1, windows: 0 } }, aboveReference: 0, verbatimFound: { found: sampled.filter((x) => probes[x.i].kind === 'verbatim' && x.score >= 1 - 1e-12).length, windows: sampled.filter((x) => probes[x.i].kind === 'verbatim').length } },
+    { ...base, candidates: 'every', latency: refLatency, windowsPerCpuSecond: Math.round(refPerCpuSecond), reportWindowsPerCpuSecond: null, speedup: 1, recall: { atLeast05: { share: 1, windows: 0 }, atLeast03: { share: 1, windows: 0 } }, aboveReference: 0, verbatimFound: { found: sampled.filter((x) => whole(probes[x.i]) && x.score >= 1 - 1e-12).length, windows: sampled.filter((x) => whole(probes[x.i])).length } },
   ];
   return sampled.length ? rows : rows.slice(0, 1);
 }
