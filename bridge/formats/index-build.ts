@@ -9,7 +9,7 @@
  * writes from the same pieces held in memory, but for the order of its
  * sections.
  *
- * What it holds at once: the spills' buffers (about 80 MB), one sorted
+ * What it holds at once: the spills' buffers (about 45 MB), one sorted
  * bucket (at most `sortBytes`), and per piece its name and an offset (the
  * META section, written last, lists every piece and file).
  *
@@ -214,7 +214,8 @@ export class IndexBuilder {
     const starts = new AppendFile(join(this.dir, `${name}-starts`));
     let before = 0;
     let last: KeyedRecords | null = null;
-    for (const sorted of spill.sorted(Math.max(1, Math.floor(this.sortBytes / (2 * recordBytes(layout)))))) {
+    // Sorting takes the bucket, a copy of it, and each record's place.
+    for (const sorted of spill.sorted(Math.max(1, Math.floor(this.sortBytes / (2 * recordBytes(layout) + 4))))) {
       const n = sorted.hi.length;
       const firsts: number[] = [];
       // A key's run may go on from the part before (one key's records handed over in chunks).

@@ -79,7 +79,7 @@ describe('an index written streamed', () => {
 
   it('holds the same when its buckets must be cut down to single keys to stay within the sorting limit', () => {
     const file = join(dir, 'small-limit');
-    // 200 bytes: 8 triple records at once, far fewer than share the commonest key.
+    // 200 bytes: 7 triple records at once, far fewer than share the commonest key.
     streamed(file, 1, 200).finish({ files });
     expect(arrays(file)).toEqual(expected);
   });
