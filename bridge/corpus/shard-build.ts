@@ -6,7 +6,7 @@
  * corpus's piece order, so shards merged answer as the one index would.
  *
  * @example
- *   writeShards({ manifest: 'songs/.earwitness-shards.json', name: 'songs', shards: 3, notes, pieces, files, percussion: false })
+ *   await writeShards({ manifest: 'songs/.earwitness-shards.json', name: 'songs', shards: 3, notes, pieces, files, percussion: false })
  *   // → { manifest: 'songs/.earwitness-shards.json', shards: [{ path: 'songs/.earwitness-shard-1-of-3', pieces: 40, notes: 27001 }, …] }
  */
 import { randomBytes } from 'node:crypto';
@@ -41,22 +41,23 @@ const fileOf = (path: string, known: ReadonlySet<string>): string => (known.has(
 const queueName = (name: string): string => name.replace(/[^A-Za-z0-9_.-]/g, '_').slice(0, 64) || 'corpus';
 
 /** Writes the shards and their manifest. Files skipped whole are listed in the first shard; each other file in the shards holding its pieces. */
-export function writeShards(request: ShardsRequest): ShardsSummary {
+export async function writeShards(request: ShardsRequest): Promise<ShardsSummary> {
   const build = randomBytes(8).toString('hex');
   const name = queueName(request.name);
   const counts = request.pieces.map((_, p) => request.notes.offsets[p + 1] - request.notes.offsets[p]);
   const runs = dealRuns(counts, request.shards);
   const known = new Set(request.files.map((f) => f.path));
-  const entries: ShardEntry[] = runs.map((run, k) => {
+  const entries: ShardEntry[] = [];
+  for (const [k, run] of runs.entries()) {
     const path = join(dirname(request.manifest), shardFileName(k + 1, runs.length));
     const range = Array.from({ length: run.pieces }, (_, i) => run.first + i);
     const pieces = range.map((p) => request.pieces[p]);
     const holds = new Set(pieces.map((p) => fileOf(p.path, known)));
     const files = request.files.filter((f) => holds.has(f.path) || (k === 0 && f.error !== null));
     const notes = joinNotes(range.map((piece) => ({ notes: request.notes, piece })));
-    const built = buildIndexFile(path, { pieces, notes, files, percussion: request.percussion, shard: { build, name, number: k + 1, of: runs.length, firstPiece: run.first } });
-    return { path: basename(path), firstPiece: run.first, pieces: run.pieces, notes: built.notes, points: built.points, crc: readIndexCrc(path) };
-  });
+    const built = await buildIndexFile(path, { pieces, notes, files, percussion: request.percussion, shard: { build, name, number: k + 1, of: runs.length, firstPiece: run.first } });
+    entries.push({ path: basename(path), firstPiece: run.first, pieces: run.pieces, notes: built.notes, points: built.points, crc: readIndexCrc(path) });
+  }
   writeShardManifest(request.manifest, { format: MANIFEST_FORMAT, version: MANIFEST_VERSION, build, name, percussion: request.percussion, shards: entries });
   return { manifest: request.manifest, shards: entries.map((e) => ({ path: join(dirname(request.manifest), e.path), pieces: e.pieces, notes: e.notes })) };
 }

@@ -4,36 +4,43 @@
  * writer. Each piece's notes go to a spill file per note field, and its
  * triples and fingerprint triples, per pitch dimension, to a bucket spill
  * (bridge/formats/spill.ts). `finish` then writes the file: the notes copied
- * over, and each table bucket by bucket in key order, each bucket sorted in
- * memory within `sortBytes`. The file is byte for byte what writeIndexFile
- * writes from the same pieces held in memory, but for the order of its
- * sections.
+ * over, and each pitch dimension's tables, in a thread of its own, both at
+ * once (bridge/formats/pitch-tables.ts), bucket by bucket in key order, each
+ * bucket sorted in memory within `sortBytes`. The file holds byte for byte
+ * the sections writeIndexFile writes from the same pieces held in memory,
+ * in another order.
  *
- * What it holds at once: the spills' buffers (about 45 MB), one sorted
- * bucket (at most `sortBytes`), and per piece its name and an offset (the
- * META section, written last, lists every piece and file).
+ * What it holds at once: the spills' buffers (about 45 MB) while pieces
+ * come; then one sorted bucket per thread (at most `sortBytes` each); and
+ * per piece its name and an offset (the META section lists every piece and
+ * file).
  *
  * @example
  *   const build = new IndexBuilder('songs/.earwitness-index', { percussion: false });
  *   build.add(piecesOfOneFile, theirNotes);   // … for every file, in order
- *   build.finish({ files });                  // → { pieces: 120, notes: 81234 }
+ *   build.finish({ files });                  // → (a promise of) { pieces: 120, notes: 81234, … }
  */
-import { mkdtempSync, readdirSync, rmSync } from 'node:fs';
+import { mkdtempSync, readdirSync, rmSync, statSync } from 'node:fs';
 import { dirname, join } from 'node:path';
+import { Worker } from 'node:worker_threads';
 import { PITCH_MODES, type PitchMode } from '../../core/note.js';
 import { type FlatNotes, notePoints } from '../../core/flat-notes.js';
-import { CORPUS_TRIPLES, MAX_PIECES, type TripleShape, keyOfHalves, tripleRecords } from '../../core/triple-index.js';
+import { CORPUS_TRIPLES, MAX_PIECES, type TripleShape, tripleRecords } from '../../core/triple-index.js';
 import { FINGERPRINT_SHAPE, type FingerprintShape, fingerprintRecords } from '../../core/fingerprint.js';
-import { type KeyedRecords, keyDiffers } from '../../core/keyed-sort.js';
 import { type FileFingerprint, type PieceInfo, type ShardOf, IndexWriter, MODE_LETTER, MODE_SECTION_COUNT, NOTE_SECTIONS, NOTE_SECTION_COUNT, metaBytes } from './index-file.js';
-import { AppendFile, BucketSpill, type RecordLayout, recordBytes } from './spill.js';
+import { AppendFile, BucketSpill, type RecordLayout, filePieces } from './spill.js';
+import { type TablesJob, type TablesWritten, writeTables } from './pitch-tables.js';
 
 export interface IndexBuildOptions {
   percussion: boolean;
   shape?: TripleShape;
   fingerprint?: FingerprintShape;
-  /** Memory one bucket may take while it is sorted, bytes (default 1 GiB). */
+  /** Memory one bucket may take while it is sorted, bytes, in each pitch dimension's thread (default 1 GiB). */
   sortBytes?: number;
+  /** Whether each pitch dimension's tables are written in a thread of their own (default: when there are THREADS_FROM records or more). */
+  threads?: boolean;
+  /** Where that thread's code is (default: beside this module once built, in dist/; tests run from the sources point here). */
+  threadUrl?: URL;
 }
 
 /** What a finished build wrote. */
@@ -87,9 +94,9 @@ export class IndexBuilder {
   private done = false;
   /** Spill folders of builds stopped before they finished (their process is gone), found beside the index and removed. */
   readonly staleRemoved: string[];
-  /** Told of each sorted part written, its records. */
-  private wrote: (records: number) => void = () => {};
   private removed = false;
+  /** The index being written, once `finish` has begun. */
+  private writer: IndexWriter | null = null;
 
   constructor(readonly file: string, private readonly options: IndexBuildOptions) {
     this.shape = options.shape ?? CORPUS_TRIPLES;
@@ -133,123 +140,107 @@ export class IndexBuilder {
     }
   }
 
-  /** Writes the index file and removes the spills; `progress` is told the records written of all there are, bucket by bucket. */
-  finish(rest: { files: FileFingerprint[]; shard?: ShardOf }, progress: (done: number, total: number) => void = () => {}): IndexBuilt {
+  /**
+   * Writes the index file and removes the spills. Each pitch dimension's
+   * tables are sorted and written in a thread of its own, both at once (in
+   * this thread for a corpus too small to be worth starting them);
+   * `progress` is told the records written of all there are.
+   */
+  async finish(rest: { files: FileFingerprint[]; shard?: ShardOf }, progress: (done: number, total: number) => void = () => {}): Promise<IndexBuilt> {
     if (this.done) throw new Error(`${this.file}: the build already finished`);
     this.done = true;
-    const total = PITCH_MODES.reduce((n, mode) => n + this.spills[mode].triples.count + this.spills[mode].fingerprints.count, 0);
-    let written = 0;
-    this.wrote = (records) => progress((written += records), total);
     const out = new IndexWriter(this.file, NOTE_SECTION_COUNT + PITCH_MODES.length * MODE_SECTION_COUNT);
+    this.writer = out;
     try {
       const contents = { shape: this.shape, fingerprint: this.fingerprint, percussion: this.options.percussion, pieces: this.pieces, files: rest.files, ...(rest.shard ? { shard: rest.shard } : {}) };
       out.whole('META', metaBytes(contents, this.notes, [...PITCH_MODES]));
       out.whole('NOFS', bytesOf(Uint32Array.from(this.offsets)));
       this.offsets = [];
-      NOTE_SECTIONS.slice(1).forEach(([tag], i) => copyInto(out, tag, this.noteFiles[i]));
-      for (const mode of PITCH_MODES) this.writeTriples(out, mode);
-      for (const mode of PITCH_MODES) this.writeFingerprints(out, mode);
+      NOTE_SECTIONS.slice(1).forEach(([tag], i) => {
+        this.noteFiles[i].close();
+        copyInto(out, tag, this.noteFiles[i].path);
+      });
+      const jobs = PITCH_MODES.map((mode) => {
+        const [triples, fingerprints] = [this.spills[mode].triples.close(), this.spills[mode].fingerprints.close()];
+        const letter = MODE_LETTER[mode];
+        // The sections of known length are kept now, and written by the dimension's thread.
+        const kept = { anchors: out.keep(`${letter}ANC`, 4 * triples.count), fingerprintAnchors: out.keep(`${letter}FAN`, 4 * fingerprints.count), codes: out.keep(`${letter}FCD`, fingerprints.count) };
+        const place = { file: out.temp, anchors: kept.anchors.offset, fingerprintAnchors: kept.fingerprintAnchors.offset, codes: kept.codes.offset };
+        return { mode, kept, job: { dir: this.dir, mode, triples, fingerprints, sortBytes: this.sortBytes, place } satisfies TablesJob };
+      });
+      const total = jobs.reduce((n, { job }) => n + job.triples.count + job.fingerprints.count, 0);
+      let written = 0;
+      const wrote = (records: number): void => progress((written += records), total);
+      const threads = this.options.threads ?? total >= THREADS_FROM;
+      const url = this.options.threadUrl ?? THREAD_URL;
+      const results = await Promise.all(jobs.map(({ job }) => (threads ? inThread(url, job, wrote) : writeTables(job, wrote))));
+      jobs.forEach(({ mode, kept }, i) => {
+        const tables = results[i];
+        kept.anchors.end(tables.crcs.anchors);
+        kept.fingerprintAnchors.end(tables.crcs.fingerprintAnchors);
+        kept.codes.end(tables.crcs.codes);
+        const letter = MODE_LETTER[mode];
+        copyInto(out, `${letter}KEY`, tables.keys);
+        copyInto(out, `${letter}RUN`, tables.starts);
+        copyInto(out, `${letter}FKY`, tables.fingerprintKeys);
+        copyInto(out, `${letter}FRN`, tables.fingerprintStarts);
+      });
       out.close();
+      return { pieces: this.pieces.length, notes: this.notes, points: { chromatic: this.spills.chromatic.points, morphetic: this.spills.morphetic.points } };
     } catch (e) {
       out.abort();
       throw e;
     } finally {
       this.remove();
     }
-    return { pieces: this.pieces.length, notes: this.notes, points: { chromatic: this.spills.chromatic.points, morphetic: this.spills.morphetic.points } };
   }
 
-  /** Leaves nothing behind: for a build stopped part way. */
+  /** Leaves nothing behind, not even the part of the index written: for a build stopped part way. */
   abort(): void {
     this.done = true;
+    this.writer?.abort();
     this.remove();
   }
 
   private remove(): void {
     if (this.removed) return;
     this.removed = true;
-    for (const f of this.noteFiles) f.remove();
+    for (const f of this.noteFiles) f.close();
     for (const mode of PITCH_MODES) {
       this.spills[mode].triples.remove();
       this.spills[mode].fingerprints.remove();
     }
     rmSync(this.dir, { recursive: true, force: true });
   }
+}
 
-  private writeTriples(out: IndexWriter, mode: PitchMode): void {
-    const spill = this.spills[mode].triples;
-    const anchors = out.section(`${MODE_LETTER[mode]}ANC`, 4 * spill.count);
-    const keys = this.keyRuns(spill, TRIPLE_LAYOUT, `${mode}-keys`, (sorted, i) => keyOfHalves(sorted.hi[i], sorted.lo![i]), Float64Array, (sorted) => anchors.write(bytesOf(sorted.fields[0])));
-    anchors.end();
-    this.writeRuns(out, `${MODE_LETTER[mode]}KEY`, `${MODE_LETTER[mode]}RUN`, keys, spill.count);
-  }
+/** Records (both dimensions, both tables) from which the tables are written in threads: below, starting them costs more than it saves. */
+const THREADS_FROM = 2_000_000;
 
-  private writeFingerprints(out: IndexWriter, mode: PitchMode): void {
-    const spill = this.spills[mode].fingerprints;
-    const anchors = out.section(`${MODE_LETTER[mode]}FAN`, 4 * spill.count);
-    const codes = out.section(`${MODE_LETTER[mode]}FCD`, spill.count);
-    const keys = this.keyRuns(spill, FINGERPRINT_LAYOUT, `${mode}-fkeys`, (sorted, i) => sorted.hi[i], Uint32Array, (sorted) => {
-      anchors.write(bytesOf(sorted.fields[0]));
-      codes.write(bytesOf(sorted.fields[1]));
-    });
-    anchors.end();
-    codes.end();
-    this.writeRuns(out, `${MODE_LETTER[mode]}FKY`, `${MODE_LETTER[mode]}FRN`, keys, spill.count);
-  }
+const THREAD_URL = new URL('./pitch-tables-worker.js', import.meta.url);
 
-  /**
-   * Reads a spill in key order, handing each sorted part to `write`, and
-   * appends each distinct key and where its run starts to spill files of
-   * their own: their count is known only at the end.
-   */
-  private keyRuns(
-    spill: BucketSpill,
-    layout: RecordLayout,
-    name: string,
-    keyAt: (sorted: KeyedRecords, i: number) => number,
-    keyType: Float64ArrayConstructor | Uint32ArrayConstructor,
-    write: (sorted: KeyedRecords) => void,
-  ): { keys: AppendFile; starts: AppendFile } {
-    const keys = new AppendFile(join(this.dir, name));
-    const starts = new AppendFile(join(this.dir, `${name}-starts`));
-    let before = 0;
-    let last: KeyedRecords | null = null;
-    // Sorting takes the bucket, a copy of it, and each record's place.
-    for (const sorted of spill.sorted(Math.max(1, Math.floor(this.sortBytes / (2 * recordBytes(layout) + 4))))) {
-      const n = sorted.hi.length;
-      const firsts: number[] = [];
-      // A key's run may go on from the part before (one key's records handed over in chunks).
-      for (let i = 0; i < n; i++) {
-        const fresh = i > 0 ? keyDiffers(sorted, i, i - 1) : last === null || keyAt(sorted, 0) !== keyAt(last, last.hi.length - 1);
-        if (fresh) firsts.push(i);
+/** A dimension's tables written in a thread of its own (bridge/formats/pitch-tables-worker.ts). */
+function inThread(url: URL, job: TablesJob, wrote: (records: number) => void): Promise<TablesWritten> {
+  return new Promise((resolve, reject) => {
+    const worker = new Worker(url, { workerData: job });
+    let answered = false;
+    worker.on('message', (m: { progress?: number; written?: TablesWritten; error?: string }) => {
+      if (m.progress !== undefined) wrote(m.progress);
+      else {
+        answered = true;
+        if (m.written) resolve(m.written);
+        else reject(new Error(`writing the ${job.mode} tables: ${m.error}`));
       }
-      keys.append(keyType.from(firsts.map((i) => keyAt(sorted, i))));
-      starts.append(Uint32Array.from(firsts, (i) => before + i));
-      write(sorted);
-      this.wrote(n);
-      before += n;
-      // The last key alone, copied: the part itself is let go.
-      if (n > 0) last = { hi: sorted.hi.slice(n - 1), lo: sorted.lo ? sorted.lo.slice(n - 1) : null, fields: [] };
-    }
-    return { keys, starts };
-  }
-
-  private writeRuns(out: IndexWriter, keyTag: string, runTag: string, runs: { keys: AppendFile; starts: AppendFile }, total: number): void {
-    try {
-      copyInto(out, keyTag, runs.keys);
-      const starts = out.section(runTag, runs.starts.size + 4);
-      for (const piece of runs.starts.pieces()) starts.write(piece);
-      starts.write(bytesOf(Uint32Array.of(total)));
-      starts.end();
-    } finally {
-      runs.keys.remove();
-      runs.starts.remove();
-    }
-  }
+    });
+    worker.on('error', (e) => reject(new Error(`writing the ${job.mode} tables: ${e.message}`)));
+    worker.on('exit', (code) => {
+      if (!answered) reject(new Error(`writing the ${job.mode} tables: its thread stopped (exit code ${code})`));
+    });
+  });
 }
 
 /** An index of pieces all at hand, written as `corpus build` writes one. */
-export function buildIndexFile(file: string, contents: { pieces: PieceInfo[]; notes: FlatNotes; files: FileFingerprint[]; percussion: boolean; shard?: ShardOf }): IndexBuilt {
+export function buildIndexFile(file: string, contents: { pieces: PieceInfo[]; notes: FlatNotes; files: FileFingerprint[]; percussion: boolean; shard?: ShardOf }): Promise<IndexBuilt> {
   const builder = new IndexBuilder(file, { percussion: contents.percussion });
   try {
     builder.add(contents.pieces, contents.notes);
@@ -260,9 +251,9 @@ export function buildIndexFile(file: string, contents: { pieces: PieceInfo[]; no
   return builder.finish({ files: contents.files, ...(contents.shard ? { shard: contents.shard } : {}) });
 }
 
-/** A section whose bytes are a spill file's. */
-function copyInto(out: IndexWriter, tag: string, from: AppendFile): void {
-  const s = out.section(tag, from.size);
-  for (const piece of from.pieces()) s.write(piece);
+/** A section whose bytes are a file's. */
+function copyInto(out: IndexWriter, tag: string, path: string): void {
+  const s = out.section(tag, statSync(path).size);
+  for (const piece of filePieces(path)) s.write(piece);
   s.end();
 }

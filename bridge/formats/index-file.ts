@@ -204,7 +204,8 @@ export interface OpenSection {
  *   out.close();
  */
 export class IndexWriter {
-  private readonly temp: string;
+  /** The file written until `close` renames it: where a section kept with `keep` is written by another thread. */
+  readonly temp: string;
   private readonly fd: number;
   private readonly table: Buffer;
   private at: number;
@@ -220,10 +221,7 @@ export class IndexWriter {
   }
 
   section(tag: string, length: number): OpenSection {
-    if (this.begun === this.count) throw new Error(`IndexWriter: section ${tag} is one more than the ${this.count} the file was opened for`);
-    const e = HEADER_BYTES + this.begun++ * ENTRY_BYTES;
-    const start = this.at;
-    this.at = align8(start + length);
+    const { offset: start, end } = this.keep(tag, length);
     let position = start;
     let crc = 0;
     return {
@@ -235,13 +233,29 @@ export class IndexWriter {
       },
       end: () => {
         if (position !== start + length) throw new Error(`IndexWriter: section ${tag} ended at ${position - start} of its ${length} bytes`);
-        this.table.write(tag, e, 'latin1');
-        this.table.writeUInt32LE(crc, e + 4);
-        this.table.writeBigUInt64LE(BigInt(start), e + 8);
-        this.table.writeBigUInt64LE(BigInt(length), e + 16);
-        this.ended++;
+        end(crc);
       },
     };
+  }
+
+  /**
+   * Keeps a section's place for bytes written elsewhere (another thread,
+   * with a file handle of its own): `end` is given their CRC-32 once written.
+   */
+  keep(tag: string, length: number): { offset: number; end(crc: number): void } {
+    if (this.begun === this.count) throw new Error(`IndexWriter: section ${tag} is one more than the ${this.count} the file was opened for`);
+    const e = HEADER_BYTES + this.begun++ * ENTRY_BYTES;
+    const offset = this.at;
+    this.at = align8(offset + length);
+    return { offset, end: (crc) => this.entry(e, tag, crc, offset, length) };
+  }
+
+  private entry(e: number, tag: string, crc: number, offset: number, length: number): void {
+    this.table.write(tag, e, 'latin1');
+    this.table.writeUInt32LE(crc, e + 4);
+    this.table.writeBigUInt64LE(BigInt(offset), e + 8);
+    this.table.writeBigUInt64LE(BigInt(length), e + 16);
+    this.ended++;
   }
 
   /** A section whose bytes are all at hand. */

@@ -1,6 +1,6 @@
 /**
  * Temporary files for a build larger than memory: `AppendFile`, typed arrays
- * appended and copied out again, and `BucketSpill`, records (core/keyed-sort.ts)
+ * appended and read back by `filePieces`, and `BucketSpill`, records (core/keyed-sort.ts)
  * cut into 256 buckets by the top 8 bits of their key and handed back
  * bucket by bucket in key order, each sorted. A bucket larger than the
  * sorting limit is cut again on the next 8 bits in a spill of its own, and a
@@ -14,7 +14,7 @@
  *   for (const part of spill.sorted(1_000_000)) part.hi   // → [2, 9]
  *   spill.remove();
  */
-import { closeSync, openSync, readSync, rmSync, writeSync } from 'node:fs';
+import { closeSync, fstatSync, openSync, readSync, rmSync, writeSync } from 'node:fs';
 import { type Field, type KeyedRecords, HALF_BITS, sortRecords } from '../../core/keyed-sort.js';
 
 const DIGIT_BITS = 8;
@@ -38,33 +38,40 @@ export function readAll(fd: number, into: Uint8Array, position: number, file: st
 
 const bytesOf = (a: ArrayBufferView): Uint8Array => new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
 
-/** A temporary file typed arrays are appended to, then read back in pieces. */
+/** A temporary file typed arrays are appended to; closed, it is read back with `filePieces`. */
 export class AppendFile {
-  private readonly fd: number;
+  private fd: number | null;
   size = 0;
 
   constructor(readonly path: string) {
-    this.fd = openSync(path, 'w+');
+    this.fd = openSync(path, 'w');
   }
 
   append(a: ArrayBufferView): void {
+    if (this.fd === null) throw new Error(`${this.path}: appended to after it was closed`);
     writeAll(this.fd, bytesOf(a), this.size);
     this.size += a.byteLength;
   }
 
-  /** Hands over the file's bytes in order, `pieceBytes` at a time (a view, good until the next call). */
-  *pieces(pieceBytes = 8 * 2 ** 20): Generator<Uint8Array> {
-    const buffer = new Uint8Array(Math.min(pieceBytes, Math.max(1, this.size)));
-    for (let at = 0; at < this.size; at += buffer.length) {
-      const piece = buffer.subarray(0, Math.min(buffer.length, this.size - at));
-      readAll(this.fd, piece, at, this.path);
+  close(): void {
+    if (this.fd !== null) closeSync(this.fd);
+    this.fd = null;
+  }
+}
+
+/** A file's bytes in order, `pieceBytes` at a time (a view, good until the next one). */
+export function* filePieces(path: string, pieceBytes = 8 * 2 ** 20): Generator<Uint8Array> {
+  const fd = openSync(path, 'r');
+  try {
+    const size = fstatSync(fd).size;
+    const buffer = new Uint8Array(Math.min(pieceBytes, Math.max(1, size)));
+    for (let at = 0; at < size; at += buffer.length) {
+      const piece = buffer.subarray(0, Math.min(buffer.length, size - at));
+      readAll(fd, piece, at, path);
       yield piece;
     }
-  }
-
-  remove(): void {
-    closeSync(this.fd);
-    rmSync(this.path, { force: true });
+  } finally {
+    closeSync(fd);
   }
 }
 
@@ -85,11 +92,22 @@ const arraysOf = (layout: RecordLayout, n: number): KeyedRecords => ({
 
 const columns = (r: KeyedRecords): Field[] => [r.hi, ...(r.lo ? [r.lo] : []), ...r.fields];
 
+/** A spill closed for writing (`BucketSpill.close`), to be read in another thread (`BucketSpill.reopened`). */
+export interface SpillState {
+  path: string;
+  layout: RecordLayout;
+  level: number;
+  /** Per bucket, its chunks as [offset, records, offset, records, …]. */
+  chunks: number[][];
+  counts: number[];
+  count: number;
+}
+
 /** Records cut into buckets by 8 bits of their key, from the top down (`level` 0 is the top 8 bits). */
 export class BucketSpill {
   private fd: number | null = null;
   private end = 0;
-  private readonly chunks: { offset: number; n: number }[][] = Array.from({ length: BUCKETS }, () => []);
+  private chunks: { offset: number; n: number }[][] = Array.from({ length: BUCKETS }, () => []);
   private buffer: KeyedRecords | null;
   private readonly fill = new Uint32Array(BUCKETS);
   /** Records per bucket, and in all. */
@@ -140,6 +158,26 @@ export class BucketSpill {
       this.end += part.length;
     }
     this.fill[b] = 0;
+  }
+
+  /** Writes out what is buffered and closes the file: the spill, as another thread reopens it. */
+  close(): SpillState {
+    if (this.buffer) for (let b = 0; b < BUCKETS; b++) this.flush(b);
+    this.buffer = null;
+    if (this.fd !== null) closeSync(this.fd);
+    this.fd = null;
+    return { path: this.path, layout: this.layout, level: this.level, chunks: this.chunks.map((cs) => cs.flatMap((c) => [c.offset, c.n])), counts: [...this.counts], count: this.count };
+  }
+
+  /** A closed spill, ready to be read. */
+  static reopened(state: SpillState): BucketSpill {
+    const spill = new BucketSpill(state.path, state.layout, state.level, 0);
+    spill.buffer = null;
+    spill.chunks = state.chunks.map((flat) => Array.from({ length: flat.length / 2 }, (_, i) => ({ offset: flat[2 * i], n: flat[2 * i + 1] })));
+    spill.counts.set(state.counts);
+    spill.count = state.count;
+    if (state.count > 0) spill.fd = openSync(state.path, 'r');
+    return spill;
   }
 
   /** One chunk of a bucket, read back. */

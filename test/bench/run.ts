@@ -198,7 +198,7 @@ const BATCH = 64;
  * first `keep` pieces; the Point objects of the rest are let go as soon as
  * they are indexed, so a corpus larger than memory can be benchmarked.
  */
-function buildIndex(file: string, pieces: Iterable<Point[]>, options: { perKind: number; keep: number }): { pieces: number; seconds: number; played: Point[][]; probes: Probe[] } {
+async function buildIndex(file: string, pieces: Iterable<Point[]>, options: { perKind: number; keep: number }): Promise<{ pieces: number; seconds: number; played: Point[][]; probes: Probe[] }> {
   const t0 = performance.now();
   let making = 0;
   const builder = new IndexBuilder(file, { percussion: false });
@@ -223,7 +223,7 @@ function buildIndex(file: string, pieces: Iterable<Point[]>, options: { perKind:
     if (batch.length === BATCH) flush();
   }
   if (batch.length) flush();
-  builder.finish({ files: [] });
+  await builder.finish({ files: [] });
   return { pieces: count, seconds: (ms(t0) - making) / 1000, ...queries(kept, options.perKind, 7) };
 }
 
@@ -370,11 +370,11 @@ function reviewRow(corpus: MatchCorpus, pieces: number, played: readonly Point[]
   return { notes: notes.length, windows: r.windows + r.tooShort, seconds: round(ms(t0) / 1000, 2), cpuSeconds: round((cpuMs() - c0) / 1000, 2) };
 }
 
-function benchCorpus(name: string, make: () => Iterable<Point[]>, options: { perKind: number; referenceSeconds: number; review: boolean; keep?: number }): CorpusRow {
+async function benchCorpus(name: string, make: () => Iterable<Point[]>, options: { perKind: number; referenceSeconds: number; review: boolean; keep?: number }): Promise<CorpusRow> {
   const dir = mkdtempSync(join(tmpdir(), 'ew-bench-'));
   const file = join(dir, 'index');
   try {
-    const built = buildIndex(file, make(), { perKind: options.perKind, keep: options.keep ?? Infinity });
+    const built = await buildIndex(file, make(), { perKind: options.perKind, keep: options.keep ?? Infinity });
     const { played, probes, pieces } = built;
     // The build's own peak: it runs first in a --large run, whose only corpus this is.
     const buildPeakMB = Math.round(process.resourceUsage().maxRSS / 1024);
@@ -433,7 +433,7 @@ function table(r: CorpusRow): string {
   return lines.join('\n');
 }
 
-function main(): void {
+async function main(): Promise<void> {
   const quick = process.argv.includes('--quick');
   const began = performance.now();
   const corpora: CorpusRow[] = [];
@@ -459,7 +459,7 @@ function main(): void {
       process.stdout.write(`${step.name}: skipped, ${step.needs} is not here\n\n`);
       continue;
     }
-    const row = benchCorpus(step.name, step.make, step);
+    const row = await benchCorpus(step.name, step.make, step);
     corpora.push(row);
     process.stdout.write(table(row) + '\n\n');
   }
@@ -491,4 +491,4 @@ function main(): void {
 
 // The live rows collect garbage between notes as the scoring worker does, which needs the engine's collector: run again with it.
 if (typeof (globalThis as { gc?: unknown }).gc !== 'function') process.exit(spawnSync(process.execPath, [...process.execArgv, '--expose-gc', ...process.argv.slice(1)], { stdio: 'inherit' }).status ?? 1);
-main();
+await main();

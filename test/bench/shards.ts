@@ -60,7 +60,7 @@ async function main(): Promise<void> {
   const flat = flattenNotes(pieces);
   const infos = pieces.map(({ notes: _, ...info }) => info);
   const whole = join(dir, 'whole');
-  buildIndexFile(whole, { notes: flat, pieces: infos, files: [], percussion: false });
+  await buildIndexFile(whole, { notes: flat, pieces: infos, files: [], percussion: false });
   const asked = probes(points, count);
   const request = { pitch: 'chromatic' as const, window: W, mode: EXACT_MODE };
   const one = openCorpus(whole).matcher(request);
@@ -70,7 +70,7 @@ async function main(): Promise<void> {
   try {
     for (const k of [1, 2, 3]) {
       const manifestFile = join(dir, `shards-${k}.json`);
-      writeShards({ manifest: manifestFile, name: `bench${k}`, shards: k, notes: flat, pieces: infos, files: [], percussion: false });
+      await writeShards({ manifest: manifestFile, name: `bench${k}`, shards: k, notes: flat, pieces: infos, files: [], percussion: false });
       const manifest = readShardManifest(manifestFile);
       const local = openCorpus(manifestFile).matcher(request);
       let began = performance.now();

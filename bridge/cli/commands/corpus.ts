@@ -251,7 +251,7 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
   const old = previous(out);
   const builder = new IndexBuilder(out, { percussion });
   for (const stale of builder.staleRemoved) process.stderr.write(`earwitness: removed ${stale}, the spill files of a build that was stopped\n`);
-  // Stopped while reading, the build removes its spill files; stopped while writing (one long synchronous step), the next build beside it does.
+  // Stopped, the build removes its spill files and the part of the index written (killed outright, the next build beside it removes them).
   const stop = (signal: NodeJS.Signals): void => {
     builder.abort();
     process.stderr.write(`earwitness: corpus build stopped by ${signal}; the index was not changed\n`);
@@ -262,9 +262,8 @@ export async function buildCorpusIndex(dir: string, options: { out?: string; per
   let got: Gathered;
   try {
     got = await gather(dir, old && old.percussion === percussion ? old : null, { percussion, fileSeconds: options.fileSeconds }, (pieces, notes) => builder.add(pieces, notes));
-    process.off('SIGINT', stop).off('SIGTERM', stop);
     const bar = progressBar('writing');
-    builder.finish({ files: got.files }, bar.tick);
+    await builder.finish({ files: got.files }, bar.tick);
     bar.stop();
   } catch (e) {
     builder.abort();
@@ -306,7 +305,7 @@ export async function buildCorpusShards(dir: string, options: { out?: string; pe
   const got = await gather(dir, null, { percussion, fileSeconds: options.fileSeconds }, (pieces, notes) => parts.push({ pieces, notes }));
   if (options.shards > got.pieces) throw new UsageError(`--shards ${options.shards}: the corpus has only ${got.pieces} pieces; give at most that many shards`);
   const notes = joinNotes(parts.flatMap((part) => part.pieces.map((_, piece) => ({ notes: part.notes, piece }))));
-  const written = writeShards({ manifest: options.out ?? join(dir, MANIFEST_NAME), name: basename(resolve(dir)), shards: options.shards, notes, pieces: parts.flatMap((part) => part.pieces), files: got.files, percussion });
+  const written = await writeShards({ manifest: options.out ?? join(dir, MANIFEST_NAME), name: basename(resolve(dir)), shards: options.shards, notes, pieces: parts.flatMap((part) => part.pieces), files: got.files, percussion });
   return { ...written, pieces: got.pieces, notes: got.notes, skipped: got.skipped, seconds: secondsSince(began) };
 }
 

@@ -60,16 +60,16 @@ writeIndexFile(inMemory, {
 const expected = arrays(inMemory);
 
 /** The corpus added to a builder `step` pieces at a time. */
-function streamed(file: string, step: number, sortBytes?: number): IndexBuilder {
-  const builder = new IndexBuilder(file, { percussion: false, ...(sortBytes ? { sortBytes } : {}) });
+function streamed(file: string, step: number, options: { sortBytes?: number; threads?: boolean; threadUrl?: URL } = {}): IndexBuilder {
+  const builder = new IndexBuilder(file, { percussion: false, ...options });
   for (let p = 0; p < corpus.pieces.length; p += step) builder.add(infos.slice(p, p + step), flattenNotes(corpus.pieces.slice(p, p + step)));
   return builder;
 }
 
 describe('an index written streamed', () => {
-  it('holds what the in-memory writer writes from the same pieces, its pieces and files too', () => {
+  it('holds what the in-memory writer writes from the same pieces, its pieces and files too', async () => {
     const file = join(dir, 'streamed');
-    const built = streamed(file, 4).finish({ files });
+    const built = await streamed(file, 4).finish({ files });
     expect(built).toEqual({ pieces: 30, notes: notes.at.length, points: { chromatic: notePoints(notes, 'chromatic').at.length, morphetic: notePoints(notes, 'morphetic').at.length } });
     expect(arrays(file)).toEqual(expected);
     const read = readIndexFile(file, []);
@@ -77,11 +77,31 @@ describe('an index written streamed', () => {
     expect(read.files).toEqual(files);
   });
 
-  it('holds the same when its buckets must be cut down to single keys to stay within the sorting limit', () => {
+  it('holds the same when its buckets must be cut down to single keys to stay within the sorting limit', async () => {
     const file = join(dir, 'small-limit');
     // 200 bytes: 7 triple records at once, far fewer than share the commonest key.
-    streamed(file, 1, 200).finish({ files });
+    await streamed(file, 1, { sortBytes: 200 }).finish({ files });
     expect(arrays(file)).toEqual(expected);
+  });
+
+  it('holds the same when each pitch dimension is written in a thread of its own, and tells the progress of both', async () => {
+    const file = join(dir, 'threads');
+    const told: [number, number][] = [];
+    // The thread's code as built: these tests run from the sources.
+    const threadUrl = new URL('../../../dist/bridge/formats/pitch-tables-worker.js', import.meta.url);
+    await streamed(file, 5, { threads: true, threadUrl }).finish({ files }, (done, total) => told.push([done, total]));
+    expect(arrays(file)).toEqual(expected);
+    const total = told[0][1];
+    expect(told.map(([done]) => done)).toEqual([...told.map(([done]) => done)].sort((a, b) => a - b));
+    expect(told[told.length - 1]).toEqual([total, total]);
+  });
+
+  it('fails naming the pitch dimension when a table thread cannot run, leaving neither spills nor a part-written index', async () => {
+    const place = mkdtempSync(join(dir, 'no-thread-'));
+    const builder = new IndexBuilder(join(place, 'index'), { percussion: false, threads: true, threadUrl: new URL('file:///nowhere/pitch-tables-worker.js') });
+    builder.add(infos.slice(0, 3), flattenNotes(corpus.pieces.slice(0, 3)));
+    await expect(builder.finish({ files })).rejects.toThrow(/writing the (chromatic|morphetic) tables: .*nowhere/);
+    expect(readdirSync(place)).toEqual([]);
   });
 
   it('leaves no spill behind, finished or given up', () => {
@@ -108,7 +128,7 @@ describe('an index written streamed', () => {
     expect(existsSync(living)).toBe(true);
   });
 
-  it('refuses notes that do not match the pieces given with them', () => {
+  it('refuses notes that do not match the pieces given with them', async () => {
     const builder = new IndexBuilder(join(dir, 'bad'), { percussion: false });
     try {
       expect(() => builder.add(infos.slice(0, 2), flattenNotes(corpus.pieces.slice(0, 3)))).toThrow(/2 pieces given with notes for 3/);
@@ -117,12 +137,12 @@ describe('an index written streamed', () => {
     } finally {
       builder.abort();
     }
-    expect(() => builder.finish({ files })).toThrow(/already finished/);
+    await expect(builder.finish({ files })).rejects.toThrow(/already finished/);
   });
 
-  it('reads back as one written from pieces at hand (buildIndexFile)', () => {
+  it('reads back as one written from pieces at hand (buildIndexFile)', async () => {
     const file = join(dir, 'at-hand');
-    buildIndexFile(file, { pieces: infos, notes, files, percussion: false });
+    await buildIndexFile(file, { pieces: infos, notes, files, percussion: false });
     expect(arrays(file)).toEqual(expected);
   });
 });
