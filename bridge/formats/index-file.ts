@@ -27,7 +27,7 @@ import type { Baseline } from '../../core/report.js';
 import { baselineSchema } from './baseline-file.js';
 import { type SavedProblem, readSaved } from './saved.js';
 import type { FingerprintShape, FingerprintTable, StoredFingerprints } from '../../core/fingerprint.js';
-import { writeAll } from './spill.js';
+import { bytesOf, writeAll } from './spill.js';
 
 /** 2: adds each pitch dimension's fingerprint table (tempo-free matching); a version 1 file is refused with a rebuild hint. */
 export const INDEX_VERSION = 2;
@@ -176,7 +176,6 @@ function checkPlatform(): void {
 }
 
 const align8 = (n: number): number => Math.ceil(n / 8) * 8;
-const bytesOf = (a: Typed): Uint8Array => new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
 
 /** A value given as is, or made when the writer reaches it (and let go once written). */
 export type WhenWritten<T> = T | (() => T);
@@ -289,9 +288,9 @@ export class IndexWriter {
 }
 
 /** Sections an index holds besides its pitch dimensions': META and the notes. */
-export const NOTE_SECTION_COUNT = 1 + 7;
+export const NOTE_SECTION_COUNT = 1 + NOTE_SECTIONS.length;
 /** Sections each pitch dimension adds: postings and fingerprint table. */
-export const MODE_SECTION_COUNT = 7;
+export const MODE_SECTION_COUNT = POSTING_SECTIONS.length + FINGERPRINT_SECTIONS.length;
 
 /** The META JSON of an index's contents. */
 export const metaBytes = (contents: Omit<IndexContents, 'notes' | 'postings' | 'fingerprints'>, notes: number, modes: PitchMode[]): Uint8Array => {
@@ -300,7 +299,7 @@ export const metaBytes = (contents: Omit<IndexContents, 'notes' | 'postings' | '
 };
 
 /** The BASE section's bytes. */
-export const baseBytes = (baselines: Baseline[]): Uint8Array => new TextEncoder().encode(JSON.stringify({ version: BASELINE_VERSION, baselines }));
+const baseBytes = (baselines: Baseline[]): Uint8Array => new TextEncoder().encode(JSON.stringify({ version: BASELINE_VERSION, baselines }));
 
 /**
  * Writes an index whose contents are in memory (a pitch dimension's postings

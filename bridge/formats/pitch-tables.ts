@@ -18,7 +18,7 @@ import { crc32 } from 'node:zlib';
 import type { PitchMode } from '../../core/note.js';
 import { keyOfHalves } from '../../core/triple-index.js';
 import { type KeyedRecords, keyDiffers } from '../../core/keyed-sort.js';
-import { AppendFile, BucketSpill, type SpillState, recordBytes, writeAll } from './spill.js';
+import { AppendFile, BucketSpill, type SpillState, bytesOf, recordBytes, writeAll } from './spill.js';
 
 /** One dimension's tables to write. */
 export interface TablesJob {
@@ -41,8 +41,6 @@ export interface TablesWritten {
   fingerprintKeys: string;
   fingerprintStarts: string;
 }
-
-const bytesOf = (a: ArrayBufferView): Uint8Array => new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
 
 /** Bytes written in order from `position` on, with their CRC-32. */
 class Placed {

@@ -36,7 +36,8 @@ export function readAll(fd: number, into: Uint8Array, position: number, file: st
   }
 }
 
-const bytesOf = (a: ArrayBufferView): Uint8Array => new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
+/** A typed array's bytes, as a view. */
+export const bytesOf = (a: ArrayBufferView): Uint8Array => new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
 
 /** A temporary file typed arrays are appended to; closed, it is read back with `filePieces`. */
 export class AppendFile {
