@@ -48,6 +48,7 @@ const needOf = (material: readonly Point[]): number => Math.max(1, Math.ceil(NEA
 
 /** Whether a piece holds at least `need` points of `material` under one translation. */
 function pieceHolds(flat: FlatPoints, piece: number, material: readonly Point[], need: number): boolean {
+  flat.ensure?.(piece);
   const { at, pitch, offsets } = flat;
   const counts = new Map<number, number>();
   for (let c = offsets[piece]; c < offsets[piece + 1]; c++) {
@@ -68,6 +69,7 @@ function pieceHolds(flat: FlatPoints, piece: number, material: readonly Point[],
  */
 export function holdsAt(flat: FlatPoints, material: readonly Point[], at: { piece: number; shift: number; dp: number }, need: number): boolean {
   const { piece, shift, dp } = at;
+  flat.ensure?.(piece);
   const end = flat.offsets[piece + 1];
   let c = lowerBoundAt(flat.at, material[0].at - shift, flat.offsets[piece], end);
   let matched = 0;

@@ -230,6 +230,7 @@ function postedRuns(flat: FlatPoints, table: StoredFingerprints): PostedRuns {
       const ca = anchors[i];
       if (ca >= at.length) throw new RangeError(`fingerprint ${from + i} names point ${ca}, but the index holds ${at.length} points`);
       const piece = pieceAt(offsets, ca);
+      flat.ensure?.(piece);
       const end = offsets[piece + 1];
       const cb = firstAfter(at, ca, gap, end) + (codes[i] >> 4);
       const cc = firstAfter(at, cb, gap, end) + (codes[i] & 15);

@@ -27,6 +27,13 @@ export interface FlatNotes {
   morph: Uint8Array;
   velocity: Uint8Array;
   channel: Uint8Array;
+  /**
+   * Present when the notes are read a piece at a time, the first time the
+   * piece is touched (an index opened on demand, bridge/formats/index-file.ts):
+   * whatever reads piece p's entries calls it first. It throws when the
+   * piece's stored notes fail their check.
+   */
+  ensure?: (piece: number) => void;
 }
 
 const emptyNotes = (pieces: number, notes: number): FlatNotes => ({
@@ -137,6 +144,7 @@ export interface GrainSpan {
  *   pieceNotes(flat, 0, { fromGrains: 0, toGrains: toGrains(4) })   // → the first piece's notes of its first four beats
  */
 export function pieceNotes(notes: FlatNotes, piece: number, span?: GrainSpan): Note[] {
+  notes.ensure?.(piece);
   const [first, end] = [notes.offsets[piece], notes.offsets[piece + 1]];
   const from = span ? lowerBoundAt(notes.at, span.fromGrains, first, end) : first;
   const to = span ? lowerBoundAt(notes.at, span.toGrains, from, end) : end;
@@ -160,6 +168,7 @@ export function joinNotes(parts: readonly { notes: FlatNotes; piece: number }[])
   const out = emptyNotes(parts.length, total);
   let n = 0;
   parts.forEach(({ notes, piece }, p) => {
+    notes.ensure?.(piece);
     const from = notes.offsets[piece];
     const to = notes.offsets[piece + 1];
     out.offsets[p] = n;

@@ -171,6 +171,7 @@ export function scanBest(index: CorpusIndex, span: Span, exclude?: number): Wind
   let best: WindowMatch | null = null;
   for (let piece = 0; piece < index.pieces; piece++) {
     if (piece === exclude) continue;
+    index.points.ensure?.(piece);
     const end = offsets[piece + 1];
     let from = offsets[piece];
     let to = from;

@@ -76,6 +76,7 @@ export function warmUpPassages(flat: MatchCorpus['flat'], options: { passages?: 
   const out: Point[][] = [];
   for (let w = 0; w < count; w++) {
     const piece = Math.floor((w * pieces) / count);
+    flat.ensure?.(piece);
     const from = offsets[piece];
     const to = Math.min(offsets[piece + 1], from + (options.points ?? WARM_UP_POINTS));
     const passage: Point[] = [];

@@ -237,6 +237,7 @@ export interface PieceSearch {
 
 /** The best tolerant match of a window in one piece, or `incumbent` when nothing there beats it. */
 export function bestInPiece(s: PieceSearch, incumbent: WindowMatch | null): WindowMatch | null {
+  s.flat.ensure?.(s.piece);
   const bin = Math.max(1, s.tolGrains);
   const { at: onsets, offsets } = s.flat;
   const windowLines = s.windowLines ?? pitchLines(s.window);

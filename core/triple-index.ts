@@ -58,6 +58,13 @@ export interface FlatPoints {
   /** Ontime in grains from the start of the piece. */
   at: Int32Array;
   pitch: Uint8Array;
+  /**
+   * Present when the points are read a piece at a time, the first time the
+   * piece is touched (an index opened on demand, bridge/formats/index-file.ts):
+   * whatever reads piece p's entries of `at` and `pitch` calls it first. It
+   * throws when the piece's stored notes fail their check.
+   */
+  ensure?: (piece: number) => void;
 }
 
 /** The stored part of an index: points and postings. */
@@ -230,8 +237,10 @@ export function corpusIndex(postings: StoredPostings): CorpusIndex {
       for (let i = 0; i < anchors.length; i++) {
         const a = anchors[i];
         if (a >= at.length) throw new RangeError(`posting ${from + i} of the triple index names point ${a}, but the index holds ${at.length} points`);
+        const piece = pieceAt(offsets, a);
+        points.ensure?.(piece);
         posted[2 * (from + i)] = at[a];
-        posted[2 * (from + i) + 1] = (pieceAt(offsets, a) << 8) | pitch[a];
+        posted[2 * (from + i) + 1] = (piece << 8) | pitch[a];
       }
       gathered[k] = 1;
     },
@@ -275,6 +284,7 @@ export function lowerBoundAt(at: ArrayLike<number>, t: number, from: number, to:
 
 /** A piece's points as Point objects, for code that works on point sets (`--exact`, the baseline's samples). */
 export function piecePoints(points: FlatPoints, piece: number): Point[] {
+  points.ensure?.(piece);
   const out: Point[] = [];
   for (let i = points.offsets[piece]; i < points.offsets[piece + 1]; i++) out.push({ at: points.at[i], pitch: points.pitch[i] });
   return out;

@@ -62,6 +62,7 @@ export interface Verifier {
 
 /** The exact score of one translation of a piece, reading its points from the flat arrays. */
 export function verifyShift(flat: FlatPoints, span: Span, piece: number, shift: number, dp: number): WindowMatch {
+  flat.ensure?.(piece);
   const { at, pitch, offsets } = flat;
   const from = span.startGrains - shift;
   const lo = lowerBoundAt(at, from, offsets[piece], offsets[piece + 1]);
@@ -99,6 +100,7 @@ function pieceCounts(flat: FlatPoints, piece: number, span: Span): Map<number, n
  * at most count / |window|, so the scan stops once that falls below the best.
  */
 function exactEvery(flat: FlatPoints, span: Span, piece: number, incumbent: WindowMatch | null): WindowMatch | null {
+  flat.ensure?.(piece);
   const n = span.points.length;
   const counts = pieceCounts(flat, piece, span);
   let most = 0;
@@ -124,6 +126,7 @@ function exactEvery(flat: FlatPoints, span: Span, piece: number, incumbent: Wind
  * translation within `reach` of (shift, dp) matches more of them.
  */
 export function reachable(flat: FlatPoints, span: Span, c: Candidate, reach: number): number {
+  flat.ensure?.(c.piece);
   const { at, pitch, offsets } = flat;
   const end = offsets[c.piece + 1];
   let n = 0;
@@ -145,6 +148,7 @@ export function reachable(flat: FlatPoints, span: Span, c: Candidate, reach: num
 
 /** The indices [lo, hi) of one piece's points with ontime in [from, to) grains. */
 function excerptRange(flat: FlatPoints, piece: number, from: number, to: number): [number, number] {
+  flat.ensure?.(piece);
   const { at, offsets } = flat;
   const lo = lowerBoundAt(at, from, offsets[piece], offsets[piece + 1]);
   return [lo, lowerBoundAt(at, to, lo, offsets[piece + 1])];

@@ -153,7 +153,7 @@ function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
     throw new UsageError(`--corpus ${file}: the index was built ${contents.percussion ? 'with' : 'without'} --percussion; rebuild it with the same choice, or leave the option ${contents.percussion ? 'on' : 'off'}`);
   }
   const pieces = lazyPieces(contents);
-  const pointsOf = perMode((mode) => fromFile(() => notePoints(contents.notes, mode)));
+  const pointsOf = perMode((mode) => fromFile(() => contents.points?.(mode) ?? notePoints(contents.notes, mode)));
   const matchCorpus = perMode((mode) => {
     const postings = contents.postings[mode] ?? fromFile(() => readIndexFile(file, [mode], { deferNotes, onDemand: true })).postings[mode]!;
     const read = contents.fingerprints[mode] as () => StoredFingerprints;

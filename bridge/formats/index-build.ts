@@ -27,7 +27,7 @@ import { PITCH_MODES, type PitchMode } from '../../core/note.js';
 import { type FlatNotes, notePoints } from '../../core/flat-notes.js';
 import { CORPUS_TRIPLES, MAX_PIECES, type TripleShape, tripleRecords } from '../../core/triple-index.js';
 import { FINGERPRINT_SHAPE, type FingerprintShape, fingerprintRecords } from '../../core/fingerprint.js';
-import { type FileFingerprint, type PieceInfo, type ShardOf, IndexWriter, MODE_LETTER, MODE_SECTION_COUNT, NOTE_SECTIONS, NOTE_SECTION_COUNT, metaBytes } from './index-file.js';
+import { type FileFingerprint, type PieceInfo, type ShardOf, IndexWriter, MODE_LETTER, MODE_SECTION_COUNT, NOTE_SECTIONS, NOTE_SECTION_COUNT, PIECE_CHECKS, POINT_OFFSETS, metaBytes, pieceChecks } from './index-file.js';
 import { AppendFile, BucketSpill, type RecordLayout, bytesOf, filePieces } from './spill.js';
 import { type TablesJob, type TablesWritten, writeTables } from './pitch-tables.js';
 
@@ -88,7 +88,9 @@ export class IndexBuilder {
   private offsets: number[] = [0];
   private noteCount = 0;
   private readonly noteFiles: AppendFile[];
-  private readonly spills: Record<PitchMode, { triples: BucketSpill; fingerprints: BucketSpill; points: number }>;
+  /** Each piece's note checksums (PIECE_CHECKS). */
+  private readonly checks: AppendFile;
+  private readonly spills: Record<PitchMode, { triples: BucketSpill; fingerprints: BucketSpill; points: number; offsets: AppendFile }>;
   private done = false;
   /** Spill folders of builds stopped before they finished (their process is gone), found beside the index and removed. */
   readonly staleRemoved: string[];
@@ -104,11 +106,17 @@ export class IndexBuilder {
     this.staleRemoved = removeStaleSpills(dirname(file));
     this.dir = mkdtempSync(join(dirname(file), `${SPILL_PREFIX}${process.pid}-`));
     this.noteFiles = NOTE_SECTIONS.slice(1).map(([tag]) => new AppendFile(join(this.dir, tag)));
-    const spill = (mode: PitchMode) => ({
-      triples: new BucketSpill(join(this.dir, `${mode}-triples`), TRIPLE_LAYOUT),
-      fingerprints: new BucketSpill(join(this.dir, `${mode}-fingerprints`), FINGERPRINT_LAYOUT),
-      points: 0,
-    });
+    this.checks = new AppendFile(join(this.dir, PIECE_CHECKS));
+    const spill = (mode: PitchMode) => {
+      const offsets = new AppendFile(join(this.dir, `${mode}-${POINT_OFFSETS}`));
+      offsets.append(Uint32Array.of(0));
+      return {
+        triples: new BucketSpill(join(this.dir, `${mode}-triples`), TRIPLE_LAYOUT),
+        fingerprints: new BucketSpill(join(this.dir, `${mode}-fingerprints`), FINGERPRINT_LAYOUT),
+        points: 0,
+        offsets,
+      };
+    };
     this.spills = { chromatic: spill('chromatic'), morphetic: spill('morphetic') };
   }
 
@@ -128,12 +136,14 @@ export class IndexBuilder {
     this.pieces.push(...pieces);
     for (let p = 1; p <= pieces.length; p++) this.offsets.push(base + notes.offsets[p]);
     this.noteCount += notes.at.length;
-    NOTE_SECTIONS.slice(1).forEach(([, field], i) => this.noteFiles[i].append(notes[field]));
+    NOTE_SECTIONS.slice(1).forEach(([, field], i) => this.noteFiles[i].append(notes[field] as Uint8Array));
+    this.checks.append(pieceChecks(notes));
     for (const mode of PITCH_MODES) {
       const points = notePoints(notes, mode);
       const spill = this.spills[mode];
       spill.triples.add(tripleRecords(points, this.shape, spill.points));
       spill.fingerprints.add(fingerprintRecords(points, this.fingerprint, spill.points));
+      spill.offsets.append(points.offsets.subarray(1).map((o) => o + spill.points));
       spill.points += points.at.length;
     }
   }
@@ -158,6 +168,8 @@ export class IndexBuilder {
         this.noteFiles[i].close();
         copyInto(out, tag, this.noteFiles[i].path);
       });
+      this.checks.close();
+      copyInto(out, PIECE_CHECKS, this.checks.path);
       const jobs = PITCH_MODES.map((mode) => {
         const [triples, fingerprints] = [this.spills[mode].triples.close(), this.spills[mode].fingerprints.close()];
         const letter = MODE_LETTER[mode];
@@ -178,6 +190,8 @@ export class IndexBuilder {
         kept.fingerprintAnchors.end(tables.crcs.fingerprintAnchors);
         kept.codes.end(tables.crcs.codes);
         const letter = MODE_LETTER[mode];
+        this.spills[mode].offsets.close();
+        copyInto(out, letter + POINT_OFFSETS, this.spills[mode].offsets.path);
         copyInto(out, `${letter}KEY`, tables.keys);
         copyInto(out, `${letter}RUN`, tables.starts);
         copyInto(out, `${letter}FKY`, tables.fingerprintKeys);
@@ -203,8 +217,9 @@ export class IndexBuilder {
   private remove(): void {
     if (this.removed) return;
     this.removed = true;
-    for (const f of this.noteFiles) f.close();
+    for (const f of [...this.noteFiles, this.checks]) f.close();
     for (const mode of PITCH_MODES) {
+      this.spills[mode].offsets.close();
       this.spills[mode].triples.remove();
       this.spills[mode].fingerprints.remove();
     }

@@ -21,8 +21,8 @@ import { crc32 } from 'node:zlib';
 import { z } from 'zod';
 import { PITCH_MODES, type PitchMode } from '../../core/note.js';
 import type { Piece } from '../../core/corpus.js';
-import type { FlatNotes } from '../../core/flat-notes.js';
-import type { RunReader, StoredPostings, TripleShape } from '../../core/triple-index.js';
+import { type FlatNotes, notePoints } from '../../core/flat-notes.js';
+import type { FlatPoints, RunReader, StoredPostings, TripleShape } from '../../core/triple-index.js';
 import type { Baseline } from '../../core/report.js';
 import { baselineSchema } from './baseline-file.js';
 import { type SavedProblem, readSaved } from './saved.js';
@@ -63,6 +63,13 @@ export interface IndexContents {
   pieces: PieceInfo[];
   files: FileFingerprint[];
   notes: FlatNotes;
+  /**
+   * Reading on demand a file that holds each piece's checksums: a pitch
+   * dimension's points, read a piece at a time when first touched (FlatPoints
+   * `ensure`), as `notes` are then. Absent otherwise: the points are made
+   * from `notes` (core/flat-notes.ts notePoints).
+   */
+  points?: (mode: PitchMode) => FlatPoints;
   postings: Partial<Record<PitchMode, ModePostings>>;
   /** Which triples the fingerprint tables hold. */
   fingerprint: FingerprintShape;
@@ -112,6 +119,12 @@ export const NOTE_SECTIONS: [string, keyof FlatNotes, TypedCtor][] = [
   ['NVEL', 'velocity', Uint8Array],
   ['NCHN', 'channel', Uint8Array],
 ];
+/** The note sections a piece's notes are read from: all but the offsets. */
+const NOTE_FIELDS = NOTE_SECTIONS.slice(1);
+/** Per piece, the CRC-32 of its entries in each of NOTE_FIELDS, in order: what a piece read on its own is checked against. */
+export const PIECE_CHECKS = 'NPCK';
+/** After a pitch dimension's letter: its points' offsets, piece p's points being p's notes made into points (`notePoints`). */
+export const POINT_OFFSETS = 'POF';
 export const MODE_LETTER: Record<PitchMode, string> = { chromatic: 'C', morphetic: 'M' };
 const POSTING_SECTIONS: [string, keyof ModePostings, TypedCtor][] = [
   ['KEY', 'keys', Float64Array],
@@ -287,10 +300,28 @@ export class IndexWriter {
   }
 }
 
-/** Sections an index holds besides its pitch dimensions': META and the notes. */
-export const NOTE_SECTION_COUNT = 1 + NOTE_SECTIONS.length;
-/** Sections each pitch dimension adds: postings and fingerprint table. */
-export const MODE_SECTION_COUNT = POSTING_SECTIONS.length + FINGERPRINT_SECTIONS.length;
+/** Sections an index holds besides its pitch dimensions': META, the notes and their per-piece checksums. */
+export const NOTE_SECTION_COUNT = 1 + NOTE_SECTIONS.length + 1;
+/** Sections each pitch dimension adds: postings, fingerprint table and point offsets. */
+export const MODE_SECTION_COUNT = POSTING_SECTIONS.length + FINGERPRINT_SECTIONS.length + 1;
+
+/**
+ * The PIECE_CHECKS section of some pieces' notes: per piece, the CRC-32 of
+ * its entries in each note section.
+ *
+ * @example
+ *   pieceChecks(flattenNotes(pieces))   // → Uint32Array of pieces × 6 checksums
+ */
+export function pieceChecks(notes: FlatNotes): Uint32Array {
+  const pieces = notes.offsets.length - 1;
+  const out = new Uint32Array(pieces * NOTE_FIELDS.length);
+  for (let p = 0; p < pieces; p++) {
+    NOTE_FIELDS.forEach(([, field], f) => {
+      out[p * NOTE_FIELDS.length + f] = crc32(bytesOf((notes[field] as Typed).subarray(notes.offsets[p], notes.offsets[p + 1])));
+    });
+  }
+  return out;
+}
 
 /** The META JSON of an index's contents. */
 export const metaBytes = (contents: Omit<IndexContents, 'notes' | 'postings' | 'fingerprints'>, notes: number, modes: PitchMode[]): Uint8Array => {
@@ -316,8 +347,10 @@ export function writeIndexFile(file: string, contents: IndexToWrite): void {
   const out = new IndexWriter(file, NOTE_SECTION_COUNT + modes.length * MODE_SECTION_COUNT + (contents.baselines?.length ? 1 : 0));
   try {
     out.whole('META', metaBytes(contents, contents.notes.at.length, modes));
-    for (const [tag, field] of NOTE_SECTIONS) out.whole(tag, bytesOf(contents.notes[field]));
+    for (const [tag, field] of NOTE_SECTIONS) out.whole(tag, bytesOf(contents.notes[field] as Typed));
+    out.whole(PIECE_CHECKS, bytesOf(pieceChecks(contents.notes)));
     for (const mode of modes) {
+      out.whole(MODE_LETTER[mode] + POINT_OFFSETS, bytesOf(notePoints(contents.notes, mode).offsets));
       const postings = made(contents.postings[mode]!);
       for (const [tag, field] of POSTING_SECTIONS) out.whole(MODE_LETTER[mode] + tag, bytesOf(inMemory(postings[field], `${mode} postings`)));
     }
@@ -514,15 +547,8 @@ function readOpened(file: string, opened: Opened, modes: readonly PitchMode[], o
   const pieces = meta.pieces.length;
   const offsets = section<Uint32Array>(opened, file, 'NOFS', Uint32Array, pieces + 1);
   if (offsets[pieces] !== meta.notes) throw new IndexFileError(file, `damaged: the piece offsets end at ${offsets[pieces]}, not at the ${meta.notes} notes the index holds`);
-  const notes = { offsets } as FlatNotes;
-  const now = pointFields(modes);
-  for (const [tag, field, ctor] of NOTE_SECTIONS.slice(1)) {
-    if (!options.deferNotes || now.includes(field)) (notes as unknown as Record<string, Typed>)[field] = section(opened, file, tag, ctor, meta.notes);
-    else {
-      entryOf(opened, file, tag, ctor, meta.notes);
-      onFirstUse(notes, field, () => laterSection(file, opened.table, tag, ctor, meta.notes));
-    }
-  }
+  const byPiece = options.onDemand && opened.sections.has(PIECE_CHECKS) && meta.modes.every((m) => opened.sections.has(MODE_LETTER[m] + POINT_OFFSETS));
+  const { notes, points } = byPiece ? piecewise(opened, file, meta, offsets) : { notes: wholeNotes(opened, file, meta, offsets, modes, options), points: undefined };
   const postings: Partial<Record<PitchMode, ModePostings>> = {};
   for (const mode of modes) {
     if (!meta.modes.includes(mode)) throw new IndexFileError(file, `holds no ${mode} postings`);
@@ -560,7 +586,72 @@ function readOpened(file: string, opened: Opened, modes: readonly PitchMode[], o
       return table;
     };
   }
-  return { shape: meta.shape, fingerprint: meta.fingerprint, percussion: meta.percussion, pieces: meta.pieces, files: meta.files, notes, postings, fingerprints, ...(meta.shard ? { shard: meta.shard } : {}) };
+  return { shape: meta.shape, fingerprint: meta.fingerprint, percussion: meta.percussion, pieces: meta.pieces, files: meta.files, notes, ...(points ? { points } : {}), postings, fingerprints, ...(meta.shard ? { shard: meta.shard } : {}) };
+}
+
+/** The note sections read whole: now, or (`deferNotes`) those the point sets of `modes` do not need when first used. */
+function wholeNotes(opened: Opened, file: string, meta: Meta, offsets: Uint32Array, modes: readonly PitchMode[], options: ReadOptions): FlatNotes {
+  const notes = { offsets } as FlatNotes;
+  const now = pointFields(modes);
+  for (const [tag, field, ctor] of NOTE_FIELDS) {
+    if (!options.deferNotes || now.includes(field)) (notes as unknown as Record<string, Typed>)[field] = section(opened, file, tag, ctor, meta.notes);
+    else {
+      entryOf(opened, file, tag, ctor, meta.notes);
+      onFirstUse(notes, field, () => laterSection(file, opened.table, tag, ctor, meta.notes));
+    }
+  }
+  return notes;
+}
+
+/**
+ * The notes, and each pitch dimension's points, read a piece at a time
+ * through the open file the first time the piece is touched (their
+ * `ensure`), each piece's entries checked against its checksums in
+ * PIECE_CHECKS: opening reads nothing per note. The arrays are made whole
+ * and empty at once; memory is taken only where pieces are written in.
+ */
+function piecewise(opened: Opened, file: string, meta: Meta, offsets: Uint32Array): { notes: FlatNotes; points: (mode: PitchMode) => FlatPoints } {
+  const pieces = meta.pieces.length;
+  const checks = section<Uint32Array>(opened, file, PIECE_CHECKS, Uint32Array, pieces * NOTE_FIELDS.length);
+  const entries = NOTE_FIELDS.map(([tag, , ctor]) => entryOf(opened, file, tag, ctor, meta.notes));
+  /** Piece p's entries of note field f, read and checked. */
+  const slice = (f: number, p: number): Typed => {
+    const [tag, , ctor] = NOTE_FIELDS[f];
+    const size = ctor.BYTES_PER_ELEMENT;
+    const bytes = readExactly(opened.fd, file, (offsets[p + 1] - offsets[p]) * size, entries[f].offset + offsets[p] * size, `section ${tag}`);
+    if (crc32(bytes) !== checks[p * NOTE_FIELDS.length + f]) throw new IndexFileError(file, `damaged: piece ${p + 1}'s entries of section ${tag} fail their checksum`);
+    return new ctor(bytes.buffer, 0, offsets[p + 1] - offsets[p]);
+  };
+  const fieldOf = (name: keyof FlatNotes): number => NOTE_FIELDS.findIndex(([, field]) => field === name);
+  const notes = { offsets } as FlatNotes;
+  for (const [, field, ctor] of NOTE_FIELDS) (notes as unknown as Record<string, Typed>)[field] = new ctor(meta.notes);
+  const notesRead = new Uint8Array(pieces);
+  notes.ensure = (p) => {
+    if (notesRead[p]) return;
+    NOTE_FIELDS.forEach(([, field], f) => (notes[field] as Typed).set(slice(f, p), offsets[p]));
+    notesRead[p] = 1;
+  };
+  const points = (mode: PitchMode): FlatPoints => {
+    const starts = section<Uint32Array>(opened, file, MODE_LETTER[mode] + POINT_OFFSETS, Uint32Array, pieces + 1);
+    for (let p = 0; p < pieces; p++) {
+      if (starts[p] > starts[p + 1] || starts[p + 1] - starts[p] > offsets[p + 1] - offsets[p]) throw new IndexFileError(file, `damaged: the ${mode} point offsets of piece ${p + 1} do not fit its notes`);
+    }
+    const [atField, pitchField] = [fieldOf('at'), fieldOf(mode === 'chromatic' ? 'pitch' : 'morph')];
+    const flat: FlatPoints = { mode, offsets: starts, at: new Int32Array(starts[pieces]), pitch: new Uint8Array(starts[pieces]) };
+    const read = new Uint8Array(pieces);
+    flat.ensure = (p) => {
+      if (read[p]) return;
+      const source = slice(pitchField, p) as Uint8Array;
+      const one = notePoints({ offsets: Uint32Array.of(0, source.length), at: slice(atField, p) as Int32Array, pitch: source, morph: source } as FlatNotes, mode);
+      if (one.at.length !== starts[p + 1] - starts[p]) throw new IndexFileError(file, `damaged: piece ${p + 1} makes ${one.at.length} ${mode} points, its point offsets say ${starts[p + 1] - starts[p]}`);
+      flat.at.set(one.at, starts[p]);
+      flat.pitch.set(one.pitch, starts[p]);
+      read[p] = 1;
+    };
+    return flat;
+  };
+  const made = new Map<PitchMode, FlatPoints>();
+  return { notes, points: (mode) => made.get(mode) ?? made.set(mode, points(mode)).get(mode)! };
 }
 
 /** Version of the optional BASE section's JSON, apart from the index's: a reader of the postings need not understand it. */

@@ -10,7 +10,7 @@
  *   npx vitest run test/bridge/formats/index-build.test.ts
  */
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdirSync, mkdtempSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -45,6 +45,17 @@ function arrays(file: string): Record<string, ArrayLike<number>> {
   return out;
 }
 
+/** Each section's CRC-32 and length, by tag, off the file's section table: equal for two files holding the same sections in any order. */
+function sections(file: string): Record<string, string> {
+  const bytes = readFileSync(file);
+  const out: Record<string, string> = {};
+  for (let i = 0; i < bytes.readUInt32LE(12); i++) {
+    const e = 24 + 24 * i;
+    out[bytes.toString('latin1', e, e + 4)] = `${bytes.readUInt32LE(e + 4)} ${bytes.readBigUInt64LE(e + 16)}`;
+  }
+  return out;
+}
+
 const inMemory = join(dir, 'in-memory');
 const notes = flattenNotes(corpus.pieces);
 writeIndexFile(inMemory, {
@@ -72,6 +83,9 @@ describe('an index written streamed', () => {
     const built = await streamed(file, 4).finish({ files });
     expect(built).toEqual({ pieces: 30, notes: notes.at.length, points: { chromatic: notePoints(notes, 'chromatic').at.length, morphetic: notePoints(notes, 'morphetic').at.length } });
     expect(arrays(file)).toEqual(expected);
+    // Every section, the pieces' checksums and the point offsets among them.
+    expect(Object.keys(sections(file))).toEqual(expect.arrayContaining(['NPCK', 'CPOF', 'MPOF']));
+    expect(sections(file)).toEqual(sections(inMemory));
     const read = readIndexFile(file, []);
     expect(read.pieces).toEqual(infos);
     expect(read.files).toEqual(files);
