@@ -282,6 +282,27 @@ export function lowerBoundAt(at: ArrayLike<number>, t: number, from: number, to:
   return lo;
 }
 
+/**
+ * Reads points kept on first touch (`ensure`) ahead of need, `step` pieces
+ * at a time, yielding the pieces read so far after each step: a caller with
+ * idle time (the daemon's scoring worker between notes) steps through it, so
+ * the first notes played after a start touch pieces already read. Points all
+ * in memory end it at once.
+ *
+ * @example
+ *   const ahead = readAhead(flat, 16);
+ *   ahead.next()   // → { value: 16, done: false }, pieces 0–15 read
+ */
+export function* readAhead(points: FlatPoints, step = 16): Generator<number, void> {
+  const ensure = points.ensure;
+  if (!ensure) return;
+  const pieces = points.offsets.length - 1;
+  for (let p = 0; p < pieces; p++) {
+    ensure(p);
+    if ((p + 1) % step === 0) yield p + 1;
+  }
+}
+
 /** A piece's points as Point objects, for code that works on point sets (`--exact`, the baseline's samples). */
 export function piecePoints(points: FlatPoints, piece: number): Point[] {
   points.ensure?.(piece);

@@ -5,9 +5,9 @@
  * current index (every score file's size and mtime as indexed) is opened through the index; a folder
  * whose index is out of date is read file by file, with a note saying so.
  *
- * Opened through an index, pieces read their notes from it only when first
- * asked (an excerpt, say), and point sets come straight from its arrays, so
- * opening costs little however large the corpus (test/bench/RESULTS.md, load).
+ * Opened through an index, a piece's notes and points are read from it only
+ * when matching or an excerpt first touches the piece, so opening reads
+ * nothing per note however large the corpus (test/bench/RESULTS.md, load).
  *
  * Either way, `matcher` is the one entry point to matching (core/pipeline.ts):
  * a folder builds in memory the triple index and fingerprint table that
@@ -38,6 +38,8 @@ import { openShards } from './sharded-corpus.js';
 export interface OpenedCorpus {
   source: string;
   corpus: Corpus;
+  /** Notes the corpus holds, counted without making them (a piece's `notes` made from an index are read from it). */
+  notes: number;
   skipped: Skipped[];
   /** The index file the corpus came from, or null when it was read from its score files. */
   indexFile: string | null;
@@ -80,12 +82,14 @@ export interface OpenOptions {
   /** The pitch dimension to load the index's postings for first. */
   pitch?: PitchMode;
   /**
-   * Read an index's note sections that matching does not need only when first
-   * used (the default). False reads every note now, for a caller whose index
-   * may be rebuilt or deleted while it runs: the daemon's workers. (Postings
-   * and fingerprints are read a key at a time either way, through the file
-   * held open since it was opened, so a rebuild or deletion does not touch
-   * them: bridge/formats/index-file.ts `onDemand`.)
+   * For an index written before the pieces' checksums were stored: read its
+   * note sections that matching does not need only when first used (the
+   * default). False reads every note now, for a caller whose index may be
+   * rebuilt or deleted while it runs: the daemon's workers. (Any other
+   * index's notes are read a piece at a time, and every index's postings and
+   * fingerprints a key at a time, through the file held open since it was
+   * opened, so a rebuild or deletion does not touch them:
+   * bridge/formats/index-file.ts `onDemand`.)
    */
   deferNotes?: boolean;
   /**
@@ -163,6 +167,7 @@ function fromIndex(file: string, options: OpenOptions): OpenedCorpus {
   const opened = {
     source: file,
     corpus: { pieces },
+    notes: contents.notes.offsets[pieces.length],
     skipped: contents.files.filter((f) => f.error !== null).map((f) => ({ file: f.path, error: f.error! })),
     indexFile: file,
     view: (mode: PitchMode) => flatView(mode, pieces, pointsOf(mode)),
@@ -181,7 +186,7 @@ function fromFolder(dir: string, options: OpenOptions): OpenedCorpus {
     let table: FingerprintTable | null = null;
     return { flat, index: corpusIndex(buildTriples(flat)), fingerprints: () => (table ??= buildFingerprints(flat)) };
   });
-  const opened = { source: dir, corpus, skipped, indexFile: null, view: (mode: PitchMode) => corpusPoints(corpus, mode), notesIn: (piece: number, span: GrainSpan) => notesWithin(corpus.pieces[piece].notes, span), matchCorpus };
+  const opened = { source: dir, corpus, notes: corpus.pieces.reduce((n, p) => n + p.notes.length, 0), skipped, indexFile: null, view: (mode: PitchMode) => corpusPoints(corpus, mode), notesIn: (piece: number, span: GrainSpan) => notesWithin(corpus.pieces[piece].notes, span), matchCorpus };
   return { ...opened, matcher: (request) => matcherOf(opened, request) };
 }
 

@@ -79,6 +79,7 @@ export function openShards(manifestFile: string, options: OpenOptions = {}): Ope
   return {
     source: manifestFile,
     corpus: { pieces },
+    notes: shards.reduce((n, s) => n + s.notes, 0),
     skipped: shards.flatMap((s) => s.skipped),
     indexFile: null,
     view: (mode) => joinedView(mode, pieces, shards),

@@ -298,6 +298,7 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     windowRestarts: scorer.counters.restarts,
     lastEvaluationMs: scorer.counters.lastEvaluationMs,
     warmUp: scorer.counters.warmUp,
+    readAhead: scorer.counters.readAhead,
     warnings: state.warnings,
     standing: state.standing?.piece ?? null,
     badInput: { ...bad.counts },

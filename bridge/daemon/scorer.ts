@@ -37,7 +37,7 @@ export interface CorpusSummary {
 }
 
 /** What a worker tells the daemon of the corpus it opened. */
-export const corpusSummary = ({ source, corpus }: Pick<OpenedCorpus, 'source' | 'corpus'>): CorpusSummary => ({ source, pieces: corpus.pieces.length, notes: corpus.pieces.reduce((s, p) => s + p.notes.length, 0) });
+export const corpusSummary = ({ source, corpus, notes }: Pick<OpenedCorpus, 'source' | 'corpus' | 'notes'>): CorpusSummary => ({ source, pieces: corpus.pieces.length, notes });
 
 export type ToWorker = { type: 'evaluate'; reset: boolean; notes: LiveNote[] } | { type: 'reset'; reset: true };
 export type FromWorker =
@@ -46,6 +46,7 @@ export type FromWorker =
   /** Something the user should hear about while the corpus opens: a file skipped, an index not used. */
   | { type: 'notice'; line: string }
   | { type: 'warmed' } & WarmUp
+  | { type: 'readAhead' } & ReadAhead
   | { type: 'verdict'; verdict: LiveVerdict; elapsedMs: number };
 
 /** The worker's warm-up (live-scorer.ts `warmingUp`): notes played, how long it took, and whether it ran to the end or the first note stopped it. */
@@ -53,6 +54,12 @@ export interface WarmUp {
   notes: number;
   ms: number;
   complete: boolean;
+}
+
+/** The worker's reading of every piece ahead of need, done: the pieces read (0 for a corpus all in memory), and ms from the start. */
+export interface ReadAhead {
+  pieces: number;
+  ms: number;
 }
 
 export interface ScorerCounters {
@@ -66,6 +73,8 @@ export interface ScorerCounters {
   lastEvaluationMs: number | null;
   /** Null while the worker warms up. */
   warmUp: WarmUp | null;
+  /** Null until the worker has read every piece ahead (at once for a corpus all in memory). */
+  readAhead: ReadAhead | null;
   busy: boolean;
 }
 
@@ -85,7 +94,7 @@ export async function startScorer(
   onVerdict: (v: LiveVerdict, current: boolean) => void,
   options: { workerUrl?: URL; onCrash?: (message: string) => void; onNotice?: (line: string) => void } = {},
 ): Promise<{ scorer: Scorer; corpus: CorpusSummary }> {
-  const counters: ScorerCounters = { evaluations: 0, coalesced: 0, dropped: 0, restarts: 0, lastEvaluationMs: null, warmUp: null, busy: false };
+  const counters: ScorerCounters = { evaluations: 0, coalesced: 0, dropped: 0, restarts: 0, lastEvaluationMs: null, warmUp: null, readAhead: null, busy: false };
   let waiting: LiveNote[] = [];
   let waitingReset = false;
   let closing = false;
@@ -114,6 +123,7 @@ export async function startScorer(
     new Promise((resolve, reject) => {
       let ready = false;
       counters.warmUp = null;
+      counters.readAhead = null;
       // The worker collects its garbage between notes (idle-collect.ts).
       exposeCollector();
       worker = new Worker(options.workerUrl ?? WORKER_URL, { workerData: setup });
@@ -124,6 +134,7 @@ export async function startScorer(
         } else if (m.type === 'failed') reject(new UsageError(m.message));
         else if (m.type === 'notice') options.onNotice?.(m.line);
         else if (m.type === 'warmed') counters.warmUp = { notes: m.notes, ms: m.ms, complete: m.complete };
+        else if (m.type === 'readAhead') counters.readAhead = { pieces: m.pieces, ms: m.ms };
         else {
           counters.busy = false;
           counters.evaluations++;

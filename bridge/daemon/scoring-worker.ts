@@ -7,7 +7,10 @@
  * Messages out: { type: 'ready', corpus } once loaded, or { type: 'failed', message };
  * then { type: 'warmed', notes, ms, complete } once the warm-up (live-scorer.ts
  * `warmingUp`, run while no note has come) ends or the first note stops it,
- * and { type: 'verdict', verdict, elapsedMs } for each evaluate.
+ * { type: 'readAhead', pieces, ms } once every piece of a corpus opened
+ * on demand has been read ahead (a few pieces a turn of the event loop, from
+ * the start and between notes), and { type: 'verdict', verdict, elapsedMs }
+ * for each evaluate.
  *
  * @example
  *   new Worker(new URL('./scoring-worker.js', import.meta.url), { workerData: { corpus: 'presets/demo/corpus', windowBeats: 16, grid: 12 } });
@@ -16,23 +19,28 @@ import { parentPort, workerData } from 'node:worker_threads';
 import { performance } from 'node:perf_hooks';
 import { openCorpus } from '../corpus/open-corpus.js';
 import { idleCollector } from './idle-collect.js';
-import { type LiveScorer, liveScorer, warmingUp } from './live-scorer.js';
+import { type LiveMatching, type LiveScorer, liveScorer, warmingUp } from './live-scorer.js';
 import { warmUpPassages } from '../../core/live-match.js';
+import { readAhead } from '../../core/triple-index.js';
 import { type FromWorker, type ToWorker, type WorkerSetup, corpusSummary } from './scorer.js';
 
 const setup = workerData as WorkerSetup;
 const port = parentPort!;
 const post = (m: FromWorker): void => port.postMessage(m);
 
+/** Pieces read ahead per turn of the event loop: about a millisecond's reading. */
+const READ_AHEAD_PIECES = 16;
+
 let scorer: LiveScorer;
+let matching: LiveMatching;
 let warming: Generator<number, void> | null = null;
 /** The verdict has gone: the scoring's garbage goes now, not during the next note's (idle-collect.ts). */
 const collect = idleCollector();
 try {
-  // Every note read now: the index file may be rebuilt or deleted while the daemon listens (postings are read through the file held open).
+  // An index written before the pieces' checksums were stored is read whole now: it may be rebuilt or deleted while the daemon listens. Any other is read through the file held open, a piece at a time.
   const opened = openCorpus(setup.corpus, { deferNotes: false, notify: (line) => post({ type: 'notice', line }) });
   const { corpus } = opened;
-  const matching = opened.matchCorpus('chromatic');
+  matching = opened.matchCorpus('chromatic');
   if (setup.tempoFree) matching.fingerprints?.();
   scorer = liveScorer(corpus, { windowBeats: setup.windowBeats, grid: setup.grid, tolerance: setup.tolerance, tempoFree: setup.tempoFree, early: setup.early }, { ...matching, notesIn: opened.notesIn });
   collect({ full: true });
@@ -64,6 +72,19 @@ const warmStep = (): void => {
   }
 };
 setImmediate(warmStep);
+
+// Every piece's points read ahead, a few pieces per turn of the event loop, from the start and between notes: a corpus opened on demand (bridge/formats/index-file.ts) is then all in memory a few seconds after the start, and a note waits for a few pieces at most.
+const ahead = readAhead(matching.flat, READ_AHEAD_PIECES);
+const aheadStep = (): void => {
+  try {
+    if (!ahead.next().done) setImmediate(aheadStep);
+    else post({ type: 'readAhead', pieces: matching.flat.ensure ? matching.flat.offsets.length - 1 : 0, ms: performance.now() - warmUpStarted });
+  } catch (e) {
+    // A damaged piece: said once here; a note that touches it is refused as any read of it is.
+    post({ type: 'notice', line: `reading the corpus ahead stopped: ${(e as Error).message}` });
+  }
+};
+setImmediate(aheadStep);
 
 port.on('message', (m: ToWorker) => {
   if (warming) stopWarming(false);

@@ -23,11 +23,15 @@
  *   parseAbc('X:1\nT:Gull Point\nK:D\nDEF|\n', 'book.abc').pieces[0]
  *   // → { id: '1', title: 'Gull Point', notes: [{ onset: 0, duration: 0.5, pitch: 62, morph: 61, … }, …], key: { tonic: 'D', … }, … }
  */
-import abcjs from 'abcjs';
+import { createRequire } from 'node:module';
 import type { Note } from '../../core/note.js';
 import { notesLength } from '../../core/corpus.js';
 import { type Key, estimateKey, keyFromSignature, spellNotes } from '../../core/spelling.js';
 import { type ScoreFile, type ScorePiece, type SkippedPiece, type TimeSignature, MAX_SCORE_NOTES, ScoreFileError, onGrid } from './score-piece.js';
+
+/** abcjs, loaded the first time an ABC file is read: most commands never read one, and loading it takes a tenth of a second. */
+let loaded: typeof import('abcjs') | null = null;
+const abcjs = (): typeof import('abcjs') => (loaded ??= createRequire(import.meta.url)('abcjs') as typeof import('abcjs'));
 
 /** The parts of abcjs's parsed tune this reader uses. */
 interface AbcPitch {
@@ -195,7 +199,7 @@ function keysAtRepeats(tune: AbcTune): void {
 
 /** One tune's text → a piece. Throws a TuneError saying what is wrong with the tune. */
 function readTune(abc: string, id: string, options: { percussion?: boolean }): ScorePiece {
-  const [tune] = abcjs.parseOnly(abc) as unknown as AbcTune[];
+  const [tune] = abcjs().parseOnly(abc) as unknown as AbcTune[];
   if (!tune) throw new TuneError('holds no tune abcjs could read');
   const byChar = new Map<number, AbcElement>();
   const written = elements(tune).reduce((sum, el) => sum + (el.el_type === 'note' && el.rest?.type !== 'multimeasure' ? Math.abs(Number(el.duration)) || 0 : 0), 0);
@@ -260,7 +264,7 @@ function tuneIds(tunes: { pure: string }[]): string[] {
 
 /** Parses an ABC file's text into its tunes; a tune that cannot be read is listed with its reason. Throws ScoreFileError when the file holds no tune. */
 export function parseAbc(text: string, file: string, options: { percussion?: boolean } = {}): ScoreFile {
-  const book = new abcjs.TuneBook(text.replace(/\r\n?/g, '\n')) as unknown as { tunes: { abc: string; pure: string }[] };
+  const book = new (abcjs().TuneBook)(text.replace(/\r\n?/g, '\n')) as unknown as { tunes: { abc: string; pure: string }[] };
   const tunes = book.tunes.filter((t) => /^[XK]:/m.test(t.pure)); // text with neither is a file's header or free text between tunes
   if (tunes.length === 0) throw new ScoreFileError(file, 'holds no ABC tune (a tune starts with an X: line, then its header fields and the K: key)');
   const ids = tuneIds(tunes);

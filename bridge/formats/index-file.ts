@@ -473,9 +473,11 @@ export interface ReadOptions {
    */
   deferNotes?: boolean;
   /**
-   * Read the postings' anchors, and the fingerprint tables' anchors and
-   * codes, a key's run at a time when matching first votes from the key, not
-   * whole now: at a hundred million notes they are gigabytes, of which a
+   * Read the notes and points a piece at a time, the first time the piece is
+   * touched (`ensure`; a file written before the pieces' checksums were
+   * stored is read as `deferNotes` says), and the postings' anchors, and the
+   * fingerprint tables' anchors and codes, a key's run at a time when
+   * matching first votes from the key, not whole now: at a hundred million notes they are gigabytes, of which a
    * session touches a small part. The file stays open for the life of the
    * process, so a rebuild (written beside it and renamed over it) or a
    * deletion does not change what is read. Runs are not checked against
@@ -608,7 +610,8 @@ function wholeNotes(opened: Opened, file: string, meta: Meta, offsets: Uint32Arr
  * through the open file the first time the piece is touched (their
  * `ensure`), each piece's entries checked against its checksums in
  * PIECE_CHECKS: opening reads nothing per note. The arrays are made whole
- * and empty at once; memory is taken only where pieces are written in.
+ * and empty when first asked for; memory is taken only where pieces are
+ * written in.
  */
 function piecewise(opened: Opened, file: string, meta: Meta, offsets: Uint32Array): { notes: FlatNotes; points: (mode: PitchMode) => FlatPoints } {
   const pieces = meta.pieces.length;
@@ -624,7 +627,8 @@ function piecewise(opened: Opened, file: string, meta: Meta, offsets: Uint32Arra
   };
   const fieldOf = (name: keyof FlatNotes): number => NOTE_FIELDS.findIndex(([, field]) => field === name);
   const notes = { offsets } as FlatNotes;
-  for (const [, field, ctor] of NOTE_FIELDS) (notes as unknown as Record<string, Typed>)[field] = new ctor(meta.notes);
+  // Made when a piece's notes are first asked for (an excerpt): matching reads points, not notes.
+  for (const [, field, ctor] of NOTE_FIELDS) onFirstUse(notes, field, () => new ctor(meta.notes));
   const notesRead = new Uint8Array(pieces);
   notes.ensure = (p) => {
     if (notesRead[p]) return;

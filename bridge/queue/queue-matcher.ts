@@ -12,7 +12,7 @@
  *   const matches = await matchOverQueue({ url, manifestFile, manifest, request, windows, timeoutSeconds: 30 });
  *   matches[0]   // → { piece: 12, ..., score: 1, distinctiveness: 0.5 }, as the one index answers
  */
-import { type Job, Queue, QueueEvents } from 'bullmq';
+import type { Job, Queue, QueueEvents } from 'bullmq';
 import type { MatchWindow, WindowMatch } from '../../core/match.js';
 import { finishMatch, needsCount, winningAnswer } from '../../core/shards.js';
 import { type ShardManifest, shardPath } from '../formats/shard-manifest.js';
@@ -46,6 +46,8 @@ interface Shard {
 const startHint = (o: QueueMatchOptions, s: Shard): string => `start one with: earwitness worker --queue ${shownUrl(o.url)} --corpus ${s.file}`;
 
 async function openShards(o: QueueMatchOptions, connection: RedisConnection): Promise<Shard[]> {
+  // Loaded here, not with the module: every command that may take --queue would otherwise load it at start.
+  const { Queue, QueueEvents } = await import('bullmq');
   const shards = o.manifest.shards.map((entry, k) => {
     const name = queueName({ name: o.manifest.name, number: k + 1, of: o.manifest.shards.length });
     return { number: k + 1, queue: new Queue(name, { connection }), events: new QueueEvents(name, { connection }), file: shardPath(o.manifestFile, entry) };

@@ -7,7 +7,6 @@
  *   await reachRedis('redis://127.0.0.1:6379', redisConnection('redis://127.0.0.1:6379'), 10);
  *   // throws: --queue redis://127.0.0.1:6379: Redis did not answer within 10 s (connect ECONNREFUSED 127.0.0.1:6379); is redis-server running there?
  */
-import { Redis } from 'ioredis';
 import { UsageError } from '../formats/user-error.js';
 import type { RedisConnection } from './redis-url.js';
 import { shownUrl } from './redis-url.js';
@@ -16,6 +15,8 @@ export async function reachRedis(url: string, connection: RedisConnection, secon
   const deadline = Date.now() + seconds * 1000;
   let last = 'no answer';
   const refusedLogin = (why: string): boolean => /NOAUTH|WRONGPASS|invalid password|invalid username-password/i.test(why);
+  // Loaded here, not with the module, as bullmq is (queue-matcher.ts).
+  const { Redis } = await import('ioredis');
   const client = new Redis({
     ...connection,
     lazyConnect: true,

@@ -12,7 +12,7 @@
  *   await served.closed;   // until stopped, or a job it must refuse
  */
 import { setImmediate as yieldNow } from 'node:timers/promises';
-import { type Job, UnrecoverableError, Worker } from 'bullmq';
+import type { Job } from 'bullmq';
 import { type ShardMatcher, shardMatcher } from '../../core/shards.js';
 import { type ShardOf, readIndexCrc, readIndexMeta } from '../formats/index-file.js';
 import { UsageError } from '../formats/user-error.js';
@@ -69,6 +69,7 @@ export async function serveShard(options: WorkerOptions): Promise<ServedShard> {
   };
   const connection = redisConnection(options.url);
   await reachRedis(options.url, connection, options.timeoutSeconds ?? 10);
+  const { UnrecoverableError, Worker } = await import('bullmq');
   const queue = queueName(shard);
   let refused: string | null = null;
   let stop: (why: string | null) => void = () => {};

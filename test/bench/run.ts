@@ -107,9 +107,12 @@ export interface CorpusRow {
   buildSeconds: number;
   /** …and the process's peak resident memory by then, MB (the build's own in a --large run, its only corpus). */
   buildPeakMB: number;
+  /** Seconds a fresh process takes to open the index ready to match (chromatic), as `--corpus FILE` does (the median of three)… */
   loadSeconds: number;
-  /** Resident memory of that fresh process once loaded (the median run's), MB. */
+  /** …its resident memory then, MB… */
   loadedMB: number;
+  /** …and the seconds it then takes to read every piece's points, as a session touching every piece would over its course (a file read piece by piece; 0 for one read whole at once). */
+  everyPieceSeconds: number;
   indexBytesPerNote: number;
   residentMB: number;
   modes: ModeRow[];
@@ -227,20 +230,27 @@ async function buildIndex(file: string, pieces: Iterable<Point[]>, options: { pe
   return { pieces: count, seconds: (ms(t0) - making) / 1000, ...queries(kept, options.perKind, 7) };
 }
 
-/** Seconds a fresh process takes to load the index (chromatic postings) ready to match, as `--corpus FILE` does, and its resident memory then. */
-function freshLoad(file: string): { seconds: number; residentMB: number } {
+interface FreshLoad {
+  seconds: number;
+  residentMB: number;
+  everyPieceSeconds: number;
+}
+
+/** A fresh process opening the index ready to match, as `--corpus FILE` does (CorpusRow's loadSeconds, loadedMB, everyPieceSeconds). */
+function freshLoad(file: string): FreshLoad {
   const dist = join(import.meta.dirname, '../..');
   const script = `
-    const { readIndexFile } = await import(${JSON.stringify(join(dist, 'bridge/formats/index-file.js'))});
-    const { notePoints } = await import(${JSON.stringify(join(dist, 'core/flat-notes.js'))});
-    const { corpusIndex } = await import(${JSON.stringify(join(dist, 'core/triple-index.js'))});
+    const { openCorpus } = await import(${JSON.stringify(join(dist, 'bridge/corpus/open-corpus.js'))});
     const t = performance.now();
-    const read = readIndexFile(${JSON.stringify(file)}, ['chromatic'], { deferNotes: true, onDemand: true });
-    corpusIndex({ ...read.postings.chromatic, points: notePoints(read.notes, 'chromatic'), shape: read.shape });
-    process.stdout.write(JSON.stringify({ seconds: (performance.now() - t) / 1000, residentMB: process.memoryUsage().rss / 2 ** 20 }));`;
+    const { flat } = openCorpus(${JSON.stringify(file)}).matchCorpus('chromatic');
+    const seconds = (performance.now() - t) / 1000;
+    const residentMB = process.memoryUsage().rss / 2 ** 20;
+    const e = performance.now();
+    for (let p = 0; p < flat.offsets.length - 1; p++) flat.ensure?.(p);
+    process.stdout.write(JSON.stringify({ seconds, residentMB, everyPieceSeconds: (performance.now() - e) / 1000 }));`;
   const r = spawnSync(process.execPath, ['--input-type=module', '-e', script], { encoding: 'utf8' });
   if (r.status !== 0) throw new Error(`loading ${file} in a fresh process failed: ${r.stderr}`);
-  return JSON.parse(r.stdout) as { seconds: number; residentMB: number };
+  return JSON.parse(r.stdout) as FreshLoad;
 }
 
 const timed = (m: WindowMatcher, p: Probe): { ms: number; match: WindowMatch | null } => {
@@ -382,7 +392,7 @@ async function benchCorpus(name: string, make: () => Iterable<Point[]>, options:
     // The median of three: the first read of a file just written can wait on the disk, as a user's load (long after the build) does not.
     const load = [freshLoad(file), freshLoad(file), freshLoad(file)].sort((a, b) => a.seconds - b.seconds)[1];
     const read = readIndexFile(file, ['chromatic'], { deferNotes: true, onDemand: true });
-    const flat = notePoints(read.notes, 'chromatic');
+    const flat = read.points?.('chromatic') ?? notePoints(read.notes, 'chromatic');
     const corpus = { flat, index: corpusIndex({ ...read.postings.chromatic!, points: flat, shape: read.shape }), fingerprints: read.fingerprints.chromatic as () => StoredFingerprints };
     const table = corpus.fingerprints();
     const withTable = { ...corpus, fingerprints: () => table };
@@ -398,6 +408,7 @@ async function benchCorpus(name: string, make: () => Iterable<Point[]>, options:
       buildPeakMB,
       loadSeconds: round(load.seconds, 3),
       loadedMB: Math.round(load.residentMB),
+      everyPieceSeconds: round(load.everyPieceSeconds, 3),
       indexBytesPerNote: round(bytes / flat.at.length, 1),
       residentMB: Math.round(process.memoryUsage().rss / 2 ** 20),
       modes: rows,
@@ -419,7 +430,7 @@ function table(r: CorpusRow): string {
   const pct = (x: number | null): string => (x === null ? '—' : `${round(100 * x, 1)}%`);
   const lines = [
     `${r.corpus}: ${r.notes} notes in ${r.pieces} pieces`,
-    `  build ${r.buildSeconds} s, peak ${r.buildPeakMB} MB resident (notes, triples and fingerprints, both pitch dimensions, streamed and written), load ${r.loadSeconds} s (${r.loadedMB} MB resident then), ${r.indexBytesPerNote} bytes/note on disk, resident ${r.residentMB} MB`,
+    `  build ${r.buildSeconds} s, peak ${r.buildPeakMB} MB resident (notes, triples and fingerprints, both pitch dimensions, streamed and written), load ${r.loadSeconds} s (${r.loadedMB} MB resident then; every piece's points read after in ${r.everyPieceSeconds} s), ${r.indexBytesPerNote} bytes/note on disk, resident ${r.residentMB} MB`,
     '  | mode | candidates | p50 | p99 | windows | per CPU second | with distinctiveness | speed-up | recall ≥ 0.5 | above reference | verbatim copies scored 1 | tempo copies found |',
     '  | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |',
     ...r.modes.map(

@@ -88,6 +88,19 @@ describe('SIGINT at once', () => {
 });
 
 describe('the corpus index changed under a running daemon', () => {
+  it('is read a piece at a time, every piece ahead of need while the daemon waits, as /health says', async () => {
+    const dir = tempDir('read-ahead');
+    cpSync(DEMO, dir, { recursive: true });
+    expect(cli('corpus', 'build', dir, '--json').status).toBe(0);
+    const d = await spawnDaemon(['--corpus', dir, '--preset', 'jam', '--input', 'osc']);
+    try {
+      const h = await eventually(() => health(d.http), (x) => x.readAhead !== null);
+      expect(h.readAhead).toEqual({ pieces: 12, ms: expect.any(Number) as number });
+    } finally {
+      await d.stop();
+    }
+  });
+
   it('is reported, one line a change, and scoring carries on with the loaded copy', async () => {
     const dir = tempDir('index-watch');
     cpSync(DEMO, dir, { recursive: true });
