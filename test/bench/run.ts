@@ -26,7 +26,8 @@
  *   // …tables…
  *   // {"quick":true,"corpora":[{"corpus":"synthetic 100k","notes":100123,...,"modes":[{"mode":"exact","candidates":"index",...}]}]}
  */
-import { spawnSync } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
+import { once } from 'node:events';
 import { existsSync, mkdtempSync, readFileSync, rmSync, statSync } from 'node:fs';
 import { loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -113,6 +114,8 @@ export interface CorpusRow {
   loadedMB: number;
   /** …and the seconds it then takes to read every piece's points, as a session touching every piece would over its course (a file read piece by piece; 0 for one read whole at once). */
   everyPieceSeconds: number;
+  /** Seconds from starting `earwitness listen --corpus FILE` to its listening line (the median of three). */
+  listenStartSeconds: number;
   indexBytesPerNote: number;
   residentMB: number;
   modes: ModeRow[];
@@ -253,6 +256,26 @@ function freshLoad(file: string): FreshLoad {
   return JSON.parse(r.stdout) as FreshLoad;
 }
 
+/** Seconds from starting `earwitness listen --corpus FILE` (jam, OSC in, a session log of its own) to its listening line. */
+async function listenStart(file: string, dir: string): Promise<number> {
+  const cli = join(import.meta.dirname, '../../bridge/cli.js');
+  const t = performance.now();
+  const child = spawn(process.execPath, [cli, 'listen', '--corpus', file, '--preset', 'jam', '--input', 'osc', '--osc-port', '0', '--http-port', '0', '--log', join(dir, 'sessions.db')], { stdio: ['ignore', 'pipe', 'pipe'] });
+  let [out, err] = ['', ''];
+  child.stderr.on('data', (d: Buffer) => (err += d.toString()));
+  const seconds = await new Promise<number>((resolve, reject) => {
+    child.stdout.on('data', (d: Buffer) => {
+      out += d.toString();
+      if (/listening osc=/.test(out)) resolve((performance.now() - t) / 1000);
+    });
+    child.on('exit', (code) => reject(new Error(`listen --corpus ${file} stopped (${code}) before listening: ${err}`)));
+  });
+  const exited = once(child, 'exit');
+  child.kill('SIGINT');
+  await exited;
+  return seconds;
+}
+
 const timed = (m: WindowMatcher, p: Probe): { ms: number; match: WindowMatch | null } => {
   const t = performance.now();
   const match = m.best(p);
@@ -391,6 +414,8 @@ async function benchCorpus(name: string, make: () => Iterable<Point[]>, options:
     const bytes = statSync(file).size;
     // The median of three: the first read of a file just written can wait on the disk, as a user's load (long after the build) does not.
     const load = [freshLoad(file), freshLoad(file), freshLoad(file)].sort((a, b) => a.seconds - b.seconds)[1];
+    const listening: number[] = [];
+    for (let i = 0; i < 3; i++) listening.push(await listenStart(file, dir));
     const read = readIndexFile(file, ['chromatic'], { deferNotes: true, onDemand: true });
     const flat = read.points?.('chromatic') ?? notePoints(read.notes, 'chromatic');
     const corpus = { flat, index: corpusIndex({ ...read.postings.chromatic!, points: flat, shape: read.shape }), fingerprints: read.fingerprints.chromatic as () => StoredFingerprints };
@@ -409,6 +434,7 @@ async function benchCorpus(name: string, make: () => Iterable<Point[]>, options:
       loadSeconds: round(load.seconds, 3),
       loadedMB: Math.round(load.residentMB),
       everyPieceSeconds: round(load.everyPieceSeconds, 3),
+      listenStartSeconds: round(listening.sort((a, b) => a - b)[1], 3),
       indexBytesPerNote: round(bytes / flat.at.length, 1),
       residentMB: Math.round(process.memoryUsage().rss / 2 ** 20),
       modes: rows,
@@ -430,7 +456,7 @@ function table(r: CorpusRow): string {
   const pct = (x: number | null): string => (x === null ? '—' : `${round(100 * x, 1)}%`);
   const lines = [
     `${r.corpus}: ${r.notes} notes in ${r.pieces} pieces`,
-    `  build ${r.buildSeconds} s, peak ${r.buildPeakMB} MB resident (notes, triples and fingerprints, both pitch dimensions, streamed and written), load ${r.loadSeconds} s (${r.loadedMB} MB resident then; every piece's points read after in ${r.everyPieceSeconds} s), ${r.indexBytesPerNote} bytes/note on disk, resident ${r.residentMB} MB`,
+    `  build ${r.buildSeconds} s, peak ${r.buildPeakMB} MB resident (notes, triples and fingerprints, both pitch dimensions, streamed and written), load ${r.loadSeconds} s (${r.loadedMB} MB resident then; every piece's points read after in ${r.everyPieceSeconds} s), listen listening after ${r.listenStartSeconds} s, ${r.indexBytesPerNote} bytes/note on disk, resident ${r.residentMB} MB`,
     '  | mode | candidates | p50 | p99 | windows | per CPU second | with distinctiveness | speed-up | recall ≥ 0.5 | above reference | verbatim copies scored 1 | tempo copies found |',
     '  | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |',
     ...r.modes.map(
