@@ -463,7 +463,8 @@ export const readIndexMeta = (file: string): Meta => withIndex(file, (o) => read
 
 export interface ReadOptions {
   /**
-   * Leave the note sections that the asked-for pitch dimensions' point sets
+   * For notes read whole (not `onDemand`, or a file without the pieces'
+   * checksums): leave the note sections that the asked-for pitch dimensions' point sets
    * do not need (durations, velocities, channels, the other pitch) to be read
    * when first used, as an excerpt's notes are: matching needs only onsets and
    * one pitch, 5 of the 12 bytes a note takes. Their presence
@@ -477,8 +478,8 @@ export interface ReadOptions {
    * touched (`ensure`; a file written before the pieces' checksums were
    * stored is read as `deferNotes` says), and the postings' anchors, and the
    * fingerprint tables' anchors and codes, a key's run at a time when
-   * matching first votes from the key, not whole now: at a hundred million notes they are gigabytes, of which a
-   * session touches a small part. The file stays open for the life of the
+   * matching first votes from the key, not whole now: at a hundred million
+   * notes they are gigabytes, of which a session touches a small part. The file stays open for the life of the
    * process, so a rebuild (written beside it and renamed over it) or a
    * deletion does not change what is read. Runs are not checked against
    * their section's CRC, which covers the whole section; a run naming a note
@@ -637,6 +638,7 @@ function piecewise(opened: Opened, file: string, meta: Meta, offsets: Uint32Arra
   };
   const points = (mode: PitchMode): FlatPoints => {
     const starts = section<Uint32Array>(opened, file, MODE_LETTER[mode] + POINT_OFFSETS, Uint32Array, pieces + 1);
+    if (starts[0] !== 0) throw new IndexFileError(file, `damaged: the ${mode} point offsets start at ${starts[0]}, not 0`);
     for (let p = 0; p < pieces; p++) {
       if (starts[p] > starts[p + 1] || starts[p + 1] - starts[p] > offsets[p + 1] - offsets[p]) throw new IndexFileError(file, `damaged: the ${mode} point offsets of piece ${p + 1} do not fit its notes`);
     }
@@ -654,8 +656,8 @@ function piecewise(opened: Opened, file: string, meta: Meta, offsets: Uint32Arra
     };
     return flat;
   };
-  const made = new Map<PitchMode, FlatPoints>();
-  return { notes, points: (mode) => made.get(mode) ?? made.set(mode, points(mode)).get(mode)! };
+  const byMode = new Map<PitchMode, FlatPoints>();
+  return { notes, points: (mode) => byMode.get(mode) ?? byMode.set(mode, points(mode)).get(mode)! };
 }
 
 /** Version of the optional BASE section's JSON, apart from the index's: a reader of the postings need not understand it. */
