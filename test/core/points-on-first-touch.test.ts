@@ -9,7 +9,7 @@
 import { describe, expect, it } from 'vitest';
 import { toGrains, toPoints } from '../../core/note.js';
 import { corpusPoints } from '../../core/corpus.js';
-import { type FlatPoints, buildTriples, corpusIndex, flattenPoints, piecePoints } from '../../core/triple-index.js';
+import { type FlatPoints, buildTriples, corpusIndex, flattenPoints, piecePoints, readAhead } from '../../core/triple-index.js';
 import { excerptLines, reachable, verifier, verifyShift } from '../../core/verify.js';
 import { holdsAt, piecesHolding } from '../../core/distinctiveness.js';
 import { scanBest } from '../../core/index-match.js';
@@ -75,5 +75,14 @@ describe('points read on first touch', () => {
     const [from, to] = [index.starts[0], index.starts[1]];
     expect(Array.from(index.posted.subarray(2 * from, 2 * to))).toEqual(Array.from(reference.posted.subarray(2 * from, 2 * to)));
     expect(flat.touched.size).toBeGreaterThan(0);
+  });
+
+  it('reading ahead asks for every piece, a step at a time, and ends at once over points all in memory', () => {
+    const flat = lazy();
+    const steps = [...readAhead(flat, 16)];
+    expect(steps).toEqual(Array.from({ length: Math.floor(corpus.pieces.length / 16) }, (_, i) => 16 * (i + 1)));
+    expect(flat.touched.size).toBe(corpus.pieces.length);
+    expect(Array.from(flat.at)).toEqual(Array.from(whole.at));
+    expect([...readAhead(whole, 16)]).toEqual([]);
   });
 });
