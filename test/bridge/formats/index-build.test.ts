@@ -23,6 +23,7 @@ import { IndexBuilder, buildIndexFile } from '../../../bridge/formats/index-buil
 import { BucketSpill } from '../../../bridge/formats/spill.js';
 import { corpusOf, pieceOf } from '../../helpers/corpus.js';
 import { loadChorales } from '../../helpers/jsb.js';
+import { sectionTable } from '../../helpers/index-sections.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'ew-index-build-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
@@ -46,15 +47,7 @@ function arrays(file: string): Record<string, ArrayLike<number>> {
 }
 
 /** Each section's CRC-32 and length, by tag, off the file's section table: equal for two files holding the same sections in any order. */
-function sections(file: string): Record<string, string> {
-  const bytes = readFileSync(file);
-  const out: Record<string, string> = {};
-  for (let i = 0; i < bytes.readUInt32LE(12); i++) {
-    const e = 24 + 24 * i;
-    out[bytes.toString('latin1', e, e + 4)] = `${bytes.readUInt32LE(e + 4)} ${bytes.readBigUInt64LE(e + 16)}`;
-  }
-  return out;
-}
+const sections = (file: string): Record<string, string> => Object.fromEntries([...sectionTable(readFileSync(file))].map(([tag, e]) => [tag, `${e.crc} ${e.length}`]));
 
 const inMemory = join(dir, 'in-memory');
 const notes = flattenNotes(corpus.pieces);

@@ -25,6 +25,7 @@ import { loadChorales } from '../../helpers/jsb.js';
 import { type FingerprintTable, type StoredFingerprints, FINGERPRINT_SHAPE, buildFingerprints } from '../../../core/fingerprint.js';
 import { windowMatcher } from '../../../core/pipeline.js';
 import { played } from '../../helpers/material.js';
+import { sectionTable } from '../../helpers/index-sections.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'ew-index-file-'));
 const postingsOf = (c: IndexContents) => c.postings.chromatic!;
@@ -179,9 +180,9 @@ describe('index file', () => {
 
   /** Where a section's bytes start in an index file, from its section table. */
   const sectionAt = (data: Uint8Array, tag: string): number => {
-    const view = Buffer.from(data.buffer, data.byteOffset, data.byteLength);
-    for (let e = 24; e < 24 + 24 * view.readUInt32LE(12); e += 24) if (view.toString('latin1', e, e + 4) === tag) return Number(view.readBigUInt64LE(e + 8));
-    throw new Error(`no section ${tag}`);
+    const entry = sectionTable(data).get(tag);
+    if (!entry) throw new Error(`no section ${tag}`);
+    return entry.offset;
   };
 
   it('deferred notes: onsets and the asked-for pitch at once, the rest read and checked on first use, equal to what was written', () => {
