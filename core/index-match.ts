@@ -8,9 +8,10 @@
  * anchor time − corpus anchor time, window pitch − corpus pitch). The
  * most-voted translations are then scored by the pipeline's verifier
  * (core/verify.ts), so a score found here is the score of a real
- * translation, never more than the reference's. A window that finds no
- * match of 0.5 so reads a little further and verifies more of the
- * translations voted for more than twice (FilterSettings.widenBelow).
+ * translation, never more than the reference's. A window for which no
+ * stage of the pipeline found a match of 0.5 reads a little further and
+ * verifies more of the translations voted for more than twice
+ * (FilterSettings.widenBelow, CandidateSource.widen).
  *
  * Within a tolerance, the window votes with its onsets snapped to each of
  * the VOTE_GRIDS, the first look's budget shared between them (triple keys
@@ -48,6 +49,8 @@ export interface FilterSettings {
    * scores less (on the chorales, where chord shapes recur everywhere, that
    * cost 1% of the windows scoring ≥ 0.5); a window that found a strong match
    * at once is not looked at again, so verbatim copies cost nothing more.
+   * "At once" counts every stage's first look: tempo-free, a copy at another
+   * tempo that the fingerprints find spares the second look too.
    */
   widenBelow: number;
   /**
@@ -309,6 +312,13 @@ export interface CandidateSource {
    * and then answers null.
    */
   best(window: MatchWindow, verify: Verifier, spanGrains: number, incumbent?: WindowMatch | null): WindowMatch | null;
+  /**
+   * A second, costlier look at the window `best` was last asked about, taken
+   * once every stage has had its first (core/pipeline.ts bestOfStages), so a
+   * strong match from any stage spares it. Answers what it finds that beats
+   * `incumbent` (the best of every stage so far), else the incumbent.
+   */
+  widen?(window: MatchWindow, verify: Verifier, incumbent: WindowMatch | null): WindowMatch | null;
 }
 
 /**
@@ -336,9 +346,12 @@ export function indexCandidates(index: CorpusIndex, settings: FilterSettings = D
       return topVoted(votes, n, atLeast);
     };
   };
+  /** The last window voted for, with what its second look needs; null after a window too small to vote. */
+  let looked: { window: MatchWindow; span: Span; tolGrains: number; voters: ReturnType<typeof voter>[] } | null = null;
   return {
     name: 'index',
     best(window, verify, spanGrains) {
+      looked = null;
       const points = window.points;
       if (points.length === 0) return null;
       const span: Span = { points, startGrains: window.startGrains, spanGrains };
@@ -355,9 +368,14 @@ export function indexCandidates(index: CorpusIndex, settings: FilterSettings = D
       const voters = views.map((view, slot) => voter(slot, view, window.exclude ?? -1));
       const share = (budget: number): number => Math.round(budget / voters.length);
       // Within a tolerance one shared triple (three notes in common) is not worth a search of its own.
-      const first = verifyAll(span, candidatesOf(voters.flatMap((v) => v(share(settings.voteBudget), settings.candidates, tolGrains === 0 ? 1 : 2)), tolGrains), verify);
-      if ((first?.score ?? 0) >= settings.widenBelow) return first;
-      return verifyAll(span, candidatesOf(voters.flatMap((v) => v(wideBudget, settings.wideCandidates, settings.wideVotes)), tolGrains), verify, first);
+      looked = { window, span, tolGrains, voters };
+      return verifyAll(span, candidatesOf(voters.flatMap((v) => v(share(settings.voteBudget), settings.candidates, tolGrains === 0 ? 1 : 2)), tolGrains), verify);
+    },
+    widen(window, verify, incumbent) {
+      if ((incumbent?.score ?? 0) >= settings.widenBelow || window.points.length <= SCAN_POINTS) return incumbent;
+      if (looked?.window !== window) throw new Error('widen asks about a window other than the last one voted for: call best first');
+      const { span, tolGrains, voters } = looked;
+      return verifyAll(span, candidatesOf(voters.flatMap((v) => v(wideBudget, settings.wideCandidates, settings.wideVotes)), tolGrains), verify, incumbent);
     },
   };
 }

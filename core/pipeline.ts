@@ -119,18 +119,18 @@ export function stagesOf(corpus: MatchCorpus, plain: CandidateSource, mode: Matc
 
 /**
  * The best match of a window over the stages, with its distinctiveness
- * counted through `count` when given. Tempo-free, a match of the plain
- * candidates carries time scale 1.
+ * counted through `count` when given: every stage's first look, then the
+ * second looks of those that take one (CandidateSource.widen), given the
+ * best so far. Tempo-free, a match of the plain candidates carries time
+ * scale 1.
  */
 export function bestOfStages(stages: readonly Stage[], window: MatchWindow, spanGrains: number, mode: MatchMode, count?: PieceCount): WindowMatch | null {
   if (window.points.length === 0) return null;
+  const scaled = (m: WindowMatch | null): WindowMatch | null => (m && mode.tempoFree && m.timeScale === undefined ? { ...m, timeScale: 1 } : m);
   let best: WindowMatch | null = null;
-  for (const { source, verify, narrowed } of stages) {
-    // Nothing scores above 1: a window matched whole needs no other source's candidates.
-    if (best && best.score >= 1) break;
-    const m = source.best(window, verify, spanGrains, narrowed ? best : null);
-    best = better(m && mode.tempoFree && m.timeScale === undefined ? { ...m, timeScale: 1 } : m, best);
-  }
+  // Nothing scores above 1: a window matched whole needs no other source's candidates, nor a second look.
+  for (const { source, verify, narrowed } of stages) if (!best || best.score < 1) best = better(scaled(source.best(window, verify, spanGrains, narrowed ? best : null)), best);
+  for (const { source, verify } of stages) if (source.widen && (!best || best.score < 1)) best = better(scaled(source.widen(window, verify, best)), best);
   if (!best || best.matched === 0 || !count) return best;
   return { ...best, distinctiveness: matchDistinctiveness(count, window, spanGrains, best) };
 }

@@ -18,7 +18,8 @@ import { exactMatcher, indexedMatcher } from '../helpers/matchers.js';
 import { windows } from '../../core/windows.js';
 import { seededRandom } from '../../core/stats.js';
 import { type CorpusIndex, buildTriples, corpusIndex, flattenPoints, pieceAt } from '../../core/triple-index.js';
-import { DEFAULT_FILTER, scanBest, wideBudgetFor } from '../../core/index-match.js';
+import { DEFAULT_FILTER, indexCandidates, scanBest, wideBudgetFor } from '../../core/index-match.js';
+import { verifier } from '../../core/verify.js';
 import { windowMatcher } from '../../core/pipeline.js';
 import { synthCorpus, unrelated } from '../bench/synthetic.js';
 import { corpusOf, pieceOf } from '../helpers/corpus.js';
@@ -158,6 +159,17 @@ describe('indexed matching equals exact matching wherever the exact score is ≥
     // Both looks matter here: the first alone finds some of the strong windows, the second the rest.
     expect(found[0]).toBeGreaterThan(0);
     expect(found[1]).toBeGreaterThan(found[0]);
+  });
+
+  it('the second look is taken of the window last voted for, and a strong match from any stage spares it', () => {
+    const source = indexCandidates(indexOf(view), { ...DEFAULT_FILTER, voteBudget: 0, minTriples: 1, candidates: 1, wideBudget: 2_000, wideCandidates: 16, wideVotes: 2 });
+    const verify = verifier(flattenPoints(view), 0);
+    const [a, b] = [0, 1].map((k) => ({ points: shift(corpus[k].filter((p) => p.at >= toGrains(20) && p.at < toGrains(20 + W)), 0, 2), startGrains: 0 }));
+    const first = source.best(a, verify, toGrains(W));
+    const strong: WindowMatch = { piece: 9, pieceStart: 0, transposition: 0, matched: a.points.length, excerptNotes: a.points.length, score: 1 };
+    expect(source.widen!(a, verify, strong)).toBe(strong);
+    expect((source.widen!(a, verify, first)?.score ?? 0)).toBeGreaterThanOrEqual(first?.score ?? 0);
+    expect(() => source.widen!(b, verify, null)).toThrow(/other than the last one voted for/);
   });
 
   it('`exclude` leaves the piece out, as the human baseline needs', () => {
