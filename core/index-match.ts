@@ -24,8 +24,10 @@
  *
  * @example
  *   const source = indexCandidates(corpusIndex(postings));
- *   source.best({ points: windowPoints, startGrains: toGrains(32), exclude: 3 }, verifier(flat, 0), toGrains(16))
+ *   const window = { points: windowPoints, startGrains: toGrains(32), exclude: 3 };
+ *   const first = source.best(window, verifier(flat, 0), toGrains(16))
  *   // → { piece: 7, pieceStart: 8, transposition: 5, matched: 24, excerptNotes: 24, score: 1 }
+ *   source.widen(window, verifier(flat, 0), first)   // → first again: it scored ≥ 0.5, so no second look
  */
 import { type Point, GRAINS_PER_BEAT, comparePoints, toGrains } from './note.js';
 import { type MatchWindow, type WindowMatch, betterMatch } from './match.js';
