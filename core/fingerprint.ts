@@ -52,12 +52,14 @@ export interface FingerprintSettings {
   tolerance: number;
   /** Postings read per window, rarest key first… */
   voteBudget: number;
-  /** …but at least this many keys looked up, so a window of common figures still votes. */
+  /** …but at least this many keys looked up, so a window of common figures still votes… */
   minTriples: number;
+  /** …save keys posted more often than this, never read: a figure in that many places says little of where a window is from, and reading it costs many windows' budgets. */
+  maxPostings: number;
 }
 
 export const FINGERPRINT_SHAPE: FingerprintShape = { fanOut: 4, minGap: 0.125 };
-export const DEFAULT_FINGERPRINT: FingerprintSettings = { minScale: 0.5, maxScale: 2, candidates: 4, tolerance: 0.05, voteBudget: 2_000, minTriples: 12 };
+export const DEFAULT_FINGERPRINT: FingerprintSettings = { minScale: 0.5, maxScale: 2, candidates: 4, tolerance: 0.05, voteBudget: 2_000, minTriples: 6, maxPostings: 16_000 };
 
 /** The corpus's triples by key, as the index file stores them. */
 export interface FingerprintTable {
@@ -375,7 +377,8 @@ function vote(flat: FlatPoints, table: StoredFingerprints, settings: Fingerprint
     const k = found[f];
     const a = found[f + 1];
     const c = found[f + 2];
-    if (r >= settings.minTriples && spent + size > settings.voteBudget) break;
+    // Rarest first: past the first key over maxPostings, every key is.
+    if (size > settings.maxPostings || (r >= settings.minTriples && spent + size > settings.voteBudget)) break;
     spent += size;
     const run = runOf(k);
     const q0 = points[a];
@@ -482,6 +485,7 @@ export function checkFingerprintSettings(settings: FingerprintSettings): void {
     throw new RangeError(`time scales must satisfy 0 < minScale ≤ 1 ≤ maxScale, got ${settings.minScale}…${settings.maxScale}`);
   }
   if (!(Number.isInteger(settings.candidates) && settings.candidates >= 1)) throw new RangeError(`candidates must be a whole number ≥ 1, got ${settings.candidates}`);
+  if (!(settings.maxPostings >= 1)) throw new RangeError(`maxPostings must be at least 1 (a key posted more often is not read), got ${settings.maxPostings}`);
   if (!(Number.isFinite(settings.tolerance) && settings.tolerance > 0 && settings.tolerance < 1)) throw new RangeError(`a tempo-free match needs a tolerance above 0 and under 1 beat, got ${settings.tolerance}`);
 }
 

@@ -38,7 +38,7 @@ import { windows } from '../../core/windows.js';
 import { percentile, seededRandom } from '../../core/stats.js';
 import { type FlatNotes, notePoints } from '../../core/flat-notes.js';
 import { type FlatPoints, CORPUS_TRIPLES, corpusIndex, flattenPoints } from '../../core/triple-index.js';
-import { type StoredFingerprints, FINGERPRINT_SHAPE } from '../../core/fingerprint.js';
+import { type StoredFingerprints, DEFAULT_FINGERPRINT, FINGERPRINT_SHAPE } from '../../core/fingerprint.js';
 import { DEFAULT_FILTER } from '../../core/index-match.js';
 import { type CandidateKind, type MatchCorpus, type MatchMode, windowMatcher } from '../../core/pipeline.js';
 import { LIVE_TABLE_BITS, LiveMatcher } from '../../core/live-match.js';
@@ -511,6 +511,7 @@ async function main(): Promise<void> {
     filter: DEFAULT_FILTER,
     triples: CORPUS_TRIPLES,
     fingerprint: FINGERPRINT_SHAPE,
+    fingerprintVotes: DEFAULT_FINGERPRINT,
     peakResidentMB: Math.round(process.resourceUsage().maxRSS / 1024),
     corpora,
     jsbModes,

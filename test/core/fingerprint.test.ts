@@ -9,6 +9,7 @@ import { toGrains, toPoints } from '../../core/note.js';
 import { corpusPoints } from '../../core/corpus.js';
 import { buildFingerprints, fingerprintCandidates, scaleTime } from '../../core/fingerprint.js';
 import { flattenPoints } from '../../core/triple-index.js';
+import { verifier } from '../../core/verify.js';
 import { chorales, passage, played } from '../helpers/material.js';
 import { pieceOf } from '../helpers/corpus.js';
 import { exactMatcher, indexedMatcher, matchCorpusOf } from '../helpers/matchers.js';
@@ -94,5 +95,21 @@ describe('fingerprints', () => {
     expect(() => fingerprintCandidates(flat, fingerprints!(), { minScale: 0 })).toThrow(/minScale/);
     expect(() => buildFingerprints(flat, { fanOut: 0, minGap: 0.125 })).toThrow(/fanOut/);
     expect(() => fingerprintCandidates(flat, fingerprints!(), { tolerance: 2 })).toThrow(/tolerance/);
+    expect(() => fingerprintCandidates(flat, fingerprints!(), { maxPostings: 0 })).toThrow(/maxPostings must be at least 1/);
+  });
+
+  test('a key posted more often than maxPostings is never read: with every key posted twice, a cap of 1 leaves nothing to vote; over every key’s count, the cap changes nothing', () => {
+    // The corpus twice over: each triple is posted at least twice.
+    const { flat, fingerprints } = matchCorpusOf({ ...view, pieces: [...view.pieces, ...view.pieces], points: [...view.points, ...view.points], size: 2 * view.size });
+    const table = fingerprints!();
+    let most = 0;
+    for (let k = 0; k + 1 < table.starts.length; k++) most = Math.max(most, table.starts[k + 1] - table.starts[k]);
+    const window = { points: take(10, 1.5), startGrains: 0 };
+    const verify = verifier(flat, 0.05);
+    const best = (maxPostings: number) => fingerprintCandidates(flat, table, { maxPostings }).best(window, verify, toGrains(16));
+    const uncapped = best(Infinity);
+    expect([10, 10 + view.pieces.length]).toContain(uncapped?.piece);
+    expect(best(most)).toEqual(uncapped);
+    expect(best(1)).toBeNull();
   });
 });
