@@ -280,7 +280,7 @@ export function stepSession(state: SessionState, event: SessionEvent, config: Se
     const v = event.verdict;
     const m = v.match;
     const st = v.stretch;
-    const stretch = st ? { hot: st.hot, passage: { piece: st.match.pieceIndex, pieceStart: st.match.pieceStart, beats: st.beats } } : null;
+    const stretch = st ? { hot: st.hot, passage: { piece: st.match.pieceIndex, pieceStart: st.match.pieceStart, beats: st.beats }, score: st.score, threshold: st.threshold } : null;
     const evaluation = { score: v.score, windowNotes: v.windowNotes, passage: m ? { piece: m.pieceIndex, pieceStart: m.pieceStart, beats: config.window } : null, distinctiveness: m?.distinctiveness, stretch };
     const r = stepPolicy(state.policy, evaluation, config);
     step.state = { ...step.state, policy: r.state };

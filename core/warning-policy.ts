@@ -19,8 +19,14 @@
  * - With `warn` false nothing is ever raised.
  * - A recent stretch of the window that warns on its own (core/stretch.ts
  *   judged it: `stretch.hot`) makes the evaluation hot too, naming the
- *   stretch's passage, whatever the whole window scores: a quote is warned
- *   about while it is still short.
+ *   stretch's passage, whatever the whole window scores, and raises at once:
+ *   its rule is already strict (a threshold per length, enough notes,
+ *   distinctive material), and a quote is warned about while it is still
+ *   short. `consecutive` counts whole-window hot evaluations.
+ * - A stretch of the standing passage that scores within `hysteresis` of its
+ *   threshold is not cool, whatever the whole window scores: a quote warned
+ *   about early keeps its warning while the window still holds the playing
+ *   before it.
  *
  * @example
  *   const config = { threshold: 0.6, hysteresis: 0.2, minNotes: 8, consecutive: 2, warn: true };
@@ -60,8 +66,8 @@ export interface Evaluation {
   passage: Passage | null;
   /** The best match's distinctiveness in [0, 1]; absent when not measured. */
   distinctiveness?: number;
-  /** The recent stretch judged by core/stretch.ts `hotStretch`, when one was: hot when it warns on its own. */
-  stretch?: { hot: boolean; passage: Passage } | null;
+  /** The recent stretch judged by core/stretch.ts `hotStretch`, when one was: hot when it warns on its own; its score and its length's threshold. */
+  stretch?: { hot: boolean; passage: Passage; score: number; threshold: number } | null;
 }
 
 export interface PolicyState {
@@ -89,17 +95,18 @@ export function stepPolicy(s: PolicyState, e: Evaluation, c: PolicyConfig): { st
   const stretchHot = !windowHot && e.stretch?.hot === true;
   const isHot = windowHot || stretchHot;
   const passage = (windowHot ? e.passage : e.stretch?.passage) ?? null;
-  const isCool = !isHot && (!full || e.score < c.threshold - c.hysteresis || e.passage === null);
+  const held = s.standing !== null && e.stretch != null && samePassage(e.stretch.passage, s.standing) && e.stretch.score >= e.stretch.threshold - c.hysteresis;
+  const isCool = !isHot && !held && (!full || e.score < c.threshold - c.hysteresis || e.passage === null);
   const raise: PolicyAction = { type: 'raise', passage: passage!, ...(stretchHot ? { stretch: true } : {}) };
   if (!s.standing) {
     const hot = isHot ? s.hot + 1 : 0;
-    if (hot >= c.consecutive) return { state: { standing: passage, hot: 0, cool: 0 }, actions: [raise] };
+    if (hot >= c.consecutive || stretchHot) return { state: { standing: passage, hot: 0, cool: 0 }, actions: [raise] };
     return { state: { ...s, hot }, actions: [] };
   }
   if (isHot && samePassage(passage!, s.standing)) return { state: { standing: passage, hot: 0, cool: 0 }, actions: [] };
   if (isHot) {
     const hot = s.hot + 1;
-    if (hot >= c.consecutive) {
+    if (hot >= c.consecutive || stretchHot) {
       return { state: { standing: passage, hot: 0, cool: 0 }, actions: [{ type: 'clear', passage: s.standing }, raise] };
     }
     return { state: { ...s, hot, cool: 0 }, actions: [] };

@@ -8,8 +8,9 @@
  *
  * Material: the JSB chorales (../shared/data/jsb-chorales, open data set;
  * train and valid splits as the corpus, the test split's chorales that share
- * no 8-beat passage scoring 0.8 or more with the corpus as the performer's
- * own: the data set harmonises many tunes more than once), and the
+ * no 8-beat passage of 12 notes or more scoring 0.8 or more with the corpus,
+ * from any sixteenth, as the performer's own: the data set harmonises many
+ * tunes more than once), and the
  * synthetic corpus (test/bench/synthetic.ts; own material from another seed
  * and motif library). Each preset (jam, livecode) runs twice on the same
  * streams: as it was before recent stretches (`BEFORE` flags), then as it
@@ -128,10 +129,18 @@ function writeCorpusFolder(pieces: readonly Piece[], label: string): string {
   return dir;
 }
 
-/** Chorales of the test split that share no 8-beat passage scoring ≥ 0.8 with the corpus (exactly, chromatic). */
+/**
+ * Chorales of the test split that share no 8-beat passage scoring ≥ 0.8 with
+ * the corpus (exactly, chromatic), looked for from every sixteenth (the data
+ * set's step) among passages of at least 12 notes: fewer match whole by chance.
+ */
 function unrelatedChorales(test: Note[][], corpus: readonly Piece[]): Note[][] {
   const m = windowMatcher(liveCorpus({ pieces: [...corpus] }), { windowBeats: 8, mode: EXACT_MODE, candidates: 'index' });
-  return test.filter((notes) => windows(toPoints(notes), { window: 8, hop: 4 }).every((w) => (m.best({ points: w.points, startGrains: toGrains(w.start) })?.score ?? 0) < 0.8));
+  return test.filter((notes) =>
+    windows(toPoints(notes), { window: 8, hop: 0.25 })
+      .filter((w) => w.points.length >= 12)
+      .every((w) => (m.best({ points: w.points, startGrains: toGrains(w.start) })?.score ?? 0) < 0.8),
+  );
 }
 
 interface Row {

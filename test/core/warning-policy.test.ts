@@ -73,3 +73,32 @@ describe('the warning policy', () => {
     expect(run([ev(0.3), ev(0.6)], { ...config, consecutive: 1 }).steps).toEqual([[], ['raise 1@8']]);
   });
 });
+
+describe('the warning policy with recent stretches', () => {
+  /** A whole window scoring `score` whose judged 4-beat stretch (threshold 0.95) scored `stretchScore` on piece 2 at beat 40. */
+  const withStretch = (score: number, stretchScore: number, hot = stretchScore >= 0.95): Evaluation => ({
+    ...ev(score),
+    stretch: { hot, passage: { piece: 2, pieceStart: 40, beats: 4 }, score: stretchScore, threshold: 0.95 },
+  });
+
+  it('a stretch that warns on its own raises at once, whatever consecutive asks of whole windows', () => {
+    expect(run([withStretch(0.2, 1)]).steps).toEqual([['raise 2@40']]);
+    expect(stepPolicy(initialPolicy(), withStretch(0.2, 1), config).actions).toEqual([{ type: 'raise', passage: { piece: 2, pieceStart: 40, beats: 4 }, stretch: true }]);
+  });
+
+  it('a stretch below its threshold raises nothing, and the whole window still needs K hot evaluations', () => {
+    expect(run([withStretch(0.9, 0.9), withStretch(0.9, 0.9)]).steps.flat()).toEqual([]);
+    expect(run([withStretch(0.9, 0.9), withStretch(0.9, 0.9), withStretch(0.9, 0.9)]).steps).toEqual([[], [], ['raise 1@8']]);
+  });
+
+  it('the standing passage\'s stretch within hysteresis of its threshold keeps the warning while the whole window is cool', () => {
+    // threshold 0.95 − hysteresis 0.2 = 0.75: 0.8 holds, 0.7 does not.
+    const { steps } = run([withStretch(0.1, 1), withStretch(0.1, 0.8), withStretch(0.1, 0.8), withStretch(0.1, 0.8), withStretch(0.1, 0.7), withStretch(0.1, 0.7), withStretch(0.1, 0.7)]);
+    expect(steps).toEqual([['raise 2@40'], [], [], [], [], [], ['clear 2@40']]);
+  });
+
+  it('a stretch of another passage does not hold the standing warning', () => {
+    const elsewhere: Evaluation = { ...ev(0.1), stretch: { hot: false, passage: { piece: 3, pieceStart: 0, beats: 4 }, score: 0.9, threshold: 0.95 } };
+    expect(run([withStretch(0.1, 1), elsewhere, elsewhere, elsewhere]).steps).toEqual([['raise 2@40'], [], [], ['clear 2@40']]);
+  });
+});

@@ -8,9 +8,12 @@
  * of a tune (the daemon warns), and where a phrase ends it jumps elsewhere
  * and mixes tunes (the warning clears).
  *
- * It runs the livecode preset unchanged, so the warnings are the ones a
- * performer would get (how often, and how often they name the tune being
- * copied: test/bench/RESULTS.md, "The demo").
+ * It runs the livecode preset with one change, its whole-window threshold
+ * at DEMO_THRESHOLD: the generator plays the tunes' melodies alone, and the
+ * corpus holds melody and accompaniment, so a phrase copied note for note
+ * scores its melody's share of the passage's notes, about 0.7–0.8. How often
+ * it warns, and how often a warning names the tune being copied:
+ * test/bench/RESULTS.md, "The demo".
  *
  * @example
  *   earwitness demo                       # overlay at http://127.0.0.1:9751/
@@ -30,7 +33,7 @@ import type { WarningEvent } from '../../../contract/events.js';
 import { defaultLogFile } from '../../formats/paths.js';
 import { parseNumber, wholeNumber } from '../../formats/user-error.js';
 import { printNotice } from '../notices.js';
-import { loadPreset, resolveThreshold } from '../../formats/presets.js';
+import { type LivePreset, loadPreset, resolveThreshold, withOverrides } from '../../formats/presets.js';
 import { DEFAULT_HTTP_PORT, DEFAULT_OSC_PORT, portNumber, stopOnSignals } from './listen.js';
 
 /** Longest context the chain follows by default: long enough to quote whole phrases (see above). */
@@ -39,6 +42,11 @@ export const DEMO_ORDER = 6;
 export const MAX_ORDER = 64;
 /** The preset the demo runs: the generator speaks OSC, as a live-coding environment does. */
 export const DEMO_PRESET = 'livecode';
+/** The demo's whole-window threshold: a melody copied alone from a tune with accompaniment scores about 0.7–0.8 (see above). */
+export const DEMO_THRESHOLD = 0.7;
+
+/** The preset the demo runs on `corpus`: DEMO_PRESET with its threshold at DEMO_THRESHOLD. */
+export const demoPreset = (corpus: string): LivePreset => resolveThreshold(withOverrides(loadPreset(DEMO_PRESET), { threshold: String(DEMO_THRESHOLD) }), corpus);
 
 interface DemoFlags {
   httpPort: number;
@@ -63,7 +71,7 @@ export function registerDemo(cli: Command): void {
       const corpus = join(packageRoot(), 'presets', 'demo', 'corpus');
       const tunes = demoTunes(corpus);
       const chain = trainChain(tunes.map((t) => t.melody), o.order);
-      const preset = resolveThreshold(loadPreset(DEMO_PRESET), corpus);
+      const preset = demoPreset(corpus);
       const log = o.log ?? defaultLogFile();
       const daemon = await startDaemon({
         corpus,

@@ -15,10 +15,9 @@ import { generator, trainChain } from '../../../core/markov.js';
 import { seededRandom } from '../../../core/stats.js';
 import { initialPolicy, stepPolicy } from '../../../core/warning-policy.js';
 import { loadCorpusFolder } from '../../../bridge/corpus/corpus-files.js';
-import { DEMO_ORDER, DEMO_PRESET } from '../../../bridge/cli/commands/demo.js';
+import { DEMO_ORDER, demoPreset } from '../../../bridge/cli/commands/demo.js';
 import { liveScorer } from '../../../bridge/daemon/live-scorer.js';
 import { MELODY_CHANNEL, demoTunes } from '../../../bridge/demo/tunes.js';
-import { loadPreset, resolveThreshold } from '../../../bridge/formats/presets.js';
 import { ROOT } from '../../helpers/daemon.js';
 
 const CORPUS = join(ROOT, 'presets', 'demo', 'corpus');
@@ -27,7 +26,7 @@ const SOURCE = JSON.parse(readFileSync(join(ROOT, 'presets', 'demo', 'tunes.json
 };
 const tunes = demoTunes(CORPUS);
 const { corpus } = loadCorpusFolder(CORPUS);
-const preset = resolveThreshold(loadPreset(DEMO_PRESET), CORPUS);
+const preset = demoPreset(CORPUS);
 
 /** `minutes` of the chain's music at the preset's tempo, scored after every note as the daemon scores it. */
 function perform(order: number, seed: number, minutes: number) {
