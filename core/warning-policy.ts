@@ -92,7 +92,8 @@ export function stepPolicy(s: PolicyState, e: Evaluation, c: PolicyConfig): { st
   if (!c.warn) return { state: s, actions: [] };
   const full = e.windowNotes >= c.minNotes;
   const windowHot = full && e.score >= c.threshold && e.passage !== null && (e.distinctiveness ?? 1) >= (c.minDistinctiveness ?? 0);
-  const stretchHot = !windowHot && e.stretch?.hot === true;
+  const stretchWarns = e.stretch?.hot === true;
+  const stretchHot = !windowHot && stretchWarns;
   const isHot = windowHot || stretchHot;
   const passage = (windowHot ? e.passage : e.stretch?.passage) ?? null;
   const held = s.standing !== null && e.stretch != null && samePassage(e.stretch.passage, s.standing) && e.stretch.score >= e.stretch.threshold - c.hysteresis;
@@ -100,13 +101,13 @@ export function stepPolicy(s: PolicyState, e: Evaluation, c: PolicyConfig): { st
   const raise: PolicyAction = { type: 'raise', passage: passage!, ...(stretchHot ? { stretch: true } : {}) };
   if (!s.standing) {
     const hot = isHot ? s.hot + 1 : 0;
-    if (hot >= c.consecutive || stretchHot) return { state: { standing: passage, hot: 0, cool: 0 }, actions: [raise] };
+    if (hot >= c.consecutive || stretchWarns) return { state: { standing: passage, hot: 0, cool: 0 }, actions: [raise] };
     return { state: { ...s, hot }, actions: [] };
   }
   if (isHot && samePassage(passage!, s.standing)) return { state: { standing: passage, hot: 0, cool: 0 }, actions: [] };
   if (isHot) {
     const hot = s.hot + 1;
-    if (hot >= c.consecutive || stretchHot) {
+    if (hot >= c.consecutive || stretchWarns) {
       return { state: { standing: passage, hot: 0, cool: 0 }, actions: [{ type: 'clear', passage: s.standing }, raise] };
     }
     return { state: { ...s, hot, cool: 0 }, actions: [] };

@@ -86,6 +86,10 @@ describe('the warning policy with recent stretches', () => {
     expect(stepPolicy(initialPolicy(), withStretch(0.2, 1), config).actions).toEqual([{ type: 'raise', passage: { piece: 2, pieceStart: 40, beats: 4 }, stretch: true }]);
   });
 
+  it('a window hot together with a stretch that warns raises at once too, naming the whole window\'s passage', () => {
+    expect(run([withStretch(0.9, 1)]).steps).toEqual([['raise 1@8']]);
+  });
+
   it('a stretch below its threshold raises nothing, and the whole window still needs K hot evaluations', () => {
     expect(run([withStretch(0.9, 0.9), withStretch(0.9, 0.9)]).steps.flat()).toEqual([]);
     expect(run([withStretch(0.9, 0.9), withStretch(0.9, 0.9), withStretch(0.9, 0.9)]).steps).toEqual([[], [], ['raise 1@8']]);
