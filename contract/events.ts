@@ -65,11 +65,11 @@ export interface ScoreEvent {
   stretch?: ScoreStretch | null;
 }
 
-/** How early a preset warns: the recent stretch lengths (beats) judged on their own, each length's threshold, and the stretch's fewest notes and least distinctiveness. */
+/** How early a preset warns: the recent stretch lengths (beats) judged on their own, each length's threshold, and the stretch's fewest onsets (a chord counts once) and least distinctiveness. */
 export interface EarlyRule {
   lengths: readonly number[];
   thresholds: readonly number[];
-  minNotes: number;
+  minOnsets: number;
   minDistinctiveness: number;
 }
 

@@ -12,8 +12,10 @@
  * index's votes), verified by the pipeline's verifier on the stretch alone,
  * so a stretch never scores above what the reference would give it.
  *
- * The rule (`hotStretch`): a stretch warns when it holds at least
- * `minNotes` notes, scores at least the threshold of its own length, and
+ * The rule (`hotStretch`): a stretch warns when it holds notes at
+ * `minOnsets` different moments or more (a chord counts once: held chords at
+ * a cadence are the idiom's commonest figure, however many notes they
+ * hold), scores at least the threshold of its own length, and
  * its matched material is distinctive enough (core/distinctiveness.ts). The
  * thresholds come from the corpus's human baseline at each length
  * (`stretchThresholds`): short figures are common, so a two-beat stretch
@@ -23,7 +25,7 @@
  * @example
  *   const stretches = stretchMatches({ points, startGrains }, candidates, verify, [2, 4, 8]);
  *   // → [{ beats: 2, startGrains: 115200, endGrains: 122880, notes: 9, score: 1, piece: 4, ... }, ...]
- *   hotStretch(stretches, { lengths: [2, 4, 8], thresholds: [1, 0.8, 0.6], minNotes: 6, minDistinctiveness: 0.5 }, (s) => 1)
+ *   hotStretch(stretches, { lengths: [2, 4, 8], thresholds: [1, 0.8, 0.6], minOnsets: 6, minDistinctiveness: 0.5 }, (s) => 1)
  *   // → the 8-beat stretch when it scores ≥ 0.6, else the 4-beat one when ≥ 0.8, …, or null
  */
 import { type Point, toGrains } from './note.js';
@@ -40,6 +42,8 @@ export interface StretchMatch {
   endGrains: number;
   /** Points in the stretch. */
   notes: number;
+  /** Distinct onsets among them: a chord counts once. */
+  onsets: number;
   /** Its best match among the candidates, or null when none matches a point. */
   match: WindowMatch | null;
   score: number;
@@ -50,8 +54,8 @@ export interface StretchRule {
   lengths: readonly number[];
   /** The score each length must reach, in the order of `lengths`. */
   thresholds: readonly number[];
-  /** Fewer points than this in a stretch never warn. */
-  minNotes: number;
+  /** A stretch whose points lie at fewer distinct onsets than this never warns. */
+  minOnsets: number;
   /** A stretch whose matched material is less distinctive than this never warns. */
   minDistinctiveness: number;
 }
@@ -77,10 +81,11 @@ export function trailingStretches(points: readonly Point[], lengths: readonly nu
 export function stretchMatches(window: MatchWindow, candidates: readonly Candidate[], verify: Verifier, lengths: readonly number[]): StretchMatch[] {
   return trailingStretches(window.points, lengths).map(({ beats, points }) => {
     const startGrains = points[0].at;
+    const onsets = new Set(points.map((p) => p.at)).size;
     const endGrains = points[points.length - 1].at;
     const best = candidates.length ? verifyAll({ points, startGrains, spanGrains: endGrains - startGrains + 1 }, candidates, verify) : null;
     const match = best && best.matched > 0 ? best : null;
-    return { beats, startGrains, endGrains, notes: points.length, match, score: match?.score ?? 0 };
+    return { beats, startGrains, endGrains, notes: points.length, onsets, match, score: match?.score ?? 0 };
   });
 }
 
@@ -94,14 +99,14 @@ export function thresholdOf(rule: Pick<StretchRule, 'lengths' | 'thresholds'>, b
 }
 
 /**
- * The stretch that warns: the longest one holding `minNotes` points whose
+ * The stretch that warns: the longest one with points at `minOnsets` onsets whose
  * score reaches its length's threshold and whose material is distinctive
  * enough (`distinctiveness` is asked only of stretches that pass the rest,
  * longest first), or null.
  */
 export function hotStretch(stretches: readonly StretchMatch[], rule: StretchRule, distinctiveness: (s: StretchMatch) => number): { stretch: StretchMatch; distinctiveness: number } | null {
   for (const s of [...stretches].sort((a, b) => b.beats - a.beats)) {
-    if (!s.match || s.notes < rule.minNotes || s.score < thresholdOf(rule, s.beats)) continue;
+    if (!s.match || s.onsets < rule.minOnsets || s.score < thresholdOf(rule, s.beats)) continue;
     const d = distinctiveness(s);
     if (d >= rule.minDistinctiveness) return { stretch: s, distinctiveness: d };
   }

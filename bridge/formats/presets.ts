@@ -58,7 +58,7 @@ const ALLOWED = {
   minDistinctiveness: 'a number from 0 (warn however common the matched material) to 1 (only material found in one corpus place)',
   earlyBeats: `lengths in beats of the recent stretches that may warn on their own, ascending, each above 0 and at most ${MAX_WINDOW_BEATS} ([] = the whole window only), as in [2, 4, 8]`,
   earlyThreshold: 'the score a stretch must reach: a number from 0 to 1, a list of them, one per length of earlyBeats, or "auto" (each length\'s p99 window score in the human baseline "earwitness corpus build DIR --baseline" stores, plus 0.05)',
-  earlyMinNotes: 'a whole number of at least 1',
+  earlyMinOnsets: 'a whole number of at least 1: the different moments a recent stretch\'s notes must start at (a chord counts once)',
   earlyMinDistinctiveness: 'a number from 0 to 1',
   meter: 'a time signature such as "4/4", "3/4" or "6/8"',
 } as const;
@@ -81,7 +81,7 @@ export const FLAG_OF: Record<Exclude<PresetField, 'name' | 'description'>, strin
   minDistinctiveness: '--min-distinctiveness',
   earlyBeats: '--early-beats',
   earlyThreshold: '--early-threshold',
-  earlyMinNotes: '--early-min-notes',
+  earlyMinOnsets: '--early-min-onsets',
   earlyMinDistinctiveness: '--early-min-distinctiveness',
   meter: '--meter',
 };
@@ -122,7 +122,7 @@ export const presetSchema = z
       .default([])
       .describe(ALLOWED.earlyBeats),
     earlyThreshold: z.preprocess(beatsList, z.union([unit, z.array(unit).min(1).max(16), z.literal('auto')])).default('auto').describe(ALLOWED.earlyThreshold),
-    earlyMinNotes: z.number().int().min(1).default(6).describe(ALLOWED.earlyMinNotes),
+    earlyMinOnsets: z.number().int().min(1).default(6).describe(ALLOWED.earlyMinOnsets),
     earlyMinDistinctiveness: unit.default(0.5).describe(ALLOWED.earlyMinDistinctiveness),
     /** The session's time signature, for its bars and beats (optional; 4/4 when left out). */
     meter: z.string().refine((m) => parseSignature(m) !== null).default('4/4').describe(ALLOWED.meter),

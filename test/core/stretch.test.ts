@@ -2,7 +2,7 @@
  * Recent stretches (core/stretch.ts) on hand-made windows: a quote that
  * began a few beats ago scores whole in the stretch that holds it, however
  * little of the window it fills yet; each length answers to its own
- * threshold; few notes and common material never warn; and a stretch never
+ * threshold; few notes (a chord counting once) and common material never warn; and a stretch never
  * scores above the exact reference on its own points. Pieces and playing
  * are invented here.
  */
@@ -30,7 +30,7 @@ function quoted(beats: number): Point[] {
 /** The translation taking the tune onto its quote: the candidate a vote would propose. */
 const quoteCandidate = { piece: 0, shift: toGrains(12), dp: 5, within: 0 };
 const window = (points: Point[]) => ({ points, startGrains: points[0].at });
-const rule = (over: Partial<StretchRule> = {}): StretchRule => ({ lengths: [2, 4, 8, 16], thresholds: [1.01, 0.9, 0.8, 0.6], minNotes: 4, minDistinctiveness: 0.5, ...over });
+const rule = (over: Partial<StretchRule> = {}): StretchRule => ({ lengths: [2, 4, 8, 16], thresholds: [1.01, 0.9, 0.8, 0.6], minOnsets: 4, minDistinctiveness: 0.5, ...over });
 
 describe('trailing stretches', () => {
   it('hold the points of the last L beats, newest included, and skip a length that adds none', () => {
@@ -94,10 +94,23 @@ describe('the rule: which stretch warns', () => {
     expect(hotStretch(stretches, rule({ thresholds: [1, 0.9, 0.8, 0.6] }), distinct)?.stretch.beats).toBe(2);
   });
 
-  it('a stretch with fewer than minNotes notes never warns', () => {
+  it('a stretch whose notes start at fewer than minOnsets moments never warns', () => {
     const stretches = stretchMatches(window(quoted(4)), [quoteCandidate], exact, [2, 4, 8, 16]);
-    expect(hotStretch(stretches, rule({ minNotes: 7 }), distinct)?.stretch.beats).toBe(4);
-    expect(hotStretch(stretches, rule({ minNotes: 8 }), distinct)).toBeNull();
+    expect(stretches[1].onsets).toBe(7);
+    expect(hotStretch(stretches, rule({ minOnsets: 7 }), distinct)?.stretch.beats).toBe(4);
+    expect(hotStretch(stretches, rule({ minOnsets: 8 }), distinct)).toBeNull();
+  });
+
+  it('a chord counts once: three held four-note chords matched whole are 12 notes at 3 onsets', () => {
+    // An invented cadence: three chords of a half note, a half note and a whole note.
+    const cadence = pts([0, 48], [0, 55], [0, 64], [0, 72], [2, 43], [2, 55], [2, 62], [2, 71], [4, 48], [4, 55], [4, 64], [4, 72]);
+    const verify = verifier(flattenPoints({ mode: 'chromatic', points: [cadence], pieces: [] }), 0);
+    const own = pts(...Array.from({ length: 8 }, (_, i): [number, number] => [i / 2, 40 + ((i * 5) % 9)]));
+    const played = [...own, ...shift(cadence, 5, 0)];
+    const stretches = stretchMatches(window(played), [{ piece: 0, shift: toGrains(5), dp: 0, within: 0 }], verify, [4.5]);
+    expect(stretches[0]).toMatchObject({ notes: 12, onsets: 3, score: 1 });
+    expect(hotStretch(stretches, rule({ lengths: [4.5], thresholds: [1], minOnsets: 3 }), distinct)?.stretch.beats).toBe(4.5);
+    expect(hotStretch(stretches, rule({ lengths: [4.5], thresholds: [1], minOnsets: 4 }), distinct)).toBeNull();
   });
 
   it('common material (distinctiveness below the rule\'s) never warns, and distinctiveness is asked only of stretches past their threshold', () => {

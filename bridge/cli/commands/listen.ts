@@ -92,7 +92,7 @@ export function registerListen(cli: Command): void {
     .option('--min-distinctiveness <d>', 'matches less distinctive than this (0–1) never warn (overrides the preset)')
     .option('--early-beats <beats,...>', 'lengths of the recent stretches that may warn on their own, as in 3,4,6; "" = the whole window only (overrides the preset)')
     .option('--early-threshold <score,...>', 'score a recent stretch must reach: one number, one per length, or "auto" from the baseline corpus build --baseline stores (overrides the preset)')
-    .option('--early-min-notes <n>', 'fewest notes in a recent stretch for it to warn (overrides the preset)')
+    .option('--early-min-onsets <n>', 'fewest different moments the notes of a recent stretch must start at for it to warn; a chord counts once (overrides the preset)')
     .option('--early-min-distinctiveness <d>', 'recent stretches less distinctive than this (0–1) never warn (overrides the preset)')
     .option('--warn', 'raise warnings (overrides the preset)')
     .option('--no-warn', 'log and score only, no warnings (overrides the preset)')
@@ -112,7 +112,7 @@ export function registerListen(cli: Command): void {
         input: o.input, window: o.window, bpm: o.bpm, threshold: o.threshold, minNotes: o.minNotes,
         consecutive: o.consecutive, hysteresis: o.hysteresis, grid: o.grid, warn: o.warn, meter: o.meter,
         tolerance: o.tolerance, tempoFree: o.tempoFree, minDistinctiveness: o.minDistinctiveness,
-        earlyBeats: o.earlyBeats, earlyThreshold: o.earlyThreshold, earlyMinNotes: o.earlyMinNotes, earlyMinDistinctiveness: o.earlyMinDistinctiveness,
+        earlyBeats: o.earlyBeats, earlyThreshold: o.earlyThreshold, earlyMinOnsets: o.earlyMinOnsets, earlyMinDistinctiveness: o.earlyMinDistinctiveness,
       });
       const preset = resolveThreshold(chosen, o.corpus);
       if (preset.earlyUncalibrated?.length) {
