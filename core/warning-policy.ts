@@ -20,7 +20,7 @@
  * - A recent stretch of the window that warns on its own (core/stretch.ts
  *   judged it: `stretch.hot`) makes the evaluation hot too, naming the
  *   stretch's passage, whatever the whole window scores, and raises at once:
- *   its rule is already strict (a threshold per length, enough notes,
+ *   its rule is already strict (a threshold per length, enough onsets,
  *   distinctive material), and a quote is warned about while it is still
  *   short. `consecutive` counts whole-window hot evaluations.
  * - A stretch of the standing passage that scores within `hysteresis` of its
