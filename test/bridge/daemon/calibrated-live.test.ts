@@ -167,7 +167,7 @@ describe('corpus build --baseline and threshold "auto", as a user runs them', ()
     daemons.push(d);
     const events = await listen(d.http);
     const hello = await events.next<HelloEvent>((e) => e.type === 'hello');
-    expect(hello.preset).toMatchObject({ threshold: build.baselines[0].p99, tolerance: LIVE_TOLERANCE, minDistinctiveness: 0.5 });
+    expect(hello.preset).toMatchObject({ threshold: build.baselines[0].p99, tolerance: LIVE_TOLERANCE, minDistinctiveness: loadPreset('livecode').minDistinctiveness });
     expect(d.stdout()).toContain("(auto: the corpus baseline's p99)");
     const notes = quote('brinewater.mid');
     for (const n of notes) await send(d.osc, n.pitch, n.onset, n.duration);
