@@ -77,15 +77,21 @@ export function trailingStretches(points: readonly Point[], lengths: readonly nu
   return out;
 }
 
+/** Distinct onsets of points sorted by onset, without allocating: this runs for every stretch of every scoring pass. */
+function onsetCount(points: readonly Point[]): number {
+  let n = 0;
+  for (let i = 0; i < points.length; i++) if (i === 0 || points[i].at !== points[i - 1].at) n++;
+  return n;
+}
+
 /** The best match of each trailing stretch of `window` among `candidates`, verified on the stretch's own points and played extent. */
 export function stretchMatches(window: MatchWindow, candidates: readonly Candidate[], verify: Verifier, lengths: readonly number[]): StretchMatch[] {
   return trailingStretches(window.points, lengths).map(({ beats, points }) => {
     const startGrains = points[0].at;
-    const onsets = new Set(points.map((p) => p.at)).size;
     const endGrains = points[points.length - 1].at;
     const best = candidates.length ? verifyAll({ points, startGrains, spanGrains: endGrains - startGrains + 1 }, candidates, verify) : null;
     const match = best && best.matched > 0 ? best : null;
-    return { beats, startGrains, endGrains, notes: points.length, onsets, match, score: match?.score ?? 0 };
+    return { beats, startGrains, endGrains, notes: points.length, onsets: onsetCount(points), match, score: match?.score ?? 0 };
   });
 }
 
