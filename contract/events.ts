@@ -65,10 +65,11 @@ export interface ScoreEvent {
   stretch?: ScoreStretch | null;
 }
 
-/** How early a preset warns: the recent stretch lengths (beats) judged on their own, each length's threshold, and the stretch's fewest onsets (a chord counts once) and least distinctiveness. */
+/** How early a preset warns: the recent stretch lengths (beats) judged on their own, each length's threshold, the share of its corpus passage a stretch may leave out below that threshold (core/stretch.ts `leavesOut`), and the stretch's fewest onsets (a chord counts once) and least distinctiveness. */
 export interface EarlyRule {
   lengths: readonly number[];
   thresholds: readonly number[];
+  leftOut: number;
   minOnsets: number;
   minDistinctiveness: number;
 }

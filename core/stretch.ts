@@ -15,7 +15,10 @@
  * The rule (`hotStretch`): a stretch warns when it holds notes at
  * `minOnsets` different moments or more (a chord counts once: held chords at
  * a cadence are the idiom's commonest figure, however many notes they
- * hold), scores at least the threshold of its own length, and
+ * hold), scores at least the threshold of its own length — or holds
+ * nothing the corpus passage lacks and leaves out under `leftOut` of that
+ * passage's notes (a player who drops a note of a quote still quotes it;
+ * one who plays a different note has left the quote) — and
  * its matched material is distinctive enough (core/distinctiveness.ts). The
  * thresholds come from the corpus's human baseline at each length
  * (`stretchThresholds`): short figures are common, so a two-beat stretch
@@ -25,7 +28,7 @@
  * @example
  *   const stretches = stretchMatches({ points, startGrains }, candidates, verify, [2, 4, 8]);
  *   // → [{ beats: 2, startGrains: 115200, endGrains: 122880, notes: 9, score: 1, piece: 4, ... }, ...]
- *   hotStretch(stretches, { lengths: [2, 4, 8], thresholds: [1, 0.8, 0.6], minOnsets: 6, minDistinctiveness: 0.5 }, (s) => 1)
+ *   hotStretch(stretches, { lengths: [2, 4, 8], thresholds: [1, 0.8, 0.6], leftOut: 0.1, minOnsets: 6, minDistinctiveness: 0.5 }, (s) => 1)
  *   // → the 8-beat stretch when it scores ≥ 0.6, else the 4-beat one when ≥ 0.8, …, or null
  */
 import { type Point, toGrains } from './note.js';
@@ -54,6 +57,8 @@ export interface StretchRule {
   lengths: readonly number[];
   /** The score each length must reach, in the order of `lengths`. */
   thresholds: readonly number[];
+  /** A stretch every note of which matches warns below its threshold too, when it leaves out under this share of the corpus passage's notes (0: never). */
+  leftOut: number;
   /** A stretch whose points lie at fewer distinct onsets than this never warns. */
   minOnsets: number;
   /** A stretch whose matched material is less distinctive than this never warns. */
@@ -105,14 +110,28 @@ export function thresholdOf(rule: Pick<StretchRule, 'lengths' | 'thresholds'>, b
 }
 
 /**
+ * A quote with notes left out: every note of the stretch matches, and the
+ * corpus passage's notes it lacks are under `leftOut` of them (strictly:
+ * 1 of 11 is under a tenth, 1 of 10 is not).
+ *
+ * @example
+ *   leavesOut({ notes: 10, match: { matched: 10, excerptNotes: 11, ... }, ... }, 0.1)   // → true
+ */
+export function leavesOut(s: Pick<StretchMatch, 'notes' | 'match'>, leftOut: number): boolean {
+  const m = s.match;
+  return m !== null && m.matched === s.notes && m.excerptNotes - m.matched < leftOut * m.excerptNotes;
+}
+
+/**
  * The stretch that warns: the longest one with points at `minOnsets` onsets whose
- * score reaches its length's threshold and whose material is distinctive
+ * score reaches its length's threshold (or that only `leavesOut` notes of its
+ * passage) and whose material is distinctive
  * enough (`distinctiveness` is asked only of stretches that pass the rest,
  * longest first), or null.
  */
 export function hotStretch(stretches: readonly StretchMatch[], rule: StretchRule, distinctiveness: (s: StretchMatch) => number): { stretch: StretchMatch; distinctiveness: number } | null {
   for (const s of [...stretches].sort((a, b) => b.beats - a.beats)) {
-    if (!s.match || s.onsets < rule.minOnsets || s.score < thresholdOf(rule, s.beats)) continue;
+    if (!s.match || s.onsets < rule.minOnsets || (s.score < thresholdOf(rule, s.beats) && !leavesOut(s, rule.leftOut))) continue;
     const d = distinctiveness(s);
     if (d >= rule.minDistinctiveness) return { stretch: s, distinctiveness: d };
   }

@@ -94,7 +94,7 @@ export const HISTORY_EVENTS = 240;
 export function earlyRule(preset: LivePreset): StretchRule | undefined {
   const lengths = preset.earlyBeats ?? [];
   if (lengths.length === 0) return undefined;
-  return { lengths, thresholds: preset.earlyThresholds ?? lengths.map(() => EARLY_FALLBACK), minOnsets: preset.earlyMinOnsets, minDistinctiveness: Math.max(preset.earlyMinDistinctiveness ?? 0, preset.minDistinctiveness) };
+  return { lengths, thresholds: preset.earlyThresholds ?? lengths.map(() => EARLY_FALLBACK), leftOut: preset.earlyLeftOut, minOnsets: preset.earlyMinOnsets, minDistinctiveness: Math.max(preset.earlyMinDistinctiveness ?? 0, preset.minDistinctiveness) };
 }
 
 /** The score event's stretch: where it lies, how it scored, and its own match. */

@@ -58,6 +58,7 @@ const ALLOWED = {
   minDistinctiveness: 'a number from 0 (warn however common the matched material) to 1 (only material found in one corpus place)',
   earlyBeats: `lengths in beats of the recent stretches that may warn on their own, ascending, each above 0 and at most ${MAX_WINDOW_BEATS} ([] = the whole window only), as in [2, 4, 8]`,
   earlyThreshold: 'the score a stretch must reach: a number from 0 to 1, a list of them, one per length of earlyBeats, or "auto" (each length\'s p99 window score in the human baseline "earwitness corpus build DIR --baseline" stores, plus 0.05)',
+  earlyLeftOut: 'a share from 0 up to, not including, 1: of a corpus passage\'s notes, how many a recent stretch may leave out and still warn below its threshold, when every note it holds matches (0 = never)',
   earlyMinOnsets: 'a whole number of at least 1: the different moments a recent stretch\'s notes must start at (a chord counts once)',
   earlyMinDistinctiveness: 'a number from 0 to 1',
   meter: 'a time signature such as "4/4", "3/4" or "6/8"',
@@ -81,6 +82,7 @@ export const FLAG_OF: Record<Exclude<PresetField, 'name' | 'description'>, strin
   minDistinctiveness: '--min-distinctiveness',
   earlyBeats: '--early-beats',
   earlyThreshold: '--early-threshold',
+  earlyLeftOut: '--early-left-out',
   earlyMinOnsets: '--early-min-onsets',
   earlyMinDistinctiveness: '--early-min-distinctiveness',
   meter: '--meter',
@@ -88,6 +90,8 @@ export const FLAG_OF: Record<Exclude<PresetField, 'name' | 'description'>, strin
 
 /** A stretch length without a stored baseline, under "auto", must score this: most of a stretch played as the corpus has it. */
 export const EARLY_FALLBACK = 0.9;
+/** The share of a quote's notes a player may drop, under which a stretch still warns (test/bench/RESULTS.md: "Early warnings" says how it was chosen). */
+export const EARLY_LEFT_OUT = 0.1;
 /** Under "auto", a stretch must score this much above its length's p99 in the human baseline. */
 export const EARLY_MARGIN = 0.05;
 
@@ -122,6 +126,8 @@ export const presetSchema = z
       .default([])
       .describe(ALLOWED.earlyBeats),
     earlyThreshold: z.preprocess(beatsList, z.union([unit, z.array(unit).min(1).max(16), z.literal('auto')])).default('auto').describe(ALLOWED.earlyThreshold),
+    /** A player who drops a note of a quote still quotes it; one who plays another note has left it (core/stretch.ts `leavesOut`). */
+    earlyLeftOut: z.number().min(0).lt(1).default(EARLY_LEFT_OUT).describe(ALLOWED.earlyLeftOut),
     earlyMinOnsets: z.number().int().min(1).default(6).describe(ALLOWED.earlyMinOnsets),
     earlyMinDistinctiveness: unit.default(0.5).describe(ALLOWED.earlyMinDistinctiveness),
     /** The session's time signature, for its bars and beats (optional; 4/4 when left out). */

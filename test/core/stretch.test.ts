@@ -11,7 +11,7 @@ import { type Point, toGrains } from '../../core/note.js';
 import { flattenPoints } from '../../core/triple-index.js';
 import { verifier } from '../../core/verify.js';
 import { everyCandidates } from '../../core/pipeline.js';
-import { type StretchMatch, type StretchRule, hotStretch, nearestStretch, stretchMatches, stretchThresholds, thresholdOf, trailingStretches } from '../../core/stretch.js';
+import { type StretchMatch, type StretchRule, hotStretch, leavesOut, nearestStretch, stretchMatches, stretchThresholds, thresholdOf, trailingStretches } from '../../core/stretch.js';
 import { pts, shift } from '../helpers/points.js';
 
 /** An invented tune: a rising and falling line in eighths and quarters over 8 beats. */
@@ -30,7 +30,7 @@ function quoted(beats: number): Point[] {
 /** The translation taking the tune onto its quote: the candidate a vote would propose. */
 const quoteCandidate = { piece: 0, shift: toGrains(12), dp: 5, within: 0 };
 const window = (points: Point[]) => ({ points, startGrains: points[0].at });
-const rule = (over: Partial<StretchRule> = {}): StretchRule => ({ lengths: [2, 4, 8, 16], thresholds: [1.01, 0.9, 0.8, 0.6], minOnsets: 4, minDistinctiveness: 0.5, ...over });
+const rule = (over: Partial<StretchRule> = {}): StretchRule => ({ lengths: [2, 4, 8, 16], thresholds: [1.01, 0.9, 0.8, 0.6], leftOut: 0, minOnsets: 4, minDistinctiveness: 0.5, ...over });
 
 describe('trailing stretches', () => {
   it('hold the points of the last L beats, newest included, and skip a length that adds none', () => {
@@ -119,6 +119,43 @@ describe('the rule: which stretch warns', () => {
     const common = (s: StretchMatch) => (asked.push(s.beats), 0.25);
     expect(hotStretch(stretches, rule(), common)).toBeNull();
     expect(asked).toEqual([4]);
+  });
+
+  describe('notes left out', () => {
+    const own = pts(...Array.from({ length: 24 }, (_, i): [number, number] => [i / 2, 40 + ((i * 7) % 11)]));
+    /** The whole tune from beat 12, up a fourth, as `change` leaves it; the 7.5-beat stretch holds the quote and none of the performer's own notes. */
+    const played = (change: (p: Point) => Point | null): StretchMatch[] => {
+      const quote = shift(tune, 12, 5).map(change).filter((p): p is Point => p !== null);
+      return stretchMatches(window([...own, ...quote]), [quoteCandidate], exact, [7.5]);
+    };
+    /** The tune's note on its fourth beat, as quoted. */
+    const fourthBeat = toGrains(12 + 3);
+
+    it('a quote with one of its 13 notes dropped warns below its threshold: under a tenth left out, nothing wrong played', () => {
+      const stretches = played((p) => (p.at === fourthBeat ? null : p));
+      expect(stretches[0]).toMatchObject({ notes: 12, score: 12 / 13, match: { matched: 12, excerptNotes: 13 } });
+      expect(leavesOut(stretches[0], 0.1)).toBe(true);
+      expect(hotStretch(stretches, rule({ lengths: [7.5], thresholds: [1], leftOut: 0.1 }), distinct)?.stretch.beats).toBe(7.5);
+      expect(hotStretch(stretches, rule({ lengths: [7.5], thresholds: [1], leftOut: 0 }), distinct)).toBeNull();
+    });
+
+    it('the share is strict: 1 of 13 is not under 1/13', () => {
+      const stretches = played((p) => (p.at === fourthBeat ? null : p));
+      expect(hotStretch(stretches, rule({ lengths: [7.5], thresholds: [1], leftOut: 1 / 13 }), distinct)).toBeNull();
+      expect(leavesOut({ notes: 9, match: { piece: 0, pieceStart: 0, transposition: 0, matched: 9, excerptNotes: 10, score: 0.9 } }, 0.1)).toBe(false);
+      expect(leavesOut({ notes: 10, match: { piece: 0, pieceStart: 0, transposition: 0, matched: 10, excerptNotes: 11, score: 10 / 11 } }, 0.1)).toBe(true);
+    });
+
+    it('a quote with one note played a semitone off scores the same, and does not warn: it holds a note the corpus passage lacks', () => {
+      const stretches = played((p) => (p.at === fourthBeat ? { ...p, pitch: p.pitch - 1 } : p));
+      expect(stretches[0]).toMatchObject({ notes: 13, score: 12 / 13, match: { matched: 12, excerptNotes: 13 } });
+      expect(leavesOut(stretches[0], 0.5)).toBe(false);
+      expect(hotStretch(stretches, rule({ lengths: [7.5], thresholds: [1], leftOut: 0.5 }), distinct)).toBeNull();
+    });
+
+    it('no match leaves nothing out', () => {
+      expect(leavesOut({ notes: 4, match: null }, 0.5)).toBe(false);
+    });
   });
 
   it('when none warns, the stretch shown is the one nearest its threshold', () => {

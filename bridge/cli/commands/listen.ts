@@ -92,6 +92,7 @@ export function registerListen(cli: Command): void {
     .option('--min-distinctiveness <d>', 'matches less distinctive than this (0–1) never warn (overrides the preset)')
     .option('--early-beats <beats,...>', 'lengths of the recent stretches that may warn on their own, as in 3,4,6; "" = the whole window only (overrides the preset)')
     .option('--early-threshold <score,...>', 'score a recent stretch must reach: one number, one per length, or "auto" from the baseline corpus build --baseline stores (overrides the preset)')
+    .option('--early-left-out <share>', 'a recent stretch every note of which matches warns below its threshold too when it leaves out under this share (0–1) of the corpus passage\'s notes; 0 = never (overrides the preset)')
     .option('--early-min-onsets <n>', 'fewest different moments the notes of a recent stretch must start at for it to warn; a chord counts once (overrides the preset)')
     .option('--early-min-distinctiveness <d>', 'recent stretches less distinctive than this (0–1) never warn (overrides the preset)')
     .option('--warn', 'raise warnings (overrides the preset)')
@@ -112,7 +113,7 @@ export function registerListen(cli: Command): void {
         input: o.input, window: o.window, bpm: o.bpm, threshold: o.threshold, minNotes: o.minNotes,
         consecutive: o.consecutive, hysteresis: o.hysteresis, grid: o.grid, warn: o.warn, meter: o.meter,
         tolerance: o.tolerance, tempoFree: o.tempoFree, minDistinctiveness: o.minDistinctiveness,
-        earlyBeats: o.earlyBeats, earlyThreshold: o.earlyThreshold, earlyMinOnsets: o.earlyMinOnsets, earlyMinDistinctiveness: o.earlyMinDistinctiveness,
+        earlyBeats: o.earlyBeats, earlyThreshold: o.earlyThreshold, earlyLeftOut: o.earlyLeftOut, earlyMinOnsets: o.earlyMinOnsets, earlyMinDistinctiveness: o.earlyMinDistinctiveness,
       });
       const preset = resolveThreshold(chosen, o.corpus);
       if (preset.earlyUncalibrated?.length) {

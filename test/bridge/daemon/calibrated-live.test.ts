@@ -61,7 +61,7 @@ describe('the live scorer with a tolerance', () => {
   });
 
   test('its warm-up leaves nothing behind, run to the end or stopped early: a warmed scorer answers every note as a fresh one does', () => {
-    const options = { windowBeats: 8, grid: 12, tolerance: 0.1, early: { lengths: [3, 4, 6], thresholds: [1, 0.95, 0.9], minOnsets: 6, minDistinctiveness: 0.5 } };
+    const options = { windowBeats: 8, grid: 12, tolerance: 0.1, early: { lengths: [3, 4, 6], thresholds: [1, 0.95, 0.9], leftOut: 0.1, minOnsets: 6, minDistinctiveness: 0.5 } };
     const run = (scorer: ReturnType<typeof liveScorer>) => take.map((n, i) => { scorer.add({ ...n, seq: i + 1 }); return scorer.evaluate(); });
     const fresh = run(liveScorer(corpus, options));
     expect(fresh.some((v) => v.stretch !== null)).toBe(true);

@@ -50,6 +50,7 @@ describe('a bad preset', () => {
     [{ grid: 7 }, /field "grid": got 7; allowed: a note value such as "1\/16", "1\/16T" or "1\/32", or a whole number of divisions per beat that divides 3840/],
     [{ grid: '1/12' }, /field "grid": got "1\/12"; allowed: a note value/],
     [{ meter: '3/5' }, /field "meter": got "3\/5"; allowed: a time signature such as "4\/4"/],
+    [{ earlyLeftOut: 1 }, /field "earlyLeftOut": got 1; allowed: a share from 0 up to, not including, 1: of a corpus passage's notes/],
     [{ bpm: undefined }, /field "bpm": got nothing; allowed: a tempo from 1 to 999/],
     [{ thresold: 0.5 }, /field "thresold": no such field; the fields are name, description, input, window, bpm, threshold/],
   ])('%j is refused, naming the field and the allowed values', (fields, message) => {
@@ -83,6 +84,8 @@ describe('flags override preset values', () => {
     expect(() => withOverrides(jam, { threshold: '2' })).toThrow('--threshold 2: allowed: a number from 0 to 1');
     expect(() => withOverrides(jam, { consecutive: 'three' })).toThrow('--consecutive three: allowed: a whole number from 1 to 100');
     expect(() => withOverrides(jam, { input: 'usb' })).toThrow('--input usb: allowed: one of "midi", "osc", "both"');
+    expect(withOverrides(jam, { earlyLeftOut: '0' }).earlyLeftOut).toBe(0);
+    expect(() => withOverrides(jam, { earlyLeftOut: 'a tenth' })).toThrow('--early-left-out a tenth: allowed: a share from 0 up to, not including, 1');
   });
 
   it('--grid takes a note value as a sequencer writes it (1/16 = 4 a beat, 1/16T = 6), or a number; --meter a time signature', () => {
@@ -96,11 +99,12 @@ describe('flags override preset values', () => {
   });
 
   it('as a user runs it: the hello the overlay gets carries the overridden values', async () => {
-    const d = await spawnDaemon(['--corpus', writeCorpus().dir, '--preset', 'livecode', '--window', '4', '--threshold', '0.9', '--no-warn']);
+    const d = await spawnDaemon(['--corpus', writeCorpus().dir, '--preset', 'livecode', '--window', '4', '--threshold', '0.9', '--early-left-out', '0.05', '--no-warn']);
     try {
       const events = await listen(d.http);
       const hello = (await events.next((e) => e.type === 'hello')) as HelloEvent;
       expect(hello.preset).toMatchObject({ name: 'livecode', window: 4, threshold: 0.9, warn: false, minNotes: loadPreset('livecode').minNotes });
+      expect(hello.preset.early).toMatchObject({ lengths: loadPreset('livecode').earlyBeats, leftOut: 0.05 });
       expect(d.stdout()).toMatch(/preset: livecode — .*\(window 4 beats, threshold 0\.9, .*no warnings\)/);
       events.close();
     } finally {
