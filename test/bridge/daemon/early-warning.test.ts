@@ -8,17 +8,17 @@
  * out: warned within 4 beats by a stretch below its threshold that holds
  * nothing the piece lacks, and later with `--early-left-out 0`. Melodies are
  * invented (test/helpers/daemon.ts); OSC messages are encoded by the `osc`
- * package (OSC 1.0).
+ * package (OSC 1.0, test/helpers/proc.ts `noteBytes`).
  */
 import { createSocket } from 'node:dgram';
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import osc from 'osc';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Note } from '../../../core/note.js';
 import type { ScoreEvent, WarningEvent } from '../../../contract/events.js';
 import { SessionLog } from '../../../bridge/formats/session-log.js';
 import { midiBytes } from '../../../bridge/formats/midi-write.js';
+import { noteBytes } from '../../helpers/proc.js';
 import { type SpawnedDaemon, type TestCorpus, listen, melody, passage, spawnDaemon, tempDir, writeCorpus } from '../../helpers/daemon.js';
 
 /** Plays `notes` over OSC one at a time, each after its score event; resolves with the warnings raised. */
@@ -26,8 +26,7 @@ async function play(d: SpawnedDaemon, notes: readonly Note[]): Promise<WarningEv
   const events = await listen(d.http);
   const socket = createSocket('udp4');
   for (const [i, n] of notes.entries()) {
-    const bytes = osc.writePacket({ address: '/ew/note', args: [{ type: 'i', value: n.pitch }, { type: 'i', value: n.velocity }, { type: 'f', value: n.duration }, { type: 'f', value: n.onset }] }, { metadata: true });
-    socket.send(bytes, d.osc, '127.0.0.1');
+    socket.send(noteBytes(n.pitch, n.duration, n.onset), d.osc, '127.0.0.1');
     // One note at a time, each scored on its own: the warning's note is then the note it was raised at.
     await events.next<ScoreEvent>((e) => e.type === 'score' && e.seq === i + 1);
   }
