@@ -6,14 +6,23 @@
  * the live benchmark times the daemon. What the daemon adds is its latency
  * minus this.
  *
+ * With `{ through: 'worker' }` the packet also makes the daemon's two hops
+ * to its scoring thread and back: the child's main thread posts each packet
+ * to a worker thread, which posts it straight back, and only then is the
+ * frame sent. That is the floor of the daemon's own shape (input and
+ * sockets on the main thread, scoring on a worker) with no scoring in it.
+ *
  * @example
  *   const floor = await echoFloor({ samples: 300, frameBytes: 4000 });
  *   floor   // → { p50Ms: 0.11, p99Ms: 0.4, maxMs: 2.9 }
+ *   await echoFloor({ samples: 2000, frameBytes: 4000, through: 'worker' })
+ *   // → { p50Ms: 0.25, p99Ms: 2.6, maxMs: 7.8 }
  */
 import { fork } from 'node:child_process';
 import { createSocket } from 'node:dgram';
 import { fileURLToPath } from 'node:url';
 import { performance } from 'node:perf_hooks';
+import { Worker, isMainThread, parentPort } from 'node:worker_threads';
 import { WebSocket, WebSocketServer } from 'ws';
 import { percentile } from '../../core/stats.js';
 import { idleCollector } from '../../bridge/daemon/idle-collect.js';
@@ -24,21 +33,29 @@ export interface Floor {
   maxMs: number;
 }
 
+/** What the trip goes through between packet and frame: nothing, or a worker thread and back. */
+export type Through = 'nothing' | 'worker';
+
 /** The echoing side: a UDP socket and a WebSocket server on 127.0.0.1, a frame of `frameBytes` per packet. */
-function serve(frameBytes: number): void {
+function serve(frameBytes: number, through: Through): void {
   const wss = new WebSocketServer({ port: 0, host: '127.0.0.1' });
   const udp = createSocket('udp4');
-  udp.on('message', (m) => {
-    const frame = JSON.stringify({ type: 'score', seq: m.length, pad: 'x'.repeat(Math.max(0, frameBytes - 40)) });
+  const answer = (seq: number): void => {
+    const frame = JSON.stringify({ type: 'score', seq, pad: 'x'.repeat(Math.max(0, frameBytes - 40)) });
     for (const c of wss.clients) c.send(frame);
-  });
+  };
+  if (through === 'worker') {
+    const worker = new Worker(fileURLToPath(import.meta.url));
+    worker.on('message', (m: { seq: number }) => answer(m.seq));
+    udp.on('message', (m) => worker.postMessage({ seq: m.length }));
+  } else udp.on('message', (m) => answer(m.length));
   wss.on('listening', () =>
     udp.bind(0, '127.0.0.1', () => process.send!({ ws: (wss.address() as { port: number }).port, udp: udp.address().port })),
   );
 }
 
-export async function echoFloor(options: { samples: number; frameBytes: number; packet?: Buffer }): Promise<Floor> {
-  const child = fork(fileURLToPath(import.meta.url), ['serve', String(options.frameBytes)]);
+export async function echoFloor(options: { samples: number; frameBytes: number; packet?: Buffer; through?: Through }): Promise<Floor> {
+  const child = fork(fileURLToPath(import.meta.url), ['serve', String(options.frameBytes), options.through ?? 'nothing']);
   try {
     const ports = await new Promise<{ ws: number; udp: number }>((resolve) => child.once('message', resolve as (m: unknown) => void));
     const ws = new WebSocket(`ws://127.0.0.1:${ports.ws}`);
@@ -64,4 +81,6 @@ export async function echoFloor(options: { samples: number; frameBytes: number; 
   }
 }
 
-if (process.argv[2] === 'serve') serve(Number(process.argv[3]));
+// The worker of `through: 'worker'` hands every message straight back.
+if (!isMainThread) parentPort!.on('message', (m) => parentPort!.postMessage(m));
+else if (process.argv[2] === 'serve') serve(Number(process.argv[3]), process.argv[4] as Through);

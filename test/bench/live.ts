@@ -10,8 +10,9 @@
  *   node dist/test/bench/live.js [--notes 1000000] [--samples 100] [--window 16] [-- LISTEN FLAGS…]
  *
  * Flags after `--` go to `earwitness listen` as they are (`-- --tolerance 0`
- * measures the exact matcher alone). It also times this machine's floor,
- * the same trip with no scoring (test/bench/echo-floor.ts), and adds its
+ * measures the exact matcher alone). It also times this machine's floors,
+ * the same trip with no scoring, straight and through a worker thread and
+ * back as the daemon's notes go (test/bench/echo-floor.ts), and adds its
  * figures to test/bench/RESULTS.md.
  *
  * @example
@@ -33,6 +34,9 @@ import { idleCollector } from '../../bridge/daemon/idle-collect.js';
 import { echoFloor } from './echo-floor.js';
 import { recordResults } from './results.js';
 import { CLI, health, listen, spawnDaemon, tempDir, warmedUp } from '../helpers/daemon.js';
+
+/** Trips each floor is timed over, at least. */
+const FLOOR_TRIPS = 2000;
 
 /** The benchmark's own flags: those before a `--`. */
 const own = process.argv.includes('--') ? process.argv.slice(0, process.argv.indexOf('--')) : process.argv;
@@ -102,8 +106,10 @@ async function main(): Promise<void> {
   latencies.sort((a, b) => a - b);
   workerMs.sort((a, b) => a - b);
   frameBytes.sort((a, b) => a - b);
-  // The same trip with nothing in it: UDP in, a frame of the median score event's size out.
-  const floor = await echoFloor({ samples, frameBytes: percentile(frameBytes, 50) });
+  // The same trip with nothing in it: UDP in, a frame of the median score event's size out; then with the hops to a worker thread and back as well. Over at least 2,000 trips each: they are quick, and a p99 of a few hundred swings.
+  const floorSetup = { samples: Math.max(samples, FLOOR_TRIPS), frameBytes: percentile(frameBytes, 50) };
+  const floor = await echoFloor(floorSetup);
+  const workerFloor = await echoFloor({ ...floorSetup, through: 'worker' });
   const ms = (x: number) => `${x.toFixed(2)} ms`;
   process.stdout.write(
     [
@@ -111,6 +117,7 @@ async function main(): Promise<void> {
       `note-in → score-out: p50 ${ms(percentile(latencies, 50))}, p99 ${ms(percentile(latencies, 99))}, max ${ms(latencies[latencies.length - 1])}`,
       `of which scoring in the worker: p50 ${ms(percentile(workerMs, 50))}, p99 ${ms(percentile(workerMs, 99))}`,
       `floor on this machine (loopback UDP → WebSocket echo, no scoring, ${Math.round(percentile(frameBytes, 50))}-byte frames): p50 ${ms(floor.p50Ms)}, p99 ${ms(floor.p99Ms)}, max ${ms(floor.maxMs)}`,
+      `the same through a worker thread and back, as the daemon's notes go (no scoring): p50 ${ms(workerFloor.p50Ms)}, p99 ${ms(workerFloor.p99Ms)}, max ${ms(workerFloor.maxMs)}`,
       `target p99 ≤ 10 ms (Wessel & Wright 2002): ${percentile(latencies, 99) <= 10 ? 'met' : 'not met'}`,
     ].join('\n') + '\n',
   );
@@ -126,7 +133,8 @@ async function main(): Promise<void> {
         coalesced: h.coalesced,
         noteInScoreOut: { p50Ms: r(percentile(latencies, 50)), p99Ms: r(percentile(latencies, 99)), maxMs: r(latencies[latencies.length - 1]) },
         worker: { p50Ms: r(percentile(workerMs, 50)), p99Ms: r(percentile(workerMs, 99)) },
-        floor: { frameBytes: Math.round(percentile(frameBytes, 50)), p50Ms: r(floor.p50Ms), p99Ms: r(floor.p99Ms), maxMs: r(floor.maxMs) },
+        floor: { frameBytes: Math.round(percentile(frameBytes, 50)), trips: floorSetup.samples, p50Ms: r(floor.p50Ms), p99Ms: r(floor.p99Ms), maxMs: r(floor.maxMs) },
+        floorThroughWorker: { p50Ms: r(workerFloor.p50Ms), p99Ms: r(workerFloor.p99Ms), maxMs: r(workerFloor.maxMs) },
       },
     ],
   };
