@@ -11,18 +11,23 @@
  * to a worker thread, which posts it straight back, and only then is the
  * frame sent. That is the floor of the daemon's own shape (input and
  * sockets on the main thread, scoring on a worker) with no scoring in it.
+ * With `busyMs` as well, the worker keeps its CPU busy that long before it
+ * answers, as scoring would: the daemon's shape with a scorer of a fixed
+ * cost and nothing else.
  *
  * @example
  *   const floor = await echoFloor({ samples: 300, frameBytes: 4000 });
  *   floor   // → { p50Ms: 0.11, p99Ms: 0.4, maxMs: 2.9 }
  *   await echoFloor({ samples: 2000, frameBytes: 4000, through: 'worker' })
  *   // → { p50Ms: 0.25, p99Ms: 2.6, maxMs: 7.8 }
+ *   await echoFloor({ samples: 2000, frameBytes: 4000, through: 'worker', busyMs: 0.9 })
+ *   // → { p50Ms: 1.2, p99Ms: 3.4, maxMs: 8.1 }
  */
 import { fork } from 'node:child_process';
 import { createSocket } from 'node:dgram';
 import { fileURLToPath } from 'node:url';
 import { performance } from 'node:perf_hooks';
-import { Worker, isMainThread, parentPort } from 'node:worker_threads';
+import { Worker, isMainThread, parentPort, workerData } from 'node:worker_threads';
 import { WebSocket, WebSocketServer } from 'ws';
 import { percentile } from '../../core/stats.js';
 import { idleCollector } from '../../bridge/daemon/idle-collect.js';
@@ -37,7 +42,7 @@ export interface Floor {
 export type Through = 'nothing' | 'worker';
 
 /** The echoing side: a UDP socket and a WebSocket server on 127.0.0.1, a frame of `frameBytes` per packet. */
-function serve(frameBytes: number, through: Through): void {
+function serve(frameBytes: number, through: Through, busyMs: number): void {
   const wss = new WebSocketServer({ port: 0, host: '127.0.0.1' });
   const udp = createSocket('udp4');
   const answer = (seq: number): void => {
@@ -45,7 +50,7 @@ function serve(frameBytes: number, through: Through): void {
     for (const c of wss.clients) c.send(frame);
   };
   if (through === 'worker') {
-    const worker = new Worker(fileURLToPath(import.meta.url));
+    const worker = new Worker(fileURLToPath(import.meta.url), { workerData: { busyMs } });
     worker.on('message', (m: { seq: number }) => answer(m.seq));
     udp.on('message', (m) => worker.postMessage({ seq: m.length }));
   } else udp.on('message', (m) => answer(m.length));
@@ -54,8 +59,8 @@ function serve(frameBytes: number, through: Through): void {
   );
 }
 
-export async function echoFloor(options: { samples: number; frameBytes: number; packet?: Buffer; through?: Through }): Promise<Floor> {
-  const child = fork(fileURLToPath(import.meta.url), ['serve', String(options.frameBytes), options.through ?? 'nothing']);
+export async function echoFloor(options: { samples: number; frameBytes: number; packet?: Buffer; through?: Through; busyMs?: number }): Promise<Floor> {
+  const child = fork(fileURLToPath(import.meta.url), ['serve', String(options.frameBytes), options.through ?? 'nothing', String(options.busyMs ?? 0)]);
   try {
     const ports = await new Promise<{ ws: number; udp: number }>((resolve) => child.once('message', resolve as (m: unknown) => void));
     const ws = new WebSocket(`ws://127.0.0.1:${ports.ws}`);
@@ -81,6 +86,12 @@ export async function echoFloor(options: { samples: number; frameBytes: number; 
   }
 }
 
-// The worker of `through: 'worker'` hands every message straight back.
-if (!isMainThread) parentPort!.on('message', (m) => parentPort!.postMessage(m));
-else if (process.argv[2] === 'serve') serve(Number(process.argv[3]), process.argv[4] as Through);
+// The worker of `through: 'worker'` hands every message back, after `busyMs` of work.
+if (!isMainThread) {
+  const { busyMs } = workerData as { busyMs: number };
+  parentPort!.on('message', (m) => {
+    const until = performance.now() + busyMs;
+    while (performance.now() < until);
+    parentPort!.postMessage(m);
+  });
+} else if (process.argv[2] === 'serve') serve(Number(process.argv[3]), process.argv[4] as Through, Number(process.argv[5]));

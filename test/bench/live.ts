@@ -12,8 +12,9 @@
  * Flags after `--` go to `earwitness listen` as they are (`-- --tolerance 0`
  * measures the exact matcher alone). It also times this machine's floors,
  * the same trip with no scoring, straight and through a worker thread and
- * back as the daemon's notes go (test/bench/echo-floor.ts), and adds its
- * figures to test/bench/RESULTS.md.
+ * back as the daemon's notes go, and that worker busy for the median
+ * scoring time (test/bench/echo-floor.ts), and adds its figures to
+ * test/bench/RESULTS.md.
  *
  * @example
  *   node dist/test/bench/live.js --notes 10000
@@ -110,6 +111,8 @@ async function main(): Promise<void> {
   const floorSetup = { samples: Math.max(samples, FLOOR_TRIPS), frameBytes: percentile(frameBytes, 50) };
   const floor = await echoFloor(floorSetup);
   const workerFloor = await echoFloor({ ...floorSetup, through: 'worker' });
+  // And with the worker busy for the daemon's median scoring time: what a daemon doing nothing but scoring would take here.
+  const busyFloor = await echoFloor({ ...floorSetup, through: 'worker', busyMs: percentile(workerMs, 50) });
   const ms = (x: number) => `${x.toFixed(2)} ms`;
   process.stdout.write(
     [
@@ -118,6 +121,7 @@ async function main(): Promise<void> {
       `of which scoring in the worker: p50 ${ms(percentile(workerMs, 50))}, p99 ${ms(percentile(workerMs, 99))}`,
       `floor on this machine (loopback UDP → WebSocket echo, no scoring, ${Math.round(percentile(frameBytes, 50))}-byte frames): p50 ${ms(floor.p50Ms)}, p99 ${ms(floor.p99Ms)}, max ${ms(floor.maxMs)}`,
       `the same through a worker thread and back, as the daemon's notes go (no scoring): p50 ${ms(workerFloor.p50Ms)}, p99 ${ms(workerFloor.p99Ms)}, max ${ms(workerFloor.maxMs)}`,
+      `the same with the worker busy ${ms(percentile(workerMs, 50))} a note, the median scoring time: p50 ${ms(busyFloor.p50Ms)}, p99 ${ms(busyFloor.p99Ms)}, max ${ms(busyFloor.maxMs)}`,
       `target p99 ≤ 10 ms (Wessel & Wright 2002): ${percentile(latencies, 99) <= 10 ? 'met' : 'not met'}`,
     ].join('\n') + '\n',
   );
@@ -135,6 +139,7 @@ async function main(): Promise<void> {
         worker: { p50Ms: r(percentile(workerMs, 50)), p99Ms: r(percentile(workerMs, 99)) },
         floor: { frameBytes: Math.round(percentile(frameBytes, 50)), trips: floorSetup.samples, p50Ms: r(floor.p50Ms), p99Ms: r(floor.p99Ms), maxMs: r(floor.maxMs) },
         floorThroughWorker: { p50Ms: r(workerFloor.p50Ms), p99Ms: r(workerFloor.p99Ms), maxMs: r(workerFloor.maxMs) },
+        floorWorkerBusy: { busyMs: r(percentile(workerMs, 50)), p50Ms: r(busyFloor.p50Ms), p99Ms: r(busyFloor.p99Ms), maxMs: r(busyFloor.maxMs) },
       },
     ],
   };
