@@ -63,6 +63,8 @@ export interface ScoreEvent {
   distinctiveness?: number | null;
   /** The recent stretch judged (core/stretch.ts), when the preset warns early and one matched; `hot` when it warns on its own. */
   stretch?: ScoreStretch | null;
+  /** What this scoring pass cost the scorer, ms: its own time, not the note's trip to it and back. Absent from older daemons. */
+  scoringMs?: number;
 }
 
 /** How early a preset warns: the recent stretch lengths (beats) judged on their own, each length's threshold, the share of its corpus passage a stretch may leave out below that threshold (core/stretch.ts `leavesOut`), and the stretch's fewest onsets (a chord counts once) and least distinctiveness. */

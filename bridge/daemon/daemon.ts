@@ -31,7 +31,7 @@ import { type MidiStatus, openMidi } from './midi-input.js';
 import { type OscInput, openOscInput } from './osc-input.js';
 import { type OscOutput, type OscTarget, openOscOutput } from './osc-output.js';
 import { packageRoot, packageVersion } from '../formats/package-root.js';
-import { type CorpusSummary, type Scorer, startScorer } from './scorer.js';
+import { type CorpusSummary, type Scorer, type VerdictPass, startScorer } from './scorer.js';
 import { startCheckpoints } from './log-checkpoints.js';
 import { watchIndexFile } from './index-watch.js';
 import { reportService } from './reports.js';
@@ -202,14 +202,14 @@ export async function startDaemon(options: DaemonOptions): Promise<Daemon> {
     for (const e of step.effects) carryOut(e);
   };
 
-  const onVerdict = (v: LiveVerdict, current: boolean): void => {
+  const onVerdict = (v: LiveVerdict, { current, scoringMs }: VerdictPass): void => {
     const time = Date.now();
     const m = v.match;
     push({
       type: 'score', seq: v.seq, time, score: v.score,
       piece: m?.piece ?? null, title: m?.title ?? null, pieceStart: m?.pieceStart ?? null, pieceBar: m?.pieceBar ?? null, pieceBeatInBar: m?.pieceBeatInBar ?? null, transposition: m?.transposition ?? null,
       timeShift: v.timeShift, timeScale: m?.timeScale ?? null, matched: m?.matched ?? 0, windowNotes: v.windowNotes, windowStart: v.windowStart, windowEnd: v.windowEnd, excerpt: v.excerpt, distinctiveness: m?.distinctiveness ?? null,
-      stretch: stretchOf(v),
+      stretch: stretchOf(v), scoringMs,
     });
     logged(() => log.addScore(session, { seq: v.seq, time, score: v.score, windowStart: v.windowStart, windowNotes: v.windowNotes, piece: m?.piece ?? null, transposition: m?.transposition ?? null, pieceStart: m?.pieceStart ?? null, matched: m?.matched ?? 0 }));
     oscOut?.score(v.score);

@@ -7,7 +7,7 @@
  * falls behind by more than one batch, however fast notes come.
  *
  * @example
- *   const { scorer, corpus } = await startScorer({ corpus: 'presets/demo/corpus', windowBeats: 16, grid: 12 }, (v) => show(v));
+ *   const { scorer, corpus } = await startScorer({ corpus: 'presets/demo/corpus', windowBeats: 16, grid: 12 }, (v, pass) => show(v, pass.scoringMs));
  *   scorer.submit({ seq: 1, onset: 0, duration: 1, pitch: 60, velocity: 90, channel: 1 });
  *   scorer.counters   // → { evaluations: 1, coalesced: 0, ... }
  */
@@ -88,10 +88,15 @@ export interface Scorer {
 /** Where the worker's code is: beside this module once built (dist/bridge/daemon/). */
 export const WORKER_URL = new URL('./scoring-worker.js', import.meta.url);
 
+/** How a verdict came: `current` is false for one on notes from before the latest reset; `scoringMs` is the worker's time for it. */
+export interface VerdictPass {
+  current: boolean;
+  scoringMs: number;
+}
+
 export async function startScorer(
   setup: WorkerSetup,
-  /** `current` is false for a verdict on notes from before the latest reset. */
-  onVerdict: (v: LiveVerdict, current: boolean) => void,
+  onVerdict: (v: LiveVerdict, pass: VerdictPass) => void,
   options: { workerUrl?: URL; onCrash?: (message: string) => void; onNotice?: (line: string) => void } = {},
 ): Promise<{ scorer: Scorer; corpus: CorpusSummary }> {
   const counters: ScorerCounters = { evaluations: 0, coalesced: 0, dropped: 0, restarts: 0, lastEvaluationMs: null, warmUp: null, readAhead: null, busy: false };
@@ -141,7 +146,7 @@ export async function startScorer(
           counters.dropped = m.verdict.dropped;
           counters.restarts = m.verdict.restarts;
           counters.lastEvaluationMs = m.elapsedMs;
-          onVerdict(m.verdict, sentAt === resets);
+          onVerdict(m.verdict, { current: sentAt === resets, scoringMs: m.elapsedMs });
           send();
         }
       });

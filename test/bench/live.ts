@@ -107,7 +107,7 @@ async function main(): Promise<void> {
     if (k >= untimed) {
       latencies.push(performance.now() - sent);
       frameBytes.push(Buffer.byteLength(JSON.stringify(score)));
-      workerMs.push((await health(d.http)).lastEvaluationMs as number);
+      workerMs.push(score.scoringMs as number);
     }
     collect();
   }
