@@ -43,6 +43,9 @@ describe.skipIf(!oscsend.path)(`live OSC from ${oscsend.label}`, () => {
     expect(last.piece).toBe('brinewater.mid');
     expect(last.timeShift).toBeCloseTo(92, 6);
     expect(last.excerpt!.filter((n) => n.matched).length).toBe(last.matched);
+    // What the pass cost the scorer: the figure /health gives for the latest one.
+    expect(last.scoringMs).toBeGreaterThan(0);
+    expect((await health(d.http)).lastEvaluationMs).toBe(last.scoringMs);
     expect(events.events.filter((e) => e.type === 'note').map((e) => e.seq)).toEqual(played.map((_, i) => i + 1));
     events.close();
   });
