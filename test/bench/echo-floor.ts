@@ -18,10 +18,8 @@
  * @example
  *   const floor = await echoFloor({ samples: 300, frameBytes: 4000 });
  *   floor   // → { p50Ms: 0.11, p99Ms: 0.4, maxMs: 2.9 }
- *   await echoFloor({ samples: 2000, frameBytes: 4000, through: 'worker' })
- *   // → { p50Ms: 0.25, p99Ms: 2.6, maxMs: 7.8 }
- *   await echoFloor({ samples: 2000, frameBytes: 4000, through: 'worker', busyMs: 0.9 })
- *   // → { p50Ms: 1.2, p99Ms: 3.4, maxMs: 8.1 }
+ *   await echoFloor({ samples: 2000, frameBytes: 4000, through: 'worker' })              // → a Floor, as above
+ *   await echoFloor({ samples: 2000, frameBytes: 4000, through: 'worker', busyMs: 0.9 })  // → a Floor
  */
 import { fork } from 'node:child_process';
 import { createSocket } from 'node:dgram';

@@ -48,17 +48,17 @@ const FLOOR_TRIPS = 2000;
 /** The benchmark's own flags: those before a `--`. */
 const own = process.argv.includes('--') ? process.argv.slice(0, process.argv.indexOf('--')) : process.argv;
 
-function flag(name: string, fallback: number): number {
+function flag(name: string, fallback: number, options: { orZero?: boolean } = {}): number {
   const i = own.indexOf(`--${name}`);
   const v = i < 0 ? fallback : Number(own[i + 1]);
-  if (!(Number.isFinite(v) && v > 0)) throw new Error(`--${name} must be a positive number, got ${own[i + 1]}`);
+  if (!(Number.isFinite(v) && (v > 0 || (options.orZero && v === 0)))) throw new Error(`--${name} must be a positive number${options.orZero ? ' or 0' : ''}, got ${own[i + 1]}`);
   return v;
 }
 
 async function main(): Promise<void> {
   const notes = flag('notes', 1_000_000);
   const samples = flag('samples', 100);
-  const untimed = flag('untimed', 20);
+  const untimed = flag('untimed', 20, { orZero: true });
   const window = flag('window', 16);
   const t0 = performance.now();
   let pieces = synthCorpus({ notes, seed: 1 });
