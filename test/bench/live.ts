@@ -28,7 +28,7 @@
  */
 import { spawnSync } from 'node:child_process';
 import { createSocket } from 'node:dgram';
-import { writeFileSync } from 'node:fs';
+import { mkdirSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { performance } from 'node:perf_hooks';
 import osc from 'osc';
@@ -55,14 +55,25 @@ function flag(name: string, fallback: number, options: { orZero?: boolean } = {}
   return v;
 }
 
+/** The corpus and the session log go in a folder of their own, removed at the end: at 10M notes the corpus is 2 GB. */
 async function main(): Promise<void> {
+  const root = tempDir('bench-live');
+  try {
+    await run(root);
+  } finally {
+    rmSync(root, { recursive: true, force: true });
+  }
+}
+
+async function run(root: string): Promise<void> {
   const notes = flag('notes', 1_000_000);
   const samples = flag('samples', 100);
   const untimed = flag('untimed', 20, { orZero: true });
   const window = flag('window', 16);
   const t0 = performance.now();
   let pieces = synthCorpus({ notes, seed: 1 });
-  const dir = tempDir('bench-corpus');
+  const dir = join(root, 'corpus');
+  mkdirSync(dir);
   pieces.forEach((points, i) => {
     const track = points.map((p) => ({ onset: p.at / GRAINS_PER_BEAT, duration: 0.5, pitch: p.pitch, velocity: 80 }));
     writeFileSync(join(dir, `piece-${String(i).padStart(5, '0')}.mid`), midiBytes([{ name: 'voices', channel: 1, notes: track }], { title: `piece ${i}` }));
@@ -77,7 +88,7 @@ async function main(): Promise<void> {
   process.stdout.write(`corpus build ${((performance.now() - tb) / 1000).toFixed(1)} s\n`);
   const t1 = performance.now();
   const extra = process.argv.includes('--') ? process.argv.slice(process.argv.indexOf('--') + 1) : [];
-  const d = await spawnDaemon(['--corpus', dir, '--preset', 'jam', '--input', 'osc', '--window', String(window), ...extra], { startMs: 30 * 60_000 });
+  const d = await spawnDaemon(['--corpus', dir, '--preset', 'jam', '--input', 'osc', '--window', String(window), ...extra], { startMs: 30 * 60_000, log: join(root, 'sessions.db') });
   process.stdout.write(`daemon up in ${((performance.now() - t1) / 1000).toFixed(1)} s (the index loaded in the worker)\n`);
   // As a performer would find it a few seconds later: the worker has warmed up while nothing was played.
   const warm = await warmedUp(d.http);
