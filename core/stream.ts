@@ -59,6 +59,14 @@ export class StreamingMatch {
   private readonly lookups = new TripleLookups();
   private readonly votes: VoteTable;
   private start = 0;
+  /**
+   * The most-voted translations, most first, as last ranked, or null once a
+   * vote has changed: one scoring pass asks for them several times (each
+   * stage, each stretch), and each ranking reads the whole vote table.
+   * Ranked `depth` deep, the most any call has asked for.
+   */
+  private ranked: Readonly<VotedTranslation>[] | null = null;
+  private depth = 0;
 
   /** `tableBits`: the vote table's starting size, 2^bits slots (core/votes.ts); it grows as it must. */
   constructor(private readonly index: CorpusIndex, options: { windowBeats: number; settings?: StreamSettings; tableBits?: number }) {
@@ -88,6 +96,7 @@ export class StreamingMatch {
     this.points.splice(j, 0, { at: point.at, pitch: point.pitch });
     this.voted.splice(j, 0, []);
     this.at.splice(j, 0, point.at);
+    this.ranked = null;
     this.lookups.clear();
     this.lookups.collect(this.index, this.points, this.at, 0, j, this.settings.queryPartners, this.horizon);
     const found = this.lookups.sort();
@@ -109,6 +118,7 @@ export class StreamingMatch {
     this.at.length = 0;
     this.voted.length = 0;
     this.votes.clear();
+    this.ranked = null;
     this.start = 0;
   }
 
@@ -119,6 +129,7 @@ export class StreamingMatch {
       for (const k of this.voted[gone]) castVotes(this.index, this.votes, this.points[gone], k, -1);
       gone++;
     }
+    if (gone > 0) this.ranked = null;
     this.points.splice(0, gone);
     this.at.splice(0, gone);
     this.voted.splice(0, gone);
@@ -129,9 +140,21 @@ export class StreamingMatch {
    * The `n` most-voted translations so far with at least `atLeast` votes,
    * most first, for a caller that verifies them its own way (within a
    * tolerance, say): `shift` grains and `dp` steps from the corpus to the
-   * played points.
+   * played points. Until the votes change, every call answers from one
+   * ranking, and its objects are shared between calls.
    */
-  translations(n: number, atLeast = 1): VotedTranslation[] {
-    return topVoted(this.votes, n, atLeast);
+  translations(n: number, atLeast = 1): Readonly<VotedTranslation>[] {
+    if (n > this.depth) {
+      this.depth = n;
+      this.ranked = null;
+    }
+    this.ranked ??= topVoted(this.votes, this.depth);
+    // Most first, ties in the order first voted for: the `n` best of those with `atLeast` votes lead the ranking.
+    const out: Readonly<VotedTranslation>[] = [];
+    for (const t of this.ranked) {
+      if (out.length === n || t.votes < atLeast) break;
+      out.push(t);
+    }
+    return out;
   }
 }

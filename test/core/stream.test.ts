@@ -126,6 +126,45 @@ describe('streaming matches equal exact matches of the same window', () => {
     expect(silent.translations(16)).toEqual([]);
   });
 
+  it('ranks once per change of votes: asked deep first, then shallow, it answers as a stream asked only that', () => {
+    // One scoring pass asks for 32 candidates (the stretches) and for 16 with at least 2 votes (the window); the second answer comes from the first's ranking.
+    const played = session();
+    const often = new StreamingMatch(index, { windowBeats: W });
+    /** A stream fed the first `upTo` + 1 notes, its window then started `later` grains later, asked once. */
+    const fresh = (n: number, atLeast: number, upTo: number, later = 0): ReturnType<StreamingMatch['translations']> => {
+      const once = new StreamingMatch(index, { windowBeats: W });
+      for (const p of played.slice(0, upTo + 1)) {
+        once.add(p);
+        once.expire(p.at - toGrains(W) + 1);
+      }
+      once.expire(played[upTo].at - toGrains(W) + 1 + later);
+      return once.translations(n, atLeast);
+    };
+    let compared = 0;
+    for (const [n, p] of played.entries()) {
+      often.add(p);
+      often.expire(p.at - toGrains(W) + 1);
+      const deep = often.translations(32);
+      const shallow = often.translations(16, 2);
+      if (n % 25 !== 0) continue;
+      expect(deep).toEqual(fresh(32, 1, n));
+      expect(shallow).toEqual(fresh(16, 2, n));
+      expect(often.translations(16)).toEqual(deep.slice(0, 16));
+      const floored = often.translations(32, 2);
+      expect(floored).toEqual(fresh(32, 2, n));
+      expect(floored).toEqual(deep.filter((t) => t.votes >= 2));
+      if (floored.length > 0 && floored.length < deep.length) compared++;
+    }
+    // Windows where the vote floor left out some of the deep ranking: the filter was exercised, not only the cut.
+    expect(compared).toBeGreaterThan(3);
+    // Notes leaving with none coming (a rest) take their votes out of the ranking too.
+    const last = played.length - 1;
+    often.expire(played[last].at - toGrains(W) + 1 + toGrains(W / 2));
+    const after = often.translations(32);
+    expect(after).toEqual(fresh(32, 1, last, toGrains(W / 2)));
+    expect(after).not.toEqual(fresh(32, 1, last));
+  });
+
   it('says what is wrong with out-of-order or out-of-range input', () => {
     const stream = new StreamingMatch(index, { windowBeats: W });
     stream.add({ at: toGrains(4), pitch: 60 });
