@@ -55,7 +55,7 @@ function flag(name: string, fallback: number, options: { orZero?: boolean } = {}
   return v;
 }
 
-/** The corpus and the session log go in a folder of their own, removed at the end: at 10M notes the corpus is 2 GB. */
+/** The corpus and the session log go in a folder of their own, removed when the run ends, however it ends: a large corpus fills a disk in a few runs. */
 async function main(): Promise<void> {
   const root = tempDir('bench-live');
   try {
