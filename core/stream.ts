@@ -61,8 +61,9 @@ export class StreamingMatch {
   private start = 0;
   /**
    * The most-voted translations, most first, as last ranked, or null once a
-   * vote has changed: one scoring pass asks for them several times (each
-   * stage, each stretch), and each ranking reads the whole vote table.
+   * vote has changed: one scoring pass asks for them several times (the
+   * window's stages, then the stretches), and each ranking reads the whole
+   * vote table.
    * Ranked `depth` deep, the most any call has asked for.
    */
   private ranked: Readonly<VotedTranslation>[] | null = null;

@@ -127,7 +127,7 @@ describe('streaming matches equal exact matches of the same window', () => {
   });
 
   it('ranks once per change of votes: asked deep first, then shallow, it answers as a stream asked only that', () => {
-    // One scoring pass asks for 32 candidates (the stretches) and for 16 with at least 2 votes (the window); the second answer comes from the first's ranking.
+    // A scoring pass asks for 16 with at least 2 votes (the window) and for 32 (the stretches); once a stream has been asked 32 deep, every answer until the votes change comes from one ranking.
     const played = session();
     const often = new StreamingMatch(index, { windowBeats: W });
     /** A stream fed the first `upTo` + 1 notes, its window then started `later` grains later, asked once. */
