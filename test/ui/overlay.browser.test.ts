@@ -32,6 +32,8 @@ interface Tune {
 const tunes: Tune[] = JSON.parse(readFileSync(join(ROOT, 'presets', 'demo', 'tunes.json'), 'utf8')).tunes;
 const buoy = tunes.find((t) => t.title === 'The Ninth Buoy')!;
 const CORPUS = join(ROOT, 'presets', 'demo', 'corpus');
+/** The preset this suite runs: its whole-window threshold and its early stretches' thresholds. */
+const livecode: { threshold: number; earlyThreshold: number[] } = JSON.parse(readFileSync(join(ROOT, 'presets', 'livecode.json'), 'utf8'));
 
 const hello = (over: Partial<HelloEvent> = {}): HelloEvent => ({
   type: 'hello',
@@ -112,9 +114,15 @@ describe.skipIf(!hasChromium)(browserSuite('overlay in Chromium, served by the r
     await playOverOsc(daemon.osc, played);
     await expect.poll(() => page.getByRole('alert').textContent(), { timeout: 2000, intervals: [50] }).toContain('Close to: The Ninth Buoy');
     expect(Date.now() - sent).toBeLessThan(2000);
-    // The whole window is found from bar 3, beat 2.33 (see above). On a slow machine the first warning can instead come from an
-    // early stretch of the latest few notes, found wherever that figure occurs in the tune (seen in CI: bar 3, beat 1).
-    expect(await page.locator('#headline').innerText()).toMatch(/Close to:\s+The Ninth Buoy\s+warned at 100% · 5 semitones up · from bar \d+, beat \d(\.\d+)?\b/);
+    // Which rule warns first depends on which notes have arrived at each scoring pass. All at once (the daemon scores them
+    // together): the whole window, 100% from bar 3, beat 2.33 (see above). A few ms apart: an early stretch of the latest beats,
+    // 100% from bar 3, beat 1, where that figure also occurs in the tune. In between (seen in CI, and here with 1 ms between
+    // notes): a longer early stretch at its own lower threshold, 92% from bar 3, beat 1, with 71% "now".
+    // Whichever rule warned, its score clears the lowest threshold the preset warns at.
+    const headline = await page.locator('#headline').innerText();
+    const warned = /Close to:\s+The Ninth Buoy\s+warned at (\d+)% · 5 semitones up · from bar \d+, beat \d(\.\d+)?\b/.exec(headline);
+    expect(warned, headline).not.toBeNull();
+    expect(Number(warned![1])).toBeGreaterThanOrEqual(100 * Math.min(livecode.threshold, ...livecode.earlyThreshold));
     // Every excerpt note is matched: solid frames in the roll, none dashed.
     await expect.poll(() => countColour(page, 'roll', YELLOW)).toBeGreaterThan(100);
 
