@@ -12,6 +12,8 @@ import osc from 'osc';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import type { ExcerptNote, HelloEvent, NoteEvent, ScoreEvent, WarningEvent } from '../../contract/events.js';
+import { earlyRule } from '../../bridge/daemon/daemon.js';
+import { loadPreset, resolveThreshold } from '../../bridge/formats/presets.js';
 import { ROOT, type SpawnedDaemon, spawnDaemon } from '../helpers/daemon.js';
 import { browserSuite, hasChromium, launchChromium, watchPage } from '../helpers/browser.js';
 import { type FakeDaemon, fakeDaemon } from '../helpers/fake-daemon.js';
@@ -32,8 +34,8 @@ interface Tune {
 const tunes: Tune[] = JSON.parse(readFileSync(join(ROOT, 'presets', 'demo', 'tunes.json'), 'utf8')).tunes;
 const buoy = tunes.find((t) => t.title === 'The Ninth Buoy')!;
 const CORPUS = join(ROOT, 'presets', 'demo', 'corpus');
-/** The preset this suite runs: its whole-window threshold and its early stretches' thresholds. */
-const livecode: { threshold: number; earlyThreshold: number[] } = JSON.parse(readFileSync(join(ROOT, 'presets', 'livecode.json'), 'utf8'));
+/** The preset this suite runs, its thresholds as the daemon resolves them for this corpus. */
+const livecode = resolveThreshold(loadPreset('livecode'), CORPUS);
 
 const hello = (over: Partial<HelloEvent> = {}): HelloEvent => ({
   type: 'hello',
@@ -122,7 +124,7 @@ describe.skipIf(!hasChromium)(browserSuite('overlay in Chromium, served by the r
     const headline = await page.locator('#headline').innerText();
     const warned = /Close to:\s+The Ninth Buoy\s+warned at (\d+)% · 5 semitones up · from bar \d+, beat \d(\.\d+)?\b/.exec(headline);
     expect(warned, headline).not.toBeNull();
-    expect(Number(warned![1])).toBeGreaterThanOrEqual(100 * Math.min(livecode.threshold, ...livecode.earlyThreshold));
+    expect(Number(warned![1])).toBeGreaterThanOrEqual(100 * Math.min(livecode.threshold, ...(earlyRule(livecode)?.thresholds ?? [])));
     // Every excerpt note is matched: solid frames in the roll, none dashed.
     await expect.poll(() => countColour(page, 'roll', YELLOW)).toBeGreaterThan(100);
 
