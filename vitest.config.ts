@@ -8,5 +8,7 @@ export default defineConfig({
     hookTimeout: 60_000,
     // Daemon and browser tests start processes on free ports; two cores are enough for two at a time.
     maxWorkers: 2,
+    // One temporary folder for the run, removed at its end (test/helpers/temp-root.ts).
+    globalSetup: ['test/helpers/temp-root.ts'],
   },
 });
