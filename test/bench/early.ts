@@ -50,6 +50,7 @@ import { type Grid, decodeChorale } from '../helpers/jsb.js';
 import { pieceOf } from '../helpers/corpus.js';
 import { played } from '../helpers/material.js';
 import { ROOT, listen, spawnDaemon, tempDir, warmedUp } from '../helpers/daemon.js';
+import { tempRoot } from '../helpers/temp-root.js';
 import { synthCorpus, unrelated } from './synthetic.js';
 import { recordResults } from './results.js';
 
@@ -251,7 +252,11 @@ async function main(): Promise<void> {
 const toNotes = (points: readonly { at: number; pitch: number }[]): Note[] =>
   points.map((p) => ({ onset: p.at / GRAINS_PER_BEAT, duration: 0.5, pitch: p.pitch, morph: p.pitch, velocity: 80, channel: 1 }));
 
-main().catch((e: Error) => {
-  process.stderr.write(`early benchmark: ${e.stack ?? e.message}\n`);
-  process.exitCode = 1;
-});
+// The corpora and the daemons' logs go in a folder of their own, removed when the run ends.
+const temp = tempRoot('bench-early');
+main()
+  .catch((e: Error) => {
+    process.stderr.write(`early benchmark: ${e.stack ?? e.message}\n`);
+    process.exitCode = 1;
+  })
+  .finally(() => temp.remove());

@@ -30,7 +30,7 @@
  */
 import { spawnSync } from 'node:child_process';
 import { createSocket } from 'node:dgram';
-import { mkdirSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { performance } from 'node:perf_hooks';
 import osc from 'osc';
@@ -42,7 +42,8 @@ import { synthCorpus } from './synthetic.js';
 import { idleCollector } from '../../bridge/daemon/idle-collect.js';
 import { echoFloor } from './echo-floor.js';
 import { recordResults } from './results.js';
-import { CLI, health, listen, spawnDaemon, tempDir, warmedUp } from '../helpers/daemon.js';
+import { CLI, health, listen, spawnDaemon, warmedUp } from '../helpers/daemon.js';
+import { tempRoot } from '../helpers/temp-root.js';
 
 /** Trips each floor is timed over, at least. */
 const FLOOR_TRIPS = 2000;
@@ -75,13 +76,13 @@ function flag(name: string, fallback: number, options: { orZero?: boolean } = {}
   return v;
 }
 
-/** The corpus and the session log go in a folder of their own, removed when the run ends, however it ends: a large corpus fills a disk in a few runs. */
+/** The corpus, the session log and the daemon's own temporary files go in a folder of their own, removed when the run ends, however it ends: a large corpus fills a disk in a few runs. */
 async function main(): Promise<void> {
-  const root = tempDir('bench-live');
+  const temp = tempRoot('bench-live');
   try {
-    await run(root);
+    await run(temp.root);
   } finally {
-    rmSync(root, { recursive: true, force: true });
+    temp.remove();
   }
 }
 
