@@ -13,8 +13,7 @@
  *   await d.stop('SIGINT');
  */
 import { type ChildProcess, spawn } from 'node:child_process';
-import { mkdtempSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { WebSocket } from 'ws';
@@ -23,13 +22,14 @@ import { seededRandom } from '../../core/stats.js';
 import { midiBytes } from '../../bridge/formats/midi-write.js';
 import type { DaemonEvent } from '../../contract/events.js';
 import { packageRoot } from '../../bridge/formats/package-root.js';
+import { tempDir } from './temp-root.js';
 
 /** The repository, found the same way from the sources (vitest) and from dist/ (the benchmark). */
 export const ROOT = packageRoot();
 export const CLI = join(ROOT, 'dist', 'bridge', 'cli.js');
 export const WORKER_URL = pathToFileURL(join(ROOT, 'dist', 'bridge', 'daemon', 'scoring-worker.js'));
 
-export const tempDir = (label: string): string => mkdtempSync(join(tmpdir(), `earwitness-${label}-`));
+export { tempDir };
 
 /** A melody of `beats` beats on an eighth-note grid, one note at a time, from a seed: no two seeds alike. */
 export function melody(seed: number, beats = 32): Note[] {

@@ -13,9 +13,12 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 
+/** A new folder in the temporary folder, its name starting `earwitness-LABEL-`. */
+export const tempDir = (label: string): string => mkdtempSync(join(tmpdir(), `earwitness-${label}-`));
+
 export function tempRoot(label: string): { root: string; remove: () => void } {
   const before = process.env.TMPDIR;
-  const root = mkdtempSync(join(tmpdir(), `earwitness-${label}-`));
+  const root = tempDir(label);
   process.env.TMPDIR = root;
   return {
     root,
